@@ -1,0 +1,9 @@
+// Umbrella header for library users: includes every public module header.
+//
+// credence trains dense classifiers on tabular data with stochastic-gradient MCMC
+// samplers or their optimizer limits, and scores how well their probabilities are
+// calibrated. Each module header below opens with its own contract.
+#pragma once
+
+#include "credence/status.h"
+#include "credence/version.h"

@@ -1,0 +1,31 @@
+// How a command plugs into the `credence` executable.
+//
+// Each src/cli/cmd_<name>.cc defines add_<name>_command(), which adds a CLI11
+// subcommand, binds its options to a settings struct it owns, and records the
+// function to run once parsing succeeded. main.cc runs the one that was chosen.
+#pragma once
+
+#include <CLI/CLI.hpp>
+#include <functional>
+#include <vector>
+
+#include "credence/status.h"
+
+namespace credence::cli {
+
+/// Options every command shares.
+struct GlobalOptions {
+  bool quiet = false;               // warnings and errors only, no progress
+  std::string log_level = "info";   // trace, debug, info, warn, error, off
+};
+
+struct Command {
+  CLI::App* app = nullptr;          // the subcommand, owned by the parent App
+  std::function<Status()> run;      // called after a successful parse
+};
+
+using CommandList = std::vector<Command>;
+
+void add_schema_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+
+}  // namespace credence::cli
