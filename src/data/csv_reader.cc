@@ -1,0 +1,218 @@
+// CSV tokenizer: one pass over an in-memory buffer, memchr scans, no allocation per field.
+#include "data/csv_reader.h"
+
+#include <algorithm>
+#include <charconv>
+#include <cmath>
+#include <cstring>
+#include <fmt/format.h>
+
+namespace credence::data {
+
+namespace {
+
+constexpr std::string_view kByteOrderMark = "\xEF\xBB\xBF";
+
+std::int64_t count_newlines(std::string_view text) {
+  return static_cast<std::int64_t>(std::count(text.begin(), text.end(), '\n'));
+}
+
+}  // namespace
+
+CsvScanner::CsvScanner(std::string_view bytes, char delimiter, std::string source)
+    : bytes_(bytes), delimiter_(delimiter), source_(std::move(source)) {
+  if (bytes_.starts_with(kByteOrderMark)) pos_ = kByteOrderMark.size();
+}
+
+Status CsvScanner::next(CsvRecord& record, bool& got) {
+  record.fields.clear();
+  record.quoted.clear();
+  const char* data = bytes_.data();
+  const std::size_t n = bytes_.size();
+
+  // Blank lines separate nothing in a table; skip them but keep counting lines.
+  while (pos_ < n) {
+    if (data[pos_] == '\n') {
+      ++pos_;
+      ++line_;
+    } else if (data[pos_] == '\r' && pos_ + 1 < n && data[pos_ + 1] == '\n') {
+      pos_ += 2;
+      ++line_;
+    } else {
+      break;
+    }
+  }
+  got = pos_ < n;
+  if (!got) return Status::ok_status();
+  record.line = line_;
+
+  while (true) {
+    const std::size_t field_index = record.fields.size();
+    if (data[pos_] == '"') {
+      CREDENCE_RETURN_IF_ERROR(read_quoted(record, field_index));
+    } else {
+      // Unquoted: up to the delimiter or the line end, whichever comes first.
+      const std::size_t start = pos_;
+      std::size_t p = pos_;
+      const char delimiter = delimiter_;
+      while (p < n && data[p] != delimiter && data[p] != '\n') ++p;
+      pos_ = p;
+      std::size_t stop = p;
+      if ((p == n || data[p] == '\n') && stop > start && data[stop - 1] == '\r') --stop;  // CRLF
+      record.fields.emplace_back(data + start, stop - start);
+      record.quoted.push_back(0);
+    }
+    // pos_ is now at a delimiter, a line end (after any CR) or the end of the data.
+    if (pos_ >= n) return Status::ok_status();
+    if (data[pos_] == delimiter_) {
+      ++pos_;
+      if (pos_ >= n) {  // a delimiter right at the end of the data: one more empty field
+        record.fields.emplace_back();
+        record.quoted.push_back(0);
+        return Status::ok_status();
+      }
+      continue;
+    }
+    if (data[pos_] == '\r') ++pos_;
+    if (pos_ >= n) return Status::ok_status();
+    if (data[pos_] == '\n') {
+      ++pos_;
+      ++line_;
+      return Status::ok_status();
+    }
+    return Status::internal("CSV scanner lost its place at byte " + std::to_string(pos_));
+  }
+}
+
+Status CsvScanner::read_quoted(CsvRecord& record, std::size_t field_index) {
+  const char* data = bytes_.data();
+  const std::size_t n = bytes_.size();
+  const std::int64_t open_line = line_;
+  std::size_t start = pos_ + 1;
+  bool has_doubled = false;
+  std::size_t scan = start;
+  std::size_t close = 0;
+  while (true) {
+    const char* quote = static_cast<const char*>(std::memchr(data + scan, '"', n - scan));
+    if (quote == nullptr) {
+      return Status::invalid_input(fmt::format(
+          "{}:{}:{}: the quoted field that opens here is never closed; close it with a quote "
+          "(a quote inside a quoted field is written twice: \"\")",
+          source_, open_line, field_index + 1));
+    }
+    const std::size_t q = static_cast<std::size_t>(quote - data);
+    if (q + 1 < n && data[q + 1] == '"') {  // a doubled quote stands for one quote
+      has_doubled = true;
+      scan = q + 2;
+      continue;
+    }
+    close = q;
+    break;
+  }
+  std::string_view inside(data + start, close - start);
+  line_ += count_newlines(inside);
+  pos_ = close + 1;
+  if (pos_ < n && data[pos_] != delimiter_ && data[pos_] != '\n' &&
+      !(data[pos_] == '\r' && (pos_ + 1 == n || data[pos_ + 1] == '\n'))) {
+    return Status::invalid_input(fmt::format(
+        "{}:{}:{}: text follows the closing quote of a quoted field; quote the whole field and "
+        "write any quote inside it twice (\"\")",
+        source_, line_, field_index + 1));
+  }
+  if (has_doubled) {
+    if (unescaped_.size() <= field_index) unescaped_.resize(field_index + 1);
+    std::string& out = unescaped_[field_index];
+    out.clear();
+    for (std::size_t i = 0; i < inside.size(); ++i) {
+      out.push_back(inside[i]);
+      if (inside[i] == '"') ++i;  // skip the second quote of a pair
+    }
+    record.fields.emplace_back(out);
+  } else {
+    record.fields.push_back(inside);
+  }
+  record.quoted.push_back(1);
+  return Status::ok_status();
+}
+
+namespace {
+
+// Clinger's fast path ("How to read floating point numbers accurately", PLDI 1990): when the
+// decimal significand fits in 53 bits and |exponent| <= 22, both it and the power of ten are
+// exact doubles, so one IEEE multiply or divide gives the correctly rounded value. Returns
+// false when the text is not of that simple form; the caller then uses std::from_chars.
+bool parse_simple_decimal(const char* p, const char* end, double& value) {
+  static constexpr double kPowers[] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
+                                       1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+                                       1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+  bool negative = false;
+  if (p != end && *p == '-') {
+    negative = true;
+    ++p;
+  }
+  std::uint64_t mantissa = 0;
+  int digits = 0;
+  int exponent = 0;
+  bool any = false;
+  for (; p != end && *p >= '0' && *p <= '9'; ++p) {
+    any = true;
+    if (mantissa == 0 && *p == '0') continue;  // leading zeros carry no precision
+    mantissa = mantissa * 10 + static_cast<std::uint64_t>(*p - '0');
+    ++digits;
+  }
+  if (p != end && *p == '.') {
+    for (++p; p != end && *p >= '0' && *p <= '9'; ++p) {
+      any = true;
+      --exponent;
+      if (mantissa == 0 && *p == '0') continue;
+      mantissa = mantissa * 10 + static_cast<std::uint64_t>(*p - '0');
+      ++digits;
+    }
+  }
+  if (!any || digits > 15) return false;
+  if (p != end) {
+    if (*p != 'e' && *p != 'E') return false;
+    ++p;
+    bool exp_negative = false;
+    if (p != end && (*p == '-' || *p == '+')) exp_negative = *p++ == '-';
+    if (p == end) return false;
+    int e = 0;
+    for (; p != end && *p >= '0' && *p <= '9'; ++p) {
+      if (e > 1000) return false;
+      e = e * 10 + (*p - '0');
+    }
+    if (p != end) return false;
+    exponent += exp_negative ? -e : e;
+  }
+  if (exponent < -22 || exponent > 22) return false;
+  double v = static_cast<double>(mantissa);  // exact: mantissa < 10^15 < 2^53
+  v = exponent < 0 ? v / kPowers[-exponent] : v * kPowers[exponent];
+  value = negative ? -v : v;
+  return true;
+}
+
+}  // namespace
+
+bool parse_number(std::string_view text, double& value) {
+  if (text.empty()) return false;
+  const char* first = text.data();
+  const char* last = text.data() + text.size();
+  if (*first == '+') ++first;  // from_chars takes '-' but not '+'
+  if (first == last) return false;
+  // from_chars would accept "inf" and "nan"; a table cell like that is not a measurement.
+  const char* lead = *first == '-' ? first + 1 : first;
+  if (lead == last || !((*lead >= '0' && *lead <= '9') || *lead == '.')) return false;
+  if (parse_simple_decimal(first, last, value)) return true;
+  auto [end, error] = std::from_chars(first, last, value, std::chars_format::general);
+  return error == std::errc() && end == last && std::isfinite(value);
+}
+
+std::string_view trim_blanks(std::string_view text) {
+  std::size_t begin = 0;
+  std::size_t end = text.size();
+  while (begin < end && (text[begin] == ' ' || text[begin] == '\t')) ++begin;
+  while (end > begin && (text[end - 1] == ' ' || text[end - 1] == '\t')) --end;
+  return text.substr(begin, end - begin);
+}
+
+}  // namespace credence::data

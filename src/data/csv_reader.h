@@ -1,0 +1,52 @@
+// CsvScanner: splits CSV bytes into records of fields (RFC 4180), tracking line numbers.
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "credence/status.h"
+
+namespace credence::data {
+
+/// One record: views of its fields and the physical line where it starts.
+/// The views stay valid until the next call to CsvScanner::next.
+struct CsvRecord {
+  std::vector<std::string_view> fields;
+  std::vector<std::uint8_t> quoted;  // 1 where the field was written in quotes
+  std::int64_t line = 0;             // 1-based physical line of the record's first byte
+};
+
+/// Walks a buffer record by record. Blank lines are skipped (but counted); a UTF-8
+/// byte-order mark at the very start is skipped; a record ends at LF or CRLF outside
+/// quotes. Quoted fields may hold delimiters, doubled quotes and line breaks.
+/// The buffer must outlive the scanner.
+class CsvScanner {
+ public:
+  CsvScanner(std::string_view bytes, char delimiter, std::string source);
+
+  /// Reads the next record into `record`. Sets `got` false at the end of the data.
+  /// Returns kInvalidInput (with file:line:column) for an unterminated quote or
+  /// text after a closing quote.
+  Status next(CsvRecord& record, bool& got);
+
+ private:
+  Status read_quoted(CsvRecord& record, std::size_t field_index);
+
+  std::string_view bytes_;
+  char delimiter_;
+  std::string source_;
+  std::size_t pos_ = 0;
+  std::int64_t line_ = 1;
+  std::vector<std::string> unescaped_;  // per field slot: text of a field with doubled quotes
+};
+
+/// Parses a finite decimal number (optional sign, digits, point, exponent) that fills
+/// the whole of `text`, without locale or allocation. Returns false otherwise.
+bool parse_number(std::string_view text, double& value);
+
+/// `text` without leading and trailing spaces and tabs.
+std::string_view trim_blanks(std::string_view text);
+
+}  // namespace credence::data

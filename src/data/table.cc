@@ -1,0 +1,275 @@
+// read_table: CSV bytes -> columns of numbers or interned text, with header checks.
+#include <algorithm>
+#include <array>
+#include <cerrno>
+#include <cmath>
+#include <cstring>
+#include <cstdio>
+#include <fmt/format.h>
+#include <limits>
+#include <memory>
+#include <numeric>
+#include <string>
+#include <unordered_map>
+
+#include "credence/data.h"
+#include "data/csv_reader.h"
+
+namespace credence {
+
+int Table::find_column(std::string_view name) const {
+  for (std::size_t j = 0; j < columns.size(); ++j) {
+    if (columns[j].name == name) return static_cast<int>(j);
+  }
+  return -1;
+}
+
+std::string Table::cell_location(std::int64_t row, int column) const {
+  assert(row >= 0 && row < rows());
+  assert(column >= 0 && static_cast<std::size_t>(column) < columns.size());
+  return fmt::format("{}:{}:{}", source, row_lines[static_cast<std::size_t>(row)], column + 1);
+}
+
+std::string Table::column_list() const {
+  std::string out;
+  for (const TableColumn& column : columns) {
+    if (!out.empty()) out += ", ";
+    out += "'" + column.name + "'";
+  }
+  return out;
+}
+
+namespace {
+
+using data::CsvRecord;
+using data::CsvScanner;
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+struct TransparentHash {
+  using is_transparent = void;
+  std::size_t operator()(std::string_view text) const { return std::hash<std::string_view>{}(text); }
+};
+using LevelIndex = std::unordered_map<std::string, std::int32_t, TransparentHash, std::equal_to<>>;
+
+// Missing-value tokens, checked with a length filter first since most cells are not missing.
+class NaMatcher {
+ public:
+  explicit NaMatcher(const std::vector<std::string>& tokens) : tokens_(tokens) {
+    for (const std::string& token : tokens_) {
+      max_length_ = std::max(max_length_, token.size());
+      if (!token.empty()) first_chars_[static_cast<unsigned char>(token[0])] = true;
+    }
+  }
+  bool matches(std::string_view cell) const {
+    // Most cells are numbers longer than any token, or start with a digit no token has.
+    if (cell.size() > max_length_) return false;
+    if (!cell.empty() && !first_chars_[static_cast<unsigned char>(cell[0])]) return false;
+    for (const std::string& token : tokens_) {
+      if (cell == token) return true;
+    }
+    return false;
+  }
+
+ private:
+  const std::vector<std::string>& tokens_;
+  std::size_t max_length_ = 0;
+  std::array<bool, 256> first_chars_{};
+};
+
+std::string_view cell_text(const CsvRecord& record, std::size_t j) {
+  return record.quoted[j] ? record.fields[j] : data::trim_blanks(record.fields[j]);
+}
+
+Status check_header(const CsvRecord& header, const std::string& source, Table& table) {
+  bool all_numbers = true;
+  double ignored = 0.0;
+  std::unordered_map<std::string_view, std::size_t> seen;
+  for (std::size_t j = 0; j < header.fields.size(); ++j) {
+    std::string_view name = cell_text(header, j);
+    if (name.empty()) {
+      return Status::invalid_input(fmt::format(
+          "{}:{}:{}: column {} has no name in the header row; every column needs a name "
+          "(the --target, --drop and --categorical options refer to columns by name)",
+          source, header.line, j + 1, j + 1));
+    }
+    if (auto [it, inserted] = seen.emplace(name, j); !inserted) {
+      return Status::invalid_input(fmt::format(
+          "{}:{}:{}: column name '{}' appears twice in the header (columns {} and {}); give "
+          "each column its own name",
+          source, header.line, j + 1, name, it->second + 1, j + 1));
+    }
+    all_numbers = all_numbers && data::parse_number(name, ignored);
+    table.columns.emplace_back().name = std::string(name);
+  }
+  if (all_numbers) {
+    return Status::invalid_input(fmt::format(
+        "{}:{}: the first line holds only numbers, so it looks like data rather than a header; "
+        "add a header row naming the columns",
+        source, header.line));
+  }
+  return Status::ok_status();
+}
+
+Status ragged_row(const std::string& source, const CsvRecord& record, std::int64_t row,
+                  std::size_t expected) {
+  const std::size_t got = record.fields.size();
+  return Status::invalid_input(fmt::format(
+      "{}:{}:{}: row {} has {} field{} but the header has {}; {}", source, record.line,
+      std::min(got, expected) + 1, row + 1, got, got == 1 ? "" : "s", expected,
+      got > expected ? "quote any field that contains the delimiter, or remove the extra field"
+                     : "add the missing field (leave it empty if the value is unknown)"));
+}
+
+// Second pass: the text of every cell of the text columns, interned as sorted levels.
+Status intern_text_columns(std::string_view bytes, const std::string& source,
+                           const ReadOptions& options, Table& table) {
+  std::vector<std::size_t> text_columns;
+  for (std::size_t j = 0; j < table.columns.size(); ++j) {
+    if (table.columns[j].is_text) text_columns.push_back(j);
+  }
+  if (text_columns.empty()) return Status::ok_status();
+  const std::size_t n = static_cast<std::size_t>(table.rows());
+  NaMatcher na(options.na_tokens);
+  std::vector<LevelIndex> indices(table.columns.size());
+  for (std::size_t j : text_columns) table.columns[j].codes.assign(n, -1);
+
+  CsvScanner scanner(bytes, options.delimiter, source);
+  CsvRecord record;
+  bool got = false;
+  CREDENCE_RETURN_IF_ERROR(scanner.next(record, got));  // the header
+  for (std::size_t row = 0; row < n; ++row) {
+    CREDENCE_RETURN_IF_ERROR(scanner.next(record, got));
+    if (!got) return Status::internal("CSV second pass ended early");
+    for (std::size_t j : text_columns) {
+      std::string_view cell = cell_text(record, j);
+      if (na.matches(cell)) continue;
+      TableColumn& column = table.columns[j];
+      LevelIndex& index = indices[j];
+      auto it = index.find(cell);
+      if (it == index.end()) {
+        it = index.emplace(std::string(cell), static_cast<std::int32_t>(column.levels.size())).first;
+        column.levels.emplace_back(cell);
+      }
+      column.codes[row] = it->second;
+    }
+  }
+  // Sort levels bytewise so that codes do not depend on the order rows appear in.
+  for (std::size_t j : text_columns) {
+    TableColumn& column = table.columns[j];
+    std::vector<std::int32_t> order(column.levels.size());
+    std::iota(order.begin(), order.end(), 0);
+    std::sort(order.begin(), order.end(),
+              [&](std::int32_t a, std::int32_t b) { return column.levels[a] < column.levels[b]; });
+    std::vector<std::int32_t> new_code(order.size());
+    std::vector<std::string> sorted(order.size());
+    for (std::size_t k = 0; k < order.size(); ++k) {
+      new_code[static_cast<std::size_t>(order[k])] = static_cast<std::int32_t>(k);
+      sorted[k] = std::move(column.levels[static_cast<std::size_t>(order[k])]);
+    }
+    column.levels = std::move(sorted);
+    column.level_counts.assign(column.levels.size(), 0);
+    for (std::int32_t& code : column.codes) {
+      if (code < 0) continue;
+      code = new_code[static_cast<std::size_t>(code)];
+      ++column.level_counts[static_cast<std::size_t>(code)];
+    }
+  }
+  return Status::ok_status();
+}
+
+}  // namespace
+
+Result<Table> parse_table(std::string_view bytes, const std::string& source,
+                          const ReadOptions& options) {
+  Table table;
+  table.source = source;
+  CsvScanner scanner(bytes, options.delimiter, source);
+  CsvRecord record;
+  bool got = false;
+  CREDENCE_RETURN_IF_ERROR(scanner.next(record, got));
+  if (!got) {
+    return Status::invalid_input(fmt::format(
+        "{}: the file is empty; credence needs a header row naming the columns, then one row "
+        "per case",
+        source));
+  }
+  CREDENCE_RETURN_IF_ERROR(check_header(record, source, table));
+  const std::size_t width = table.columns.size();
+
+  std::vector<std::uint8_t> forced_text(width, 0);
+  for (const std::string& name : options.text_columns) {
+    if (int j = table.find_column(name); j >= 0) forced_text[static_cast<std::size_t>(j)] = 1;
+  }
+
+  // First pass: numbers, missing cells and the first non-number of every column.
+  NaMatcher na(options.na_tokens);
+  std::int64_t row = 0;
+  while (true) {
+    CREDENCE_RETURN_IF_ERROR(scanner.next(record, got));
+    if (!got) break;
+    if (record.fields.size() != width) return ragged_row(source, record, row, width);
+    table.row_lines.push_back(record.line);
+    for (std::size_t j = 0; j < width; ++j) {
+      TableColumn& column = table.columns[j];
+      std::string_view cell = cell_text(record, j);
+      double value = kNaN;
+      if (na.matches(cell)) {
+        if (column.missing++ == 0) column.first_missing_row = row;
+      } else if (data::parse_number(cell, value)) {
+        ++column.numeric_cells;
+      } else if (column.first_text_row < 0) {
+        column.first_text_row = row;
+        column.first_text = std::string(cell);
+        value = kNaN;
+      }
+      if (!forced_text[j] && column.first_text_row < 0) column.numbers.push_back(value);
+    }
+    ++row;
+  }
+  if (row == 0) {
+    return Status::invalid_input(fmt::format(
+        "{}: the file has a header row but no data rows; add one row per case", source));
+  }
+  for (std::size_t j = 0; j < width; ++j) {
+    TableColumn& column = table.columns[j];
+    column.is_text = forced_text[j] || column.first_text_row >= 0;
+    if (column.is_text) {
+      column.numbers.clear();
+      column.numbers.shrink_to_fit();
+    }
+  }
+  CREDENCE_RETURN_IF_ERROR(intern_text_columns(bytes, source, options, table));
+  return table;
+}
+
+Result<Table> read_table(const std::string& path, const ReadOptions& options) {
+  // Read the file in one go: the scanner then runs over one contiguous buffer.
+  std::unique_ptr<std::FILE, int (*)(std::FILE*)> file(std::fopen(path.c_str(), "rb"), &std::fclose);
+  if (!file) {
+    const int error = errno;
+    if (error == ENOENT) {
+      return Status::invalid_input(fmt::format("{}: no such file; check the path", path));
+    }
+    return Status::io_error(fmt::format("{}: cannot open the file for reading: {}", path,
+                                        std::strerror(error)));
+  }
+  std::string bytes;
+  if (std::fseek(file.get(), 0, SEEK_END) == 0) {
+    const long size = std::ftell(file.get());
+    std::fseek(file.get(), 0, SEEK_SET);
+    if (size > 0) {  // one read into a buffer of the file's size
+      bytes.resize(static_cast<std::size_t>(size));
+      bytes.resize(std::fread(bytes.data(), 1, bytes.size(), file.get()));
+    }
+  }
+  char buffer[1 << 16];  // pipes and files that grew: read whatever remains
+  std::size_t got = 0;
+  while ((got = std::fread(buffer, 1, sizeof buffer, file.get())) > 0) bytes.append(buffer, got);
+  if (std::ferror(file.get())) {
+    return Status::io_error(fmt::format("{}: reading the file failed", path));
+  }
+  return parse_table(bytes, path, options);
+}
+
+}  // namespace credence
