@@ -1,0 +1,177 @@
+// Samplers and optimizers over a flat parameter vector, and the chain driver.
+//
+// A Sampler is one method's settings, state and step (STYLE.md rule 11): step()
+// asks the PotentialFn for U and its gradient (samplers_potential.h holds that
+// contract, with a complete example), updates theta and its own state, and checks
+// for divergence. run_chains() runs C independent chains in parallel with OpenMP,
+// one thread per chain and single-threaded inside it, with burn-in, thinning,
+// the step-size schedule, hooks, a stop flag and per-chain outcomes. A Sampler is
+// used from one thread at a time; run_chains() may be called from any thread.
+//
+//   SamplerSettings settings;                    // sgld, lr 1e-2 on the mean loss
+//   ChainSettings chains;                        // 4 chains, 1000 burn-in, ...
+//   ChainHooks hooks;
+//   hooks.on_sample = [&](const KeptSample& s) { store(s.chain, s.step, s.theta); };
+//   Result<RunOutcome> run = run_chains(settings, chains, factory, init, hooks);
+#pragma once
+
+#include <atomic>
+#include <cstdint>
+#include <functional>
+#include <map>
+#include <memory>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "credence/samplers_potential.h"
+#include "credence/samplers_settings.h"
+#include "credence/status.h"
+
+namespace credence {
+
+/// A sampler's whole state as plain named arrays (momentum, moments, step count,
+/// adapted step size and masses, RNG words), so a checkpoint can store it in any
+/// format and resume bit for bit.
+struct SamplerState {
+  std::map<std::string, std::vector<float>> floats;
+  std::map<std::string, std::vector<double>> doubles;
+  std::map<std::string, std::vector<std::uint64_t>> words;
+};
+
+/// Where a step sits in its chain; run_chains() fills it from the schedule.
+struct StepContext {
+  std::int64_t step = 0;   // t = 0, 1, 2, ... within the chain
+  double step_size = 0.0;  // this step's eps / eta / a (U units), from the schedule
+  bool explore = false;    // run the T = 0 limit this step (cyclical exploration)
+  bool burn_in = false;    // adaptation (dual averaging, masses, psgld's G) allowed
+};
+
+/// What one step reports for traces.
+struct StepReport {
+  double potential = 0.0;             // U~ at theta before the step (U for hmc/rhmc)
+  std::optional<double> accuracy;     // minibatch accuracy, if the potential gave it
+  double step_size = 0.0;             // the step actually used (after jitter/adaptation)
+  std::optional<double> speed_ratio;  // relativistic methods: mean |v_i| / c_i
+  std::optional<double> acceptance;   // hmc, rhmc: Metropolis acceptance probability
+  std::int64_t clipped = 0;           // coordinates whose noise correction was clipped
+};
+
+/// One method's settings + state + step.
+class Sampler {
+ public:
+  /// Builds the sampler for P parameters, its state sized now so step() never
+  /// allocates. `rows` is N (converts learning rates); `seed` seeds its Rng.
+  /// Fails with kInvalidInput on bad settings (validate()).
+  static Result<std::unique_ptr<Sampler>> create(const SamplerSettings& settings,
+                                                 std::int64_t parameters, std::int64_t rows,
+                                                 std::uint64_t seed);
+  virtual ~Sampler() = default;
+
+  /// One step: evaluate the potential at theta, check it, update theta and state.
+  /// Returns kDiverged (theta untouched) when U or the gradient is not finite,
+  /// or an error from the potential. theta: (P).
+  virtual Status step(ThetaRef theta, PotentialFn& potential, const StepContext& context,
+                      StepReport& report) = 0;
+
+  /// The full state, and back. restore_state fails with kCorrupt when an array is
+  /// missing or has the wrong size.
+  virtual SamplerState save_state() const = 0;
+  virtual Status restore_state(const SamplerState& state) = 0;
+
+  /// The step size in U units this sampler was built with (before the schedule).
+  virtual double base_step_size() const = 0;
+};
+
+/// Layout of one run of chains.
+struct ChainSettings {
+  int chains = 4;               // C. Default 4 (METHODS.md 1: C >= 4 for R-hat).
+  std::int64_t burn_in = 1000;  // steps before the first kept sample. Default 1000.
+  std::int64_t thin = 10;       // keep every thin-th step after burn-in. Default 10.
+  std::int64_t samples = 100;   // kept samples per chain S. Default 100.
+  std::uint64_t seed = 0;       // run seed; chain c uses mix_seed(seed, c).
+  int threads = 0;              // OpenMP threads; 0 = OpenMP's default.
+  /// A chain diverges when U~ exceeds this (or is not finite). Default 1e30.
+  double max_potential = 1e30;
+  /// Call on_trace every this many steps (1 = every step). Default 1.
+  std::int64_t trace_every = 1;
+};
+
+/// A kept sample, valid only during the hook call.
+struct KeptSample {
+  int chain = 0;
+  std::int64_t step = 0;   // 0-based step after which theta was taken
+  std::int64_t index = 0;  // 0-based kept-sample number within the chain
+  ConstThetaRef theta;     // (P)
+};
+
+/// One trace row.
+struct TraceRow {
+  int chain = 0;
+  std::int64_t step = 0;
+  StepReport report;
+};
+
+/// Hooks at fixed points of each chain. run_chains() serialises them with one
+/// mutex: no two hook calls overlap, but they may come from different threads,
+/// in an order that interleaves chains. A hook may set the stop flag.
+struct ChainHooks {
+  std::function<void(const KeptSample&)> on_sample;
+  std::function<void(const TraceRow&)> on_trace;
+};
+
+/// How a chain ended.
+enum class ChainEnd { kCompleted, kDiverged, kStopped, kFailed };
+
+/// A chain's position and state, enough to resume it bit for bit.
+struct ChainCheckpoint {
+  std::int64_t next_step = 0;  // the first step still to run
+  std::int64_t kept = 0;       // samples kept so far
+  Eigen::VectorXf theta;       // (P)
+  SamplerState sampler;
+};
+
+/// Per-chain result.
+struct ChainOutcome {
+  ChainEnd end = ChainEnd::kCompleted;
+  /// Ok when completed; else kDiverged, kInterrupted, or the failure the potential
+  /// or the sampler returned (its own code and message).
+  Status status;
+  std::int64_t step = 0;  // steps run (for kDiverged: the step that diverged)
+  std::string reason;     // empty when completed; otherwise what happened
+  std::int64_t kept = 0;
+  double mean_acceptance = 0.0;  // hmc, rhmc: mean after burn-in; else 0
+  ChainCheckpoint checkpoint;    // state after the last completed step
+};
+
+struct RunOutcome {
+  std::vector<ChainOutcome> chains;
+  /// Ok when every chain completed; otherwise the first non-completed chain's
+  /// status prefixed with "chain <c>: " (kDiverged with a hint to lower the step
+  /// size, kInterrupted, or a failure from the potential).
+  Status status;
+};
+
+/// Writes chain `chain`'s starting point into theta (P). Called once per fresh chain.
+using InitFn = std::function<Status(int chain, ThetaRef theta)>;
+
+/// Runs settings.chains chains of `parameters` coordinates. Each chain: its own
+/// PotentialFn (factory), Sampler seeded with mix_seed(seed, chain), theta from
+/// init (or from resume[chain] when resume is non-empty), then steps t =
+/// next_step .. burn_in + thin * samples - 1. After step t (0-based) the chain
+/// keeps theta when t >= burn_in and (t - burn_in + 1) is a multiple of thin.
+/// Divergence stops that chain only. `stop` (may be null) is checked before each
+/// step. Results depend on the seed only, not on the number of threads. With a
+/// cyclical schedule, steps of the exploration stage are never kept, so a chain may
+/// keep fewer than `samples` (ChainOutcome::kept says how many).
+/// Fails (without running) on invalid settings or a resume list of the wrong size.
+Result<RunOutcome> run_chains(const SamplerSettings& settings, const ChainSettings& chains,
+                              std::int64_t parameters, const PotentialFactory& factory,
+                              const InitFn& init, const ChainHooks& hooks,
+                              const std::atomic<bool>* stop = nullptr,
+                              const std::vector<ChainCheckpoint>& resume = {});
+
+/// "completed", "diverged", "stopped", "failed".
+std::string_view chain_end_name(ChainEnd end);
+
+}  // namespace credence

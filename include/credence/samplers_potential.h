@@ -1,0 +1,93 @@
+// The sampler-model contract: what a sampler needs from the model it samples.
+//
+// Samplers see one flat float vector theta (P coordinates) and a PotentialFn that
+// returns the potential U (METHODS.md section 1: negative log prior minus the
+// log-likelihood at full-data scale, so a minibatch term carries the factor N/b)
+// and its gradient. They know nothing of networks or data. Each chain gets its own
+// PotentialFn (run_chains asks a factory for one per chain), because minibatch
+// order and workspaces are per-chain state; a PotentialFn is called from one
+// thread at a time and need not be thread-safe.
+//
+// A complete tiny example, U(theta) = sum_i theta_i^2 / (2 s^2), a posterior
+// N(0, s^2 I) seen as "N = 1 data row":
+//
+//   class Quadratic : public credence::PotentialFn {
+//    public:
+//     explicit Quadratic(float s) : precision_(1.0f / (s * s)) {}
+//     std::int64_t rows() const override { return 1; }
+//     credence::Status minibatch(credence::ConstThetaRef theta, credence::ThetaRef grad,
+//                                credence::MinibatchValue& out) override {
+//       grad = precision_ * theta;                          // overwrite, never +=
+//       out.potential = 0.5 * precision_ * theta.squaredNorm();
+//       return credence::Status::ok_status();
+//     }
+//     credence::Status full(credence::ConstThetaRef theta, credence::ThetaRef grad,
+//                           double& potential) override {
+//       credence::MinibatchValue value;
+//       CREDENCE_RETURN_IF_ERROR(minibatch(theta, grad, value));
+//       potential = value.potential;
+//       return credence::Status::ok_status();
+//     }
+//    private:
+//     float precision_;
+//   };
+//
+//   auto factory = [](int /*chain*/) { return std::make_unique<Quadratic>(2.0f); };
+#pragma once
+
+#include <Eigen/Core>
+#include <cstdint>
+#include <functional>
+#include <memory>
+#include <optional>
+
+#include "credence/status.h"
+
+namespace credence {
+
+/// A writable view of a flat parameter-sized float vector. // (P)
+using ThetaRef = Eigen::Ref<Eigen::VectorXf>;
+/// A read-only view of a flat parameter-sized float vector. // (P)
+using ConstThetaRef = Eigen::Ref<const Eigen::VectorXf>;
+
+/// What a minibatch evaluation reports besides the gradient.
+struct MinibatchValue {
+  /// U~(theta): prior once plus (N/b) times the batch negative log-likelihood.
+  double potential = 0.0;
+  /// Fraction of the batch classified correctly, when the model knows it; traced only.
+  std::optional<double> accuracy;
+};
+
+/// The model side of every sampler. Implement rows() and minibatch(); full() is
+/// needed by hmc and rhmc only, gradient_noise_variance() by sghmc and rsghmc
+/// only when their gradient-noise correction is switched on.
+class PotentialFn {
+ public:
+  virtual ~PotentialFn() = default;
+
+  /// N, the number of data rows behind U (converts mean-loss learning rates).
+  /// REQUIRES: >= 1.
+  virtual std::int64_t rows() const = 0;
+
+  /// Draws the next minibatch, writes U~(theta) into `out` and its gradient into
+  /// `grad` (overwritten). Returns a failed Status for an error in the model
+  /// (the chain then stops with that status); non-finite values are not errors
+  /// here, the sampler checks them. Must not allocate if the chain is to stay
+  /// allocation-free.  theta: (P), grad: (P).
+  virtual Status minibatch(ConstThetaRef theta, ThetaRef grad, MinibatchValue& out) = 0;
+
+  /// Full-data U(theta) and its gradient (overwritten), for the exact samplers
+  /// hmc and rhmc. The default fails with kInvalidInput.  theta: (P), grad: (P).
+  virtual Status full(ConstThetaRef theta, ThetaRef grad, double& potential);
+
+  /// Per-coordinate variance of the last minibatch gradient, Vhat_i in gradient
+  /// units (METHODS.md section 4: N (N - b) / b * s_i^2), written into `vhat`.
+  /// Returns false when the model does not estimate it (the default).  vhat: (P).
+  virtual bool gradient_noise_variance(ThetaRef vhat);
+};
+
+/// Makes the PotentialFn of chain `chain` (0-based). Called once per chain, from the
+/// thread that runs it, possibly concurrently for different chains.
+using PotentialFactory = std::function<std::unique_ptr<PotentialFn>(int chain)>;
+
+}  // namespace credence

@@ -1,0 +1,240 @@
+// Sampler and optimizer settings: the method names, one plain struct per method,
+// the step-size schedule. Every step size is stored in U units (METHODS.md
+// section 0); a learning rate quoted on the mean loss is converted when a chain
+// starts, with N = PotentialFn::rows().
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "credence/status.h"
+
+namespace credence {
+
+/// The update rules. Samplers and their zero-temperature optimizer limits share
+/// one implementation: sgd is sgld at T = 0, momentum is sghmc at T = 0, rsgd is
+/// rsghmc at T = 0 (METHODS.md section 7).
+enum class Method {
+  kSgld,      // SGLD, ICML 2011
+  kPsgld,     // preconditioned SGLD, AAAI 2016
+  kSghmc,     // SGHMC, ICML 2014 (momentum parameterisation)
+  kRsghmc,    // relativistic SGHMC, "Relativistic Monte Carlo", AISTATS 2017
+  kSgd,       // sgld at T = 0
+  kMomentum,  // sghmc at T = 0 (heavy ball)
+  kRsgd,      // rsghmc at T = 0
+  kAdam,      // Adam, ICLR 2015 (optimizer only)
+  kHmc,       // full-batch HMC with Metropolis correction
+  kRhmc,      // full-batch relativistic HMC with Metropolis correction
+};
+
+/// "sgld", "psgld", ... (lower case, as on the command line).
+std::string_view method_name(Method method);
+/// Parses a method name; an unknown name fails with kInvalidInput and a message
+/// listing every valid name.
+Result<Method> parse_method(std::string_view name);
+/// True for the methods that sample at T > 0 (not sgd, momentum, rsgd, adam).
+bool is_sampler(Method method);
+/// True for hmc and rhmc, which need PotentialFn::full().
+bool is_full_batch(Method method);
+
+/// How the step size moves with the step index t = 0, 1, 2, ... of a chain.
+enum class ScheduleKind {
+  kConstant,    // eps_t = step
+  kPolynomial,  // eps_t = a (b + t)^(-gamma), METHODS.md section 2
+  kCyclical,    // cosine cycles, METHODS.md section 8
+};
+
+struct ScheduleSettings {
+  ScheduleKind kind = ScheduleKind::kConstant;
+  /// kPolynomial: decay exponent gamma in (0.5, 1]. Default 0.55 (the SGLD paper's
+  /// experiments, from memory).
+  double gamma = 0.55;
+  /// kPolynomial: the step at the last step is step_end / step_start times the
+  /// first; a and b follow from METHODS.md's start/end fit. Default 0.01.
+  double end_ratio = 0.01;
+  /// kCyclical: number of cycles M over the whole chain. Default 4.
+  int cycles = 4;
+  /// kCyclical: fraction beta of each cycle that explores (runs at T = 0). Default 0.8.
+  double exploration_fraction = 0.8;
+};
+
+/// psgld's own settings (METHODS.md section 3).
+struct PsgldSettings {
+  /// Decay rho of the squared-gradient average. Default 0.99.
+  double rho = 0.99;
+  /// lambda, added to sqrt(V) in mean-gradient (g / N) units. Default 1e-5.
+  double lambda = 1e-5;
+  /// Cap every G_i at this multiple of the median G while adapting (METHODS.md 3:
+  /// coordinates whose gradient is ~0, such as dead units or a start at a stationary
+  /// point, would otherwise get G = 1/lambda and a burst of noise). 0 = no cap.
+  /// Default 1e3.
+  double max_preconditioner_ratio = 1e3;
+  /// Stop adapting G when burn-in ends, so the kept chain has a fixed metric and
+  /// the dropped Gamma term is exactly zero. Default true.
+  bool freeze_after_burn_in = true;
+  /// Add the Gamma correction term, with the diagonal Hessian estimated by secants
+  /// of successive gradients (METHODS.md section 3). Default false: the term is
+  /// O(1 - rho), needs second derivatives, and a noisy estimate can hurt more than
+  /// it helps.
+  bool gamma_correction = false;
+};
+
+/// sghmc's (and momentum's) own settings (METHODS.md section 4).
+struct SghmcSettings {
+  /// Friction alpha = eps M^-1 C (momentum = 1 - alpha). Default 0.1: the middle of
+  /// the paper's range 0.01-0.1 in log terms would be 0.03; 0.1 mixes faster in energy
+  /// on standardised tabular data and stays far from SGLD (alpha near 1).
+  double alpha = 0.1;
+  /// Subtract the minibatch noise beta_hat = eta Vhat / 2 from the injected noise,
+  /// with Vhat from PotentialFn::gradient_noise_variance(); clipped to
+  /// [0, alpha T (1 - 1e-3)] and the clips counted. Default false (beta_hat = 0,
+  /// the paper's practical choice).
+  bool correct_gradient_noise = false;
+  /// Redraw v from N(0, eta T) every this many steps; 0 = never. Default 0.
+  std::int64_t resample_every = 0;
+};
+
+/// A slice [offset, offset + length) of theta (in practice a layer) with its own
+/// relativistic mass and speed of light. A value of 0 means "use the default".
+struct RelativisticSlice {
+  std::int64_t offset = 0;
+  std::int64_t length = 0;
+  double mass = 0.0;
+  double speed = 0.0;
+};
+
+/// rsghmc's, rsgd's and rhmc's relativistic kinetic energy (METHODS.md section 5).
+struct RelativisticSettings {
+  /// Speed of light c per coordinate: default c = max_move / eps, so no coordinate
+  /// moves more than max_move per step. 0 means "derive".
+  double speed = 0.0;
+  /// Largest move of one coordinate per step, used to derive c. Default 1e-2
+  /// (METHODS.md 5.6: 1e-2 times a unit prior scale of standardised data).
+  double max_move = 1e-2;
+  /// Rest mass m; 0 means "derive": m = u* T / c^2 for the target speed ratio
+  /// below (u* from METHODS.md 5.2's table), or m = 1 at T = 0.
+  double mass = 0.0;
+  /// Per-slice overrides of mass and speed; coordinates outside every slice use the
+  /// defaults above. Slices must not overlap. Mass adaptation works per slice (one
+  /// slice for all of theta when this is empty).
+  std::vector<RelativisticSlice> slices;
+  /// Joint (isotropic) kinetic energy with one m and one c for all of theta instead
+  /// of the per-coordinate form. Default false (METHODS.md 5.1: the joint form makes
+  /// every coordinate of a large network crawl). Not available for rhmc.
+  bool joint = false;
+  /// Friction D; 0 means "derive" D_i = alpha m_i / eps, which matches SGHMC's
+  /// alpha in the Newtonian limit (METHODS.md 5.4). Default 0.
+  double friction = 0.0;
+  /// alpha used to derive D. Default 0.1 (as SghmcSettings::alpha).
+  double alpha = 0.1;
+  /// rsghmc only: adapt each slice's m during burn-in towards the target mean
+  /// speed ratio E|v|/c (METHODS.md 5.6; a credence heuristic). Default true.
+  bool adapt_mass = true;
+  /// Target E|v|/c for deriving and adapting m. Default 0.5 (u* = 1.8285).
+  double target_speed_ratio = 0.5;
+  /// Steps per adaptation window. Default 100.
+  std::int64_t adapt_window = 100;
+  /// rsghmc only: subtract the minibatch noise eps^2 Bhat with Bhat = Vhat,
+  /// clipped so 2 D T - eps Bhat >= 2 D T 1e-3. Default false.
+  bool correct_gradient_noise = false;
+  /// rhmc only: slice-sampling sweeps per momentum refresh (30 on the first).
+  /// Default 5 (METHODS.md 5.2: nearly independent after 5).
+  int refresh_sweeps = 5;
+};
+
+/// Adam's own settings (ICLR 2015 defaults). Adam runs on the mean loss: it divides
+/// the gradient of U by N before use, so its step is in mean-loss units.
+struct AdamSettings {
+  double beta1 = 0.9;     // first-moment decay. Default 0.9.
+  double beta2 = 0.999;   // second-moment decay. Default 0.999.
+  double epsilon = 1e-8;  // added to sqrt(vhat). Default 1e-8.
+};
+
+/// hmc's and rhmc's own settings (METHODS.md section 6).
+struct HmcSettings {
+  /// Leapfrog steps per iteration L. Default 20 (METHODS.md: 20-100).
+  int leapfrog_steps = 20;
+  /// Adapt eps by dual averaging during burn-in towards target_acceptance, then
+  /// freeze it at the averaged value. Default true.
+  bool adapt_step = true;
+  /// delta. Default 0.65 (the No-U-Turn sampler paper, JMLR 2014).
+  double target_acceptance = 0.65;
+  /// Jitter eps uniformly in [1 - jitter, 1 + jitter] times eps. Default 0.1.
+  double jitter = 0.1;
+  /// hmc only: diagonal mass, one value for all coordinates. Default 1.
+  double mass = 1.0;
+};
+
+/// Everything that defines one method's run except the chain layout.
+struct SamplerSettings {
+  Method method = Method::kSgld;
+
+  // --- Step size ---
+  /// Step size in U units: SGLD's eps (sgld, psgld, sgd), eta (sghmc, momentum),
+  /// the time step eps (rsghmc, rsgd, hmc, rhmc), Adam's a in mean-loss units
+  /// (adam). 0 means "derive from learning_rate".
+  double step_size = 0.0;
+  /// Learning rate lr on the mean loss U~/N, converted when step_size is 0:
+  /// eps = 2 lr / N (sgld, psgld, sgd), eta = lr / N (sghmc, momentum),
+  /// eps = sqrt(lr / N) (rsghmc, rsgd, hmc, rhmc: the time step whose Newtonian
+  /// SGHMC equivalent eta = eps^2 / m has eta = lr / N at m = 1), a = lr (adam).
+  /// Default 1e-2: the middle of the range 1e-3 to 1e-1 METHODS.md quotes for
+  /// standardised inputs (common practice, no source). Adam's paper default is 1e-3.
+  double learning_rate = 1e-2;
+  ScheduleSettings schedule;
+
+  // --- Target ---
+  /// Temperature T >= 0 (1 = Bayes posterior). Ignored (0) by the optimizers.
+  double temperature = 1.0;
+
+  // --- Per-method ---
+  PsgldSettings psgld;
+  SghmcSettings sghmc;
+  RelativisticSettings relativistic;
+  AdamSettings adam;
+  HmcSettings hmc;
+};
+
+/// Checks the settings once; fails with kInvalidInput naming the field and what
+/// to do.
+Status validate(const SamplerSettings& settings);
+/// validate(settings) plus the checks that need the parameter count P (relativistic
+/// slices inside [0, P), not overlapping).
+Status validate(const SamplerSettings& settings, std::int64_t parameters);
+
+/// The step size in U units: settings.step_size, or learning_rate converted with N.
+/// REQUIRES: rows >= 1.
+double base_step_size(const SamplerSettings& settings, std::int64_t rows);
+
+/// The step size at step t of a chain of `total_steps` steps, and whether that step
+/// explores (runs at T = 0: the exploration stage of a cyclical schedule).
+class StepSchedule {
+ public:
+  /// REQUIRES: base_step > 0, total_steps >= 1.
+  StepSchedule(const ScheduleSettings& settings, double base_step, std::int64_t total_steps);
+
+  /// Step size at step t = 0, 1, 2, ... (steps past the end keep decaying / cycling).
+  double step_size(std::int64_t t) const;
+  /// True in the exploration stage of a cyclical schedule.
+  bool exploring(std::int64_t t) const;
+
+  /// Polynomial coefficients: eps_t = a (b + t)^(-gamma).
+  double a() const { return a_; }
+  double b() const { return b_; }
+
+ private:
+  ScheduleSettings settings_;
+  double base_;
+  double a_ = 0.0, b_ = 1.0;
+  std::int64_t cycle_length_ = 1;
+};
+
+/// Fits eps_t = a (b + t)^(-gamma) through eps_0 = start and eps_{n_total} = end
+/// (METHODS.md section 2): b = n / ((start/end)^(1/gamma) - 1), a = start b^gamma.
+/// REQUIRES: start > end > 0, gamma > 0, n_total >= 1.
+void fit_polynomial_decay(double start, double end, double gamma, std::int64_t n_total, double& a,
+                          double& b);
+
+}  // namespace credence

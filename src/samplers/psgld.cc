@@ -1,0 +1,146 @@
+// pSGLD: SGLD with an RMSprop-style diagonal preconditioner.
+//
+// "Preconditioned stochastic gradient Langevin dynamics for deep neural networks",
+// AAAI 2016; METHODS.md section 3:
+//   V_t = rho V_{t-1} + (1 - rho) gbar_t^2,   gbar = g / N,   Vhat = V_t / (1 - rho^t)
+//   G_t = 1 / (lambda + sqrt(Vhat_t))
+//   theta_{t+1} = theta_t - (eps/2) (G_t g_t - T Gamma_t) + sqrt(eps T G_t) xi
+// Gamma is dropped by default (the paper's choice); with it switched on,
+//   Gamma_i ~ -(1 - rho) gbar_i Hbar_ii / (sqrt(Vhat_i) (lambda + sqrt(Vhat_i))^2)
+// with Hbar_ii a secant estimate from the last two steps. After burn-in G is frozen
+// by default, which makes Gamma exactly 0.
+#include <algorithm>
+#include <cmath>
+
+#include "samplers/rule.h"
+
+namespace credence::samplers {
+namespace {
+
+class PsgldRule final : public Rule {
+ public:
+  PsgldRule(const SamplerSettings& s, std::int64_t p, std::int64_t n, std::uint64_t seed)
+      : Rule(s, p, n, seed),
+        scratch_(Eigen::VectorXf::Zero(p)),
+        v_(Eigen::VectorXf::Zero(p)),
+        g_precond_(Eigen::VectorXf::Zero(p)),
+        gamma_(Eigen::VectorXf::Zero(p)),
+        previous_theta_(Eigen::VectorXf::Zero(p)),
+        previous_gbar_(Eigen::VectorXf::Zero(p)) {}
+
+  Status step(ThetaRef theta, PotentialFn& potential, const StepContext& context,
+              StepReport& report) override {
+    CREDENCE_RETURN_IF_ERROR(evaluate_minibatch(theta, potential, report));
+    const PsgldSettings& ps = settings_.psgld;
+    const double eps = context.step_size;
+    const double temperature = this->temperature(context);
+    const float inv_n = 1.0f / static_cast<float>(rows_);
+    const bool adapt = !(ps.freeze_after_burn_in && !context.burn_in) || adapted_ == 0;
+    if (adapt) {
+      ++adapted_;
+      const auto rho = static_cast<float>(ps.rho);
+      const auto correction =
+          static_cast<float>(1.0 - std::pow(ps.rho, static_cast<double>(adapted_)));
+      const auto lambda = static_cast<float>(ps.lambda);
+      v_ = rho * v_ + (1.0f - rho) * (grad_ * inv_n).cwiseAbs2();
+      // Plain loops for sqrt: Eigen's AVX-512 packet sqrt trips gcc 12's
+      // maybe-uninitialized check.
+      for (Eigen::Index i = 0; i < v_.size(); ++i) {
+        g_precond_[i] = 1.0f / (lambda + std::sqrt(v_[i] / correction));
+      }
+      if (ps.max_preconditioner_ratio > 0) cap_preconditioner(ps.max_preconditioner_ratio);
+      if (ps.gamma_correction && adapted_ > 1) {
+        for (Eigen::Index i = 0; i < theta.size(); ++i) {
+          const float gbar = grad_[i] * inv_n;
+          const float d_theta = theta[i] - previous_theta_[i];
+          const float root = std::sqrt(v_[i] / correction);
+          // A secant through nearly equal points says nothing about the curvature.
+          const bool usable = std::abs(d_theta) > 1e-12f && root > 0;
+          const float hessian = usable ? (gbar - previous_gbar_[i]) / d_theta : 0.0f;
+          gamma_[i] =
+              usable ? -(1.0f - rho) * gbar * hessian / (root * (lambda + root) * (lambda + root))
+                     : 0.0f;
+        }
+        previous_theta_ = theta;
+        previous_gbar_ = grad_ * inv_n;
+      } else if (ps.gamma_correction) {
+        previous_theta_ = theta;
+        previous_gbar_ = grad_ * inv_n;
+      }
+    } else {
+      gamma_.setZero();
+    }
+    const auto half = static_cast<float>(eps / 2);
+    if (ps.gamma_correction) {
+      theta.noalias() -=
+          half * (g_precond_.cwiseProduct(grad_) - static_cast<float>(temperature) * gamma_);
+    } else {
+      theta.noalias() -= half * g_precond_.cwiseProduct(grad_);
+    }
+    if (temperature > 0) {
+      draw_noise();
+      const auto scale = static_cast<float>(eps * temperature);
+      for (Eigen::Index i = 0; i < theta.size(); ++i) {
+        theta[i] += std::sqrt(scale * g_precond_[i]) * noise_[i];
+      }
+    }
+    report.step_size = eps;
+    ++steps_taken_;
+    return Status::ok_status();
+  }
+
+  SamplerState save_state() const override {
+    SamplerState state;
+    save_common(state);
+    state.floats["v"] = to_floats(v_);
+    state.floats["preconditioner"] = to_floats(g_precond_);
+    state.floats["gamma"] = to_floats(gamma_);
+    state.floats["previous_theta"] = to_floats(previous_theta_);
+    state.floats["previous_gbar"] = to_floats(previous_gbar_);
+    state.words["adapted_steps"] = {adapted_};
+    return state;
+  }
+
+  Status restore_state(const SamplerState& state) override {
+    CREDENCE_RETURN_IF_ERROR(restore_common(state));
+    CREDENCE_RETURN_IF_ERROR(restore_vector(state, "v", v_));
+    CREDENCE_RETURN_IF_ERROR(restore_vector(state, "preconditioner", g_precond_));
+    CREDENCE_RETURN_IF_ERROR(restore_vector(state, "gamma", gamma_));
+    CREDENCE_RETURN_IF_ERROR(restore_vector(state, "previous_theta", previous_theta_));
+    CREDENCE_RETURN_IF_ERROR(restore_vector(state, "previous_gbar", previous_gbar_));
+    auto it = state.words.find("adapted_steps");
+    if (it == state.words.end() || it->second.size() != 1) {
+      return Status::corrupt("sampler state lacks 'adapted_steps'");
+    }
+    adapted_ = it->second[0];
+    return Status::ok_status();
+  }
+
+  // G_i <= ratio * median(G); the median from nth_element on a preallocated copy.
+  void cap_preconditioner(double ratio) {
+    scratch_ = g_precond_;
+    const auto middle = scratch_.data() + scratch_.size() / 2;
+    std::nth_element(scratch_.data(), middle, scratch_.data() + scratch_.size());
+    const auto cap = static_cast<float>(ratio * static_cast<double>(*middle));
+    for (Eigen::Index i = 0; i < g_precond_.size(); ++i) {
+      g_precond_[i] = std::min(g_precond_[i], cap);
+    }
+  }
+
+ private:
+  Eigen::VectorXf scratch_;         // (P) workspace for the median
+  Eigen::VectorXf v_;               // (P) squared-gradient average, gbar units^2
+  Eigen::VectorXf g_precond_;       // (P) G, frozen after burn-in by default
+  Eigen::VectorXf gamma_;           // (P) Gamma term (zero unless switched on)
+  Eigen::VectorXf previous_theta_;  // (P) for the secant Hessian estimate
+  Eigen::VectorXf previous_gbar_;   // (P)
+  std::uint64_t adapted_ = 0;       // t in the bias correction 1 - rho^t
+};
+
+}  // namespace
+
+RulePtr make_psgld(const SamplerSettings& s, std::int64_t p, std::int64_t n, std::uint64_t seed) {
+  return std::make_unique<PsgldRule>(s, p, n, seed);
+}
+
+}  // namespace credence::samplers
