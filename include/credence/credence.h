@@ -5,5 +5,10 @@
 // calibrated. Each module header below opens with its own contract.
 #pragma once
 
+#include "credence/data.h"
+#include "credence/net.h"
+#include "credence/posterior.h"
+#include "credence/samplers.h"
 #include "credence/status.h"
+#include "credence/synth.h"
 #include "credence/version.h"

@@ -27,5 +27,6 @@ struct Command {
 using CommandList = std::vector<Command>;
 
 void add_schema_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_synth_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 
 }  // namespace credence::cli

@@ -29,6 +29,7 @@ int run(int argc, char** argv) {
 
   CommandList commands;
   add_schema_command(app, global, commands);
+  add_synth_command(app, global, commands);
 
   try {
     app.parse(argc, argv);
