@@ -11,4 +11,5 @@
 #include "credence/samplers.h"
 #include "credence/status.h"
 #include "credence/synth.h"
+#include "credence/table_potential.h"
 #include "credence/version.h"

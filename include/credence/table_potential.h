@@ -1,0 +1,74 @@
+// The posterior potential over a table's training rows, as the samplers see it.
+//
+// TablePotential joins the data module's minibatches to the posterior's Potential and
+// implements the samplers' PotentialFn contract (samplers_potential.h): each
+// minibatch() call draws the next seeded batch of training rows and returns U~ and its
+// gradient; full() evaluates U over every training row for hmc and rhmc. One object
+// belongs to one chain (its batch order and workspaces are per chain); the training
+// rows it reads are shared, read-only, between chains.
+//
+//   TrainingRows rows = gather_training_rows(data.x, data.labels, data.split.train);
+//   auto factory = [&](int chain) {
+//     return TablePotential::create(rows, layout, prior, {.temperature = 1},
+//                                   {.batch_rows = 128}, seed_of_chain(chain)).value();
+//   };
+#pragma once
+
+#include <Eigen/Core>
+#include <cstdint>
+#include <memory>
+#include <span>
+#include <vector>
+
+#include "credence/data.h"
+#include "credence/net.h"
+#include "credence/posterior.h"
+#include "credence/samplers_potential.h"
+
+namespace credence {
+
+/// The training rows as one contiguous block, so that full-data passes and
+/// minibatch gathers read only what they need.
+struct TrainingRows {
+  Eigen::MatrixXf x;                  // (D, N) training rows only
+  std::vector<std::int32_t> labels;   // (N)
+};
+
+/// Copies the columns `rows` of x (D, all rows) and their labels.
+/// REQUIRES: every row < x.cols() and labels.size() == x.cols().
+TrainingRows gather_training_rows(const Eigen::MatrixXf& x, std::span<const std::int32_t> labels,
+                                  std::span<const std::int64_t> rows);
+
+/// U~ over seeded minibatches of the training rows; see the file comment.
+class TablePotential final : public PotentialFn {
+ public:
+  /// `rows` must outlive the object. `settings.num_train_rows` and
+  /// `settings.max_batch_rows` are filled in here (N = rows.x.cols(), and the batch
+  /// size capped at N). Fails with kInvalidInput on bad settings or an empty table.
+  static Result<std::unique_ptr<TablePotential>> create(const TrainingRows& rows,
+                                                        const ParamLayout& layout,
+                                                        const PriorSpec& prior,
+                                                        PotentialSettings settings,
+                                                        BatchOptions batches,
+                                                        std::uint64_t seed);
+
+  std::int64_t rows() const override { return rows_.x.cols(); }
+  Status minibatch(ConstThetaRef theta, ThetaRef grad, MinibatchValue& out) override;
+  Status full(ConstThetaRef theta, ThetaRef grad, double& potential) override;
+
+  /// The potential itself (the last evaluation's NLL, accuracy, log-likelihoods).
+  const Potential<float>& potential() const { return potential_; }
+
+ private:
+  TablePotential(const TrainingRows& rows, Potential<float> potential, BatchOptions batches,
+                 std::uint64_t seed);
+
+  const TrainingRows& rows_;
+  Potential<float> potential_;
+  std::vector<std::int64_t> all_rows_;   // 0..N-1, the iterator's subset
+  BatchIterator batches_;
+  Eigen::MatrixXf x_batch_;              // (D, B)
+  std::vector<std::int32_t> labels_batch_;  // (B)
+};
+
+}  // namespace credence

@@ -1,0 +1,81 @@
+// TablePotential: minibatches of training rows feeding the posterior potential.
+#include "credence/table_potential.h"
+
+#include <algorithm>
+#include <numeric>
+
+namespace credence {
+namespace {
+
+std::vector<std::int64_t> iota_rows(Eigen::Index n) {
+  std::vector<std::int64_t> rows(static_cast<std::size_t>(n));
+  std::iota(rows.begin(), rows.end(), std::int64_t{0});
+  return rows;
+}
+
+}  // namespace
+
+TrainingRows gather_training_rows(const Eigen::MatrixXf& x, std::span<const std::int32_t> labels,
+                                  std::span<const std::int64_t> rows) {
+  TrainingRows out;
+  out.x.resize(x.rows(), static_cast<Eigen::Index>(rows.size()));
+  out.labels.resize(rows.size());
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    assert(rows[i] >= 0 && rows[i] < x.cols());
+    out.x.col(static_cast<Eigen::Index>(i)) = x.col(static_cast<Eigen::Index>(rows[i]));
+    out.labels[i] = labels[static_cast<std::size_t>(rows[i])];
+  }
+  return out;
+}
+
+Result<std::unique_ptr<TablePotential>> TablePotential::create(const TrainingRows& rows,
+                                                               const ParamLayout& layout,
+                                                               const PriorSpec& prior,
+                                                               PotentialSettings settings,
+                                                               BatchOptions batches,
+                                                               std::uint64_t seed) {
+  const std::int64_t n = rows.x.cols();
+  if (n < 1) return Status::invalid_input("there are no training rows to fit");
+  if (batches.batch_rows < 1) {
+    return Status::invalid_input("--batch " + std::to_string(batches.batch_rows) +
+                                 " must be at least 1");
+  }
+  // A batch larger than the table is the full table: clamp rather than refuse.
+  batches.batch_rows = std::min(batches.batch_rows, n);
+  settings.num_train_rows = n;
+  settings.max_batch_rows = batches.batch_rows;
+  Result<Potential<float>> potential = Potential<float>::create(layout, prior, settings);
+  if (!potential.ok()) return potential.status();
+  return std::unique_ptr<TablePotential>(
+      new TablePotential(rows, std::move(*potential), batches, seed));
+}
+
+TablePotential::TablePotential(const TrainingRows& rows, Potential<float> potential,
+                               BatchOptions batches, std::uint64_t seed)
+    : rows_(rows),
+      potential_(std::move(potential)),
+      all_rows_(iota_rows(rows.x.cols())),
+      batches_(rows.x, rows.labels, all_rows_, batches, seed),
+      x_batch_(rows.x.rows(), batches.batch_rows),
+      labels_batch_(static_cast<std::size_t>(batches.batch_rows)) {}
+
+Status TablePotential::minibatch(ConstThetaRef theta, ThetaRef grad, MinibatchValue& out) {
+  const BatchInfo info = batches_.next(x_batch_, labels_batch_);
+  Result<double> u = potential_.evaluate(
+      theta, x_batch_.leftCols(info.rows),
+      std::span<const std::int32_t>(labels_batch_.data(), static_cast<std::size_t>(info.rows)),
+      grad);
+  if (!u.ok()) return u.status();
+  out.potential = *u;
+  out.accuracy = potential_.last_accuracy();
+  return Status::ok_status();
+}
+
+Status TablePotential::full(ConstThetaRef theta, ThetaRef grad, double& potential) {
+  Result<double> u = potential_.evaluate_full(theta, rows_.x, rows_.labels, grad);
+  if (!u.ok()) return u.status();
+  potential = *u;
+  return Status::ok_status();
+}
+
+}  // namespace credence
