@@ -24,6 +24,7 @@
 #include <string>
 #include <vector>
 
+#include "credence/named_arrays.h"
 #include "credence/samplers_potential.h"
 #include "credence/samplers_settings.h"
 #include "credence/status.h"
@@ -33,11 +34,7 @@ namespace credence {
 /// A sampler's whole state as plain named arrays (momentum, moments, step count,
 /// adapted step size and masses, RNG words), so a checkpoint can store it in any
 /// format and resume bit for bit.
-struct SamplerState {
-  std::map<std::string, std::vector<float>> floats;
-  std::map<std::string, std::vector<double>> doubles;
-  std::map<std::string, std::vector<std::uint64_t>> words;
-};
+using SamplerState = NamedArrays;
 
 /// Where a step sits in its chain; run_chains() fills it from the schedule.
 struct StepContext {
