@@ -8,7 +8,9 @@
 
 #include "cli/commands.h"
 #include "cli/data_options.h"
+#include "cli/json.h"
 #include "credence/data.h"
+#include "util/atomic_file.h"
 
 namespace credence::cli {
 
@@ -19,26 +21,6 @@ struct SchemaSettings {
   std::string json_path;  // --json FILE; empty = none
   DataFlags data;
 };
-
-std::string json_string(std::string_view text) {
-  std::string out = "\"";
-  for (char c : text) {
-    switch (c) {
-      case '"': out += "\\\""; break;
-      case '\\': out += "\\\\"; break;
-      case '\n': out += "\\n"; break;
-      case '\r': out += "\\r"; break;
-      case '\t': out += "\\t"; break;
-      default:
-        if (static_cast<unsigned char>(c) < 0x20) {
-          out += fmt::format("\\u{:04x}", static_cast<unsigned>(static_cast<unsigned char>(c)));
-        } else {
-          out += c;
-        }
-    }
-  }
-  return out + "\"";
-}
 
 // Column names are user text of any width; padding by hand keeps the table aligned.
 std::string pad_right(std::string text, std::size_t width) {
@@ -169,24 +151,6 @@ std::string json_report(const Dataset& data, const DataOptions& options) {
   return out;
 }
 
-// Writes to a temporary file beside `path`, then renames it over `path`, so a reader never
-// sees half a file and a failure leaves nothing behind.
-Status write_atomically(const std::string& path, const std::string& text) {
-  const std::string temp = fmt::format("{}.tmp-{}", path, ::getpid());
-  std::FILE* file = std::fopen(temp.c_str(), "wb");
-  if (file == nullptr) {
-    return Status::io_error(fmt::format("{}: cannot create the file: {}", temp, std::strerror(errno)));
-  }
-  const bool written = std::fwrite(text.data(), 1, text.size(), file) == text.size();
-  const bool closed = std::fclose(file) == 0;
-  if (!written || !closed || std::rename(temp.c_str(), path.c_str()) != 0) {
-    const int error = errno;
-    std::remove(temp.c_str());
-    return Status::io_error(fmt::format("{}: writing the file failed: {}", path, std::strerror(error)));
-  }
-  return Status::ok_status();
-}
-
 Status run_schema(const SchemaSettings& settings) {
   Result<DataOptions> options = resolve_data_options(settings.data);
   if (!options.ok()) return options.status();
@@ -196,7 +160,7 @@ Status run_schema(const SchemaSettings& settings) {
   std::fwrite(report.data(), 1, report.size(), stdout);
   std::fflush(stdout);
   if (!settings.json_path.empty()) {
-    CREDENCE_RETURN_IF_ERROR(write_atomically(settings.json_path, json_report(*data, *options)));
+    CREDENCE_RETURN_IF_ERROR(write_file_atomically(settings.json_path, json_report(*data, *options)));
   }
   return Status::ok_status();
 }

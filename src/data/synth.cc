@@ -12,6 +12,8 @@
 #include <random>
 #include <span>
 
+#include "util/atomic_file.h"
+
 namespace credence {
 namespace {
 
@@ -197,25 +199,6 @@ const std::vector<ScenarioModel>& scenario_models() {
   return models;
 }
 
-// Writes `text` to a temporary file beside `path`, then renames it into place.
-Status write_atomically(const std::string& path, const std::string& text) {
-  std::string temporary = path + ".partial";
-  std::FILE* file = std::fopen(temporary.c_str(), "wb");
-  if (file == nullptr) {
-    return Status::io_error(fmt::format("cannot create '{}'; check that the folder exists and "
-                                        "is writable", temporary));
-  }
-  bool written = std::fwrite(text.data(), 1, text.size(), file) == text.size();
-  written = (std::fclose(file) == 0) && written;
-  std::error_code error;
-  if (written) std::filesystem::rename(temporary, path, error);
-  if (!written || error) {
-    std::filesystem::remove(temporary, error);
-    return Status::io_error(fmt::format("cannot write '{}'; is the disk full?", path));
-  }
-  return Status::ok_status();
-}
-
 }  // namespace
 
 const std::vector<SynthScenario>& synth_scenarios() {
@@ -257,8 +240,10 @@ Status write_synth_table(const SynthOptions& options, const std::string& csv_pat
     for (double p : row.truth) truth += fmt::format(",{:.6f}", p);
     truth += '\n';
   }
-  CREDENCE_RETURN_IF_ERROR(write_atomically(csv_path, csv));
-  return write_atomically(truth_path, truth);
+  CREDENCE_RETURN_IF_ERROR(write_file_atomically(csv_path, csv));
+  Status truth_written = write_file_atomically(truth_path, truth);
+  if (!truth_written.ok()) std::remove(csv_path.c_str());  // both files or neither
+  return truth_written;
 }
 
 }  // namespace credence
