@@ -308,12 +308,26 @@ struct BatchInfo {
   bool last_of_epoch = false;   // the next batch starts a new shuffle
 };
 
-/// Seeded minibatches without replacement: each epoch shuffles the row subset once
-/// and cuts consecutive slices. Construction allocates; next() never does.
+/// Where a BatchIterator stands: the whole of its state besides its constructor
+/// arguments. The next batch comes from epoch `epoch`'s order, starting at `cursor`.
+struct BatchPosition {
+  std::int64_t epoch = 0;   // 0-based epoch
+  std::int64_t cursor = 0;  // rows of that epoch's order already handed out, 0..n
+  bool operator==(const BatchPosition&) const = default;
+};
+
+/// Seeded minibatches without replacement. Epoch e's order is a fresh Fisher-Yates
+/// shuffle of the row subset in its original (constructor) order, driven by SplitMix64
+/// started from epoch_shuffle_state(seed, e) (src/data/shuffle.h spells the mix out), and
+/// each epoch is cut into consecutive slices. So the position (epoch, cursor) is the
+/// iterator's whole state: seek() to a saved position continues with the very same
+/// batches. Construction and seek() allocate; next() never does.
 ///
 ///   BatchIterator batches(data->x, data->labels, data->split.train, {.batch_rows = 64}, 7);
 ///   Eigen::MatrixXf xb(D, 64);  std::vector<int32_t> yb(64);
 ///   BatchInfo info = batches.next(xb, yb);   // columns [0, info.rows) are valid
+///   BatchPosition saved = batches.position();  // ... later, maybe in another process:
+///   Status s = batches.seek(saved);            // the same batches follow
 class BatchIterator {
  public:
   /// `x` (D, N) and `labels` (N) must outlive the iterator. `rows` selects the rows
@@ -328,19 +342,27 @@ class BatchIterator {
   /// REQUIRES: x_batch.rows() == D, x_batch.cols() >= B, labels_batch.size() >= B.
   BatchInfo next(Eigen::Ref<Eigen::MatrixXf> x_batch, std::span<std::int32_t> labels_batch);
 
+  /// The position of the next batch (a position at the end of an epoch is valid:
+  /// next() then starts the following epoch).
+  BatchPosition position() const { return {epoch_, cursor_}; }
+  /// Moves to `position`, rebuilding that epoch's order. Fails with kCorrupt, leaving
+  /// the iterator where it was, unless epoch >= 0 and 0 <= cursor <= rows.size().
+  Status seek(const BatchPosition& position);
+
   /// Batches per epoch (counting a short last batch unless it is dropped).
   std::int64_t batches_per_epoch() const;
   std::int64_t batch_rows() const { return options_.batch_rows; }
 
  private:
-  void shuffle();
+  void build_order(std::int64_t epoch);  // order_ = rows_ shuffled for `epoch`
 
   const float* x_;                       // (D, N), column-major
   std::int64_t d_;
   std::span<const std::int32_t> labels_;  // (N)
-  std::vector<std::int64_t> order_;       // the subset, reshuffled each epoch
+  std::vector<std::int64_t> rows_;        // the subset in its original order
+  std::vector<std::int64_t> order_;       // this epoch's shuffle of rows_
   BatchOptions options_;
-  std::uint64_t rng_state_;
+  std::uint64_t seed_;
   std::int64_t cursor_ = 0;               // next position in order_
   std::int64_t epoch_ = 0;
 };

@@ -8,11 +8,23 @@
 // the step-size schedule, hooks, a stop flag and per-chain outcomes. A Sampler is
 // used from one thread at a time; run_chains() may be called from any thread.
 //
+// Checkpoints. on_checkpoint receives a chain's complete state (ChainCheckpoint) after
+// every kept sample, whenever the caller bumps RunControl::checkpoint_request (from any
+// thread; served at the chain's next step boundary), and once when the chain ends.
+// Passing those checkpoints back as `resume` continues each chain bit for bit, the
+// potential's minibatch position included. Per chain, hooks run in step order, and
+// every on_sample / on_trace of steps < next_step comes before the on_checkpoint that
+// carries next_step, so a writer that stores rows and state together stays consistent.
+//
 //   SamplerSettings settings;                    // sgld, lr 1e-2 on the mean loss
 //   ChainSettings chains;                        // 4 chains, 1000 burn-in, ...
 //   ChainHooks hooks;
 //   hooks.on_sample = [&](const KeptSample& s) { store(s.chain, s.step, s.theta); };
-//   Result<RunOutcome> run = run_chains(settings, chains, factory, init, hooks);
+//   hooks.on_checkpoint = [&](const ChainCheckpoint& c) { save(c); };
+//   std::atomic<bool> stop{false};  std::atomic<std::uint64_t> request{0};
+//   RunControl control{.stop = &stop, .checkpoint_request = &request};
+//   Result<RunOutcome> run = run_chains(settings, chains, p, factory, init, hooks, control);
+//   // later: run_chains(settings, chains, p, factory, init, hooks, control, saved);
 #pragma once
 
 #include <atomic>
@@ -22,6 +34,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "credence/named_arrays.h"
@@ -109,23 +122,63 @@ struct TraceRow {
   StepReport report;
 };
 
-/// Hooks at fixed points of each chain. run_chains() serialises them with one
-/// mutex: no two hook calls overlap, but they may come from different threads,
-/// in an order that interleaves chains. A hook may set the stop flag.
-struct ChainHooks {
-  std::function<void(const KeptSample&)> on_sample;
-  std::function<void(const TraceRow&)> on_trace;
-};
-
 /// How a chain ended.
 enum class ChainEnd { kCompleted, kDiverged, kStopped, kFailed };
 
-/// A chain's position and state, enough to resume it bit for bit.
+/// Why on_checkpoint was called.
+enum class CheckpointCause {
+  kKeptSample,  // right after on_sample: the state after the kept step
+  kRequested,   // RunControl::checkpoint_request changed: the state at a step boundary
+  kEnded,       // the chain ended (completed, diverged, stopped or failed)
+};
+
+/// Prefix of the potential's arrays inside ChainCheckpoint::state. A dot, not a slash:
+/// the run file stores each array under its name, and HDF5 reads '/' as a group path.
+inline constexpr std::string_view kModelStatePrefix = "model.";
+
+/// A chain's position and complete state, enough to resume it bit for bit.
 struct ChainCheckpoint {
+  int chain = 0;               // 0-based chain (resume uses the list position instead)
   std::int64_t next_step = 0;  // the first step still to run
   std::int64_t kept = 0;       // samples kept so far
   Eigen::VectorXf theta;       // (P)
-  SamplerState sampler;
+  /// The sampler's state arrays (Sampler::save_state) under their own names, and the
+  /// potential's (PotentialFn::save_state) under kModelStatePrefix + name.
+  NamedArrays state;
+  CheckpointCause cause = CheckpointCause::kEnded;
+  /// Empty while the chain runs; how it ended in the checkpoint of CheckpointCause::kEnded.
+  std::optional<ChainEnd> end;
+  Status status;       // ok unless the chain ended otherwise than completed
+  std::string reason;  // empty unless diverged, stopped or failed
+};
+
+/// Hooks at fixed points of each chain. run_chains() serialises them with one
+/// mutex: no two hook calls overlap, but they may come from different threads,
+/// in an order that interleaves chains. A hook may set the stop flag or bump the
+/// checkpoint request. Arguments are valid only during the call.
+///
+/// Order within one chain: hooks are called in step order, from the chain's thread.
+/// After step t: on_trace(t) if traced, then, if t is kept, on_sample(t) followed by
+/// on_checkpoint (kKeptSample, next_step t + 1). A requested checkpoint comes at the
+/// boundary before step next_step; the final one (kEnded) comes last. So every
+/// on_sample / on_trace of steps < next_step precedes the checkpoint carrying
+/// next_step, and none of later steps does.
+struct ChainHooks {
+  std::function<void(const KeptSample&)> on_sample;
+  std::function<void(const TraceRow&)> on_trace;
+  std::function<void(const ChainCheckpoint&)> on_checkpoint;
+};
+
+/// How a caller steers running chains; every pointer may be null.
+struct RunControl {
+  /// Checked before each step; when true each chain ends as kStopped at that boundary.
+  const std::atomic<bool>* stop = nullptr;
+  /// A generation counter: bump it (fetch_add, from any thread, at any time) to ask
+  /// every chain for a checkpoint. Each chain remembers the last value it served
+  /// (starting from 0) and, at its next step boundary where the value differs, calls
+  /// on_checkpoint (kRequested). Any checkpoint a chain sends counts as serving the
+  /// value it read just before, so requests never queue up.
+  const std::atomic<std::uint64_t>* checkpoint_request = nullptr;
 };
 
 /// Per-chain result.
@@ -138,7 +191,7 @@ struct ChainOutcome {
   std::string reason;     // empty when completed; otherwise what happened
   std::int64_t kept = 0;
   double mean_acceptance = 0.0;  // hmc, rhmc: mean after burn-in; else 0
-  ChainCheckpoint checkpoint;    // state after the last completed step
+  ChainCheckpoint checkpoint;    // the final checkpoint (as on_checkpoint saw it last)
 };
 
 struct RunOutcome {
@@ -154,18 +207,30 @@ using InitFn = std::function<Status(int chain, ThetaRef theta)>;
 
 /// Runs settings.chains chains of `parameters` coordinates. Each chain: its own
 /// PotentialFn (factory), Sampler seeded with mix_seed(seed, chain), theta from
-/// init (or from resume[chain] when resume is non-empty), then steps t =
-/// next_step .. burn_in + thin * samples - 1. After step t (0-based) the chain
-/// keeps theta when t >= burn_in and (t - burn_in + 1) is a multiple of thin.
-/// Divergence stops that chain only. `stop` (may be null) is checked before each
-/// step. Results depend on the seed only, not on the number of threads. With a
+/// init (or from resume[chain] when resume is non-empty: theta, sampler state and the
+/// potential's "model." arrays), then steps t = next_step .. burn_in + thin * samples - 1.
+/// After step t (0-based) the chain keeps theta when t >= burn_in and
+/// (t - burn_in + 1) is a multiple of thin. Divergence stops that chain only.
+/// control.stop is checked before each step; checkpoints follow ChainHooks' order.
+/// Results depend on the seed only, not on the number of threads, and a chain resumed
+/// from any of its checkpoints continues exactly as if it had never stopped. With a
 /// cyclical schedule, steps of the exploration stage are never kept, so a chain may
-/// keep fewer than `samples` (ChainOutcome::kept says how many).
-/// Fails (without running) on invalid settings or a resume list of the wrong size.
+/// keep fewer than `samples` (ChainOutcome::kept says how many). The step loop
+/// allocates nothing beyond what the potential and sampler do; a checkpoint does.
+/// After a divergence or failure the final checkpoint records where the chain stood
+/// (the failed step may already have consumed draws, and theta may be the non-finite
+/// one that was caught): resume from the checkpoint before it to replay exactly.
+/// ChainOutcome::mean_acceptance covers only the steps run by this call.
+/// A resume entry with next_step 0 and an empty theta (a chain never checkpointed)
+/// starts that chain afresh from init.
+/// Fails (without running) on invalid settings or a resume list of the wrong size; a
+/// chain whose resume state does not fit ends as kFailed with kCorrupt, and its final
+/// checkpoint hands that resume state back unchanged (a chain that cannot start
+/// without one sends next_step 0 and an empty theta).
 Result<RunOutcome> run_chains(const SamplerSettings& settings, const ChainSettings& chains,
                               std::int64_t parameters, const PotentialFactory& factory,
                               const InitFn& init, const ChainHooks& hooks,
-                              const std::atomic<bool>* stop = nullptr,
+                              const RunControl& control = {},
                               const std::vector<ChainCheckpoint>& resume = {});
 
 /// "completed", "diverged", "stopped", "failed".

@@ -8,6 +8,12 @@
 // order and workspaces are per-chain state; a PotentialFn is called from one
 // thread at a time and need not be thread-safe.
 //
+// A PotentialFn may carry state that a resumed chain must get back, such as its
+// position in the minibatch order. save_state() adds it as named arrays (the chain
+// driver stores them under "model.<name>" in its checkpoints) and restore_state()
+// takes the same arrays back; both default to doing nothing, for stateless models
+// such as the example.
+//
 // A complete tiny example, U(theta) = sum_i theta_i^2 / (2 s^2), a posterior
 // N(0, s^2 I) seen as "N = 1 data row":
 //
@@ -33,6 +39,21 @@
 //   };
 //
 //   auto factory = [](int /*chain*/) { return std::make_unique<Quadratic>(2.0f); };
+//
+// A model that draws minibatches saves where it stands, e.g. (TablePotential does this):
+//
+//   void save_state(credence::NamedArrays& out) const override {
+//     const credence::BatchPosition at = batches_.position();
+//     out.words["batch_position"] = {static_cast<std::uint64_t>(at.epoch),
+//                                    static_cast<std::uint64_t>(at.cursor)};
+//   }
+//   credence::Status restore_state(const credence::NamedArrays& in) override {
+//     auto it = in.words.find("batch_position");
+//     if (it == in.words.end() || it->second.size() != 2)
+//       return credence::Status::corrupt("model state lacks 'batch_position'");
+//     return batches_.seek({static_cast<std::int64_t>(it->second[0]),
+//                           static_cast<std::int64_t>(it->second[1])});
+//   }
 #pragma once
 
 #include <Eigen/Core>
@@ -41,6 +62,7 @@
 #include <memory>
 #include <optional>
 
+#include "credence/named_arrays.h"
 #include "credence/status.h"
 
 namespace credence {
@@ -84,6 +106,16 @@ class PotentialFn {
   /// units (METHODS.md section 4: N (N - b) / b * s_i^2), written into `vhat`.
   /// Returns false when the model does not estimate it (the default).  vhat: (P).
   virtual bool gradient_noise_variance(ThetaRef vhat);
+
+  /// Adds the model's resumable state to `out` as named arrays (names without a
+  /// prefix; the chain driver adds "model."). The default adds nothing. May allocate;
+  /// called only when a checkpoint is taken.
+  virtual void save_state(NamedArrays& out) const;
+
+  /// Takes back what save_state() wrote, so the next minibatch() call continues as if
+  /// the chain had never stopped. Fails with kCorrupt when an array is missing or
+  /// malformed. The default ignores `in` and succeeds.
+  virtual Status restore_state(const NamedArrays& in);
 };
 
 /// Makes the PotentialFn of chain `chain` (0-based). Called once per chain, from the

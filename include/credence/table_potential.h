@@ -5,7 +5,10 @@
 // minibatch() call draws the next seeded batch of training rows and returns U~ and its
 // gradient; full() evaluates U over every training row for hmc and rhmc. One object
 // belongs to one chain (its batch order and workspaces are per chain); the training
-// rows it reads are shared, read-only, between chains.
+// rows it reads are shared, read-only, between chains. Its resumable state is its
+// minibatch position: save_state() writes words["batch_position"] = {epoch, cursor}
+// (BatchPosition, data.h) and restore_state() seeks back there, so a resumed chain
+// draws the very batches it would have drawn.
 //
 //   TrainingRows rows = gather_training_rows(data.x, data.labels, data.split.train);
 //   auto factory = [&](int chain) {
@@ -55,6 +58,15 @@ class TablePotential final : public PotentialFn {
   std::int64_t rows() const override { return rows_.x.cols(); }
   Status minibatch(ConstThetaRef theta, ThetaRef grad, MinibatchValue& out) override;
   Status full(ConstThetaRef theta, ThetaRef grad, double& potential) override;
+
+  /// Adds words["batch_position"] = {epoch, cursor} of the next minibatch.
+  void save_state(NamedArrays& out) const override;
+  /// Seeks to the saved batch position. kCorrupt when "batch_position" is missing,
+  /// not two words, or outside this table (then the position is unchanged).
+  Status restore_state(const NamedArrays& in) override;
+
+  /// Where the next minibatch comes from.
+  BatchPosition batch_position() const { return batches_.position(); }
 
   /// The potential itself (the last evaluation's NLL, accuracy, log-likelihoods).
   const Potential<float>& potential() const { return potential_; }

@@ -1,5 +1,6 @@
-// BatchIterator: per-epoch shuffles cut into consecutive slices; no allocation per batch.
+// BatchIterator: per-epoch seeded shuffles cut into consecutive slices; no allocation per batch.
 #include <algorithm>
+#include <string>
 
 #include "credence/data.h"
 #include "data/shuffle.h"
@@ -12,22 +13,43 @@ BatchIterator::BatchIterator(const Eigen::MatrixXf& x, std::span<const std::int3
     : x_(x.data()),
       d_(x.rows()),
       labels_(labels),
-      order_(rows.begin(), rows.end()),
+      rows_(rows.begin(), rows.end()),
+      order_(rows.size()),
       options_(options),
-      rng_state_(seed) {
-  assert(!order_.empty());
+      seed_(seed) {
+  assert(!rows_.empty());
   assert(options_.batch_rows >= 1);
   assert(static_cast<Eigen::Index>(labels.size()) == x.cols());
-  assert(!options_.drop_last || static_cast<std::int64_t>(order_.size()) >= options_.batch_rows);
-  assert(std::all_of(order_.begin(), order_.end(),
+  assert(!options_.drop_last || static_cast<std::int64_t>(rows_.size()) >= options_.batch_rows);
+  assert(std::all_of(rows_.begin(), rows_.end(),
                      [&](std::int64_t r) { return r >= 0 && r < x.cols(); }));
-  shuffle();
+  build_order(0);
 }
 
-void BatchIterator::shuffle() { data::shuffle_in_place(std::span<std::int64_t>(order_), rng_state_); }
+// Each epoch restarts from the subset's original order, so its shuffle depends on
+// (seed, epoch) only and a saved position can be rebuilt without replaying epochs.
+void BatchIterator::build_order(std::int64_t epoch) {
+  std::copy(rows_.begin(), rows_.end(), order_.begin());  // same size: no allocation
+  std::uint64_t state = data::epoch_shuffle_state(seed_, static_cast<std::uint64_t>(epoch));
+  data::shuffle_in_place(std::span<std::int64_t>(order_), state);
+}
+
+Status BatchIterator::seek(const BatchPosition& position) {
+  const auto n = static_cast<std::int64_t>(rows_.size());
+  if (position.epoch < 0 || position.cursor < 0 || position.cursor > n) {
+    return Status::corrupt("batch position (epoch " + std::to_string(position.epoch) +
+                           ", cursor " + std::to_string(position.cursor) +
+                           ") is outside a table of " + std::to_string(n) +
+                           " rows; the saved state is damaged or belongs to other data");
+  }
+  build_order(position.epoch);
+  epoch_ = position.epoch;
+  cursor_ = position.cursor;
+  return Status::ok_status();
+}
 
 std::int64_t BatchIterator::batches_per_epoch() const {
-  const auto n = static_cast<std::int64_t>(order_.size());
+  const auto n = static_cast<std::int64_t>(rows_.size());
   const std::int64_t b = options_.batch_rows;
   return options_.drop_last ? n / b : (n + b - 1) / b;
 }
@@ -39,9 +61,9 @@ BatchInfo BatchIterator::next(Eigen::Ref<Eigen::MatrixXf> x_batch,
   assert(static_cast<std::int64_t>(labels_batch.size()) >= b);
   const auto n = static_cast<std::int64_t>(order_.size());
   if (cursor_ >= n || (options_.drop_last && n - cursor_ < b)) {  // start the next epoch
-    shuffle();
-    cursor_ = 0;
     ++epoch_;
+    cursor_ = 0;
+    build_order(epoch_);
   }
   const std::int64_t rows = std::min(b, n - cursor_);
   for (std::int64_t i = 0; i < rows; ++i) {

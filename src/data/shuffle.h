@@ -16,6 +16,18 @@ inline std::uint64_t next_bits(std::uint64_t& state) {
   return z ^ (z >> 31);
 }
 
+/// The shuffle state of epoch `epoch` of an iterator seeded with `seed`, so that any
+/// epoch's order can be rebuilt without replaying the ones before it:
+///   s = seed;  a = next_bits(s);                      // one SplitMix64 step of the seed
+///   t = a ^ ((epoch + 1) * 0x9E3779B97F4A7C15);       // wrapping 64-bit product
+///   return next_bits(t);                              // one SplitMix64 step of that
+/// (the same mix as util/rng.h's mix_seed, written out here so the data module stands alone).
+inline std::uint64_t epoch_shuffle_state(std::uint64_t seed, std::uint64_t epoch) {
+  std::uint64_t s = seed;
+  std::uint64_t t = next_bits(s) ^ ((epoch + 1) * 0x9E3779B97F4A7C15ull);
+  return next_bits(t);
+}
+
 /// Uniform integer in [0, bound) without modulo bias (rejection on the low range).
 /// REQUIRES: bound >= 1.
 inline std::uint64_t uniform_below(std::uint64_t& state, std::uint64_t bound) {

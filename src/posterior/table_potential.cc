@@ -3,6 +3,7 @@
 
 #include <algorithm>
 #include <numeric>
+#include <string>
 
 namespace credence {
 namespace {
@@ -76,6 +77,26 @@ Status TablePotential::full(ConstThetaRef theta, ThetaRef grad, double& potentia
   if (!u.ok()) return u.status();
   potential = *u;
   return Status::ok_status();
+}
+
+// Words hold the position so the run file can store it losslessly beside the RNG words.
+void TablePotential::save_state(NamedArrays& out) const {
+  const BatchPosition at = batches_.position();
+  out.words["batch_position"] = {static_cast<std::uint64_t>(at.epoch),
+                                 static_cast<std::uint64_t>(at.cursor)};
+}
+
+Status TablePotential::restore_state(const NamedArrays& in) {
+  auto it = in.words.find("batch_position");
+  if (it == in.words.end() || it->second.size() != 2) {
+    return Status::corrupt(
+        "the model state lacks 'batch_position' (two words: epoch, cursor); the "
+        "checkpoint is damaged or was written by a model without minibatches");
+  }
+  // Values past int64's range wrap negative and are refused by seek().
+  const BatchPosition at{static_cast<std::int64_t>(it->second[0]),
+                         static_cast<std::int64_t>(it->second[1])};
+  return batches_.seek(at).with_context("restoring the minibatch position");
 }
 
 }  // namespace credence

@@ -1,5 +1,5 @@
-// The chain driver: burn-in, thinning, schedule, hooks, stop flag and divergence,
-// C chains in parallel (one OpenMP thread per chain, single-threaded inside).
+// The chain driver: burn-in, thinning, schedule, hooks, checkpoints, stop flag and
+// divergence, C chains in parallel (one OpenMP thread per chain, single-threaded inside).
 #include <fmt/format.h>
 #include <omp.h>
 
@@ -22,128 +22,232 @@ struct ChainContext {
   const PotentialFactory& factory;
   const InitFn& init;
   const ChainHooks& hooks;
-  const std::atomic<bool>* stop;
+  const RunControl& control;
   const ChainCheckpoint* resume;
   std::mutex& hook_mutex;
 };
 
-ChainOutcome fail(ChainOutcome outcome, std::int64_t step, const Status& status) {
-  outcome.end = ChainEnd::kFailed;
-  outcome.step = step;
-  outcome.reason = status.message();
-  outcome.status = status;
-  return outcome;
+// Splits a checkpoint's arrays into the sampler's and the potential's ("model." removed).
+void split_state(const NamedArrays& all, NamedArrays& sampler, NamedArrays& model) {
+  auto split = [](const auto& from, auto& to_sampler, auto& to_model) {
+    for (const auto& [name, values] : from) {
+      if (std::string_view(name).starts_with(kModelStatePrefix)) {
+        to_model.emplace(name.substr(kModelStatePrefix.size()), values);
+      } else {
+        to_sampler.emplace(name, values);
+      }
+    }
+  };
+  split(all.floats, sampler.floats, model.floats);
+  split(all.doubles, sampler.doubles, model.doubles);
+  split(all.words, sampler.words, model.words);
 }
 
-// One chain: next batch and gradient, step, maybe keep a sample.
-ChainOutcome run_one_chain(const ChainContext& cx, int chain) {
-  ChainOutcome outcome;
-  std::unique_ptr<PotentialFn> potential = cx.factory(chain);
-  if (!potential) {
-    return fail(std::move(outcome), 0,
-                Status::invalid_input("the potential factory returned null"));
-  }
-  Result<std::unique_ptr<Sampler>> made =
-      Sampler::create(cx.settings, cx.parameters, potential->rows(),
-                      mix_seed(cx.layout.seed, static_cast<std::uint64_t>(chain)));
-  if (!made.ok()) return fail(std::move(outcome), 0, made.status());
-  Sampler& sampler = **made;
-
-  Eigen::VectorXf theta(cx.parameters);  // (P)
-  std::int64_t step = 0, kept = 0;
-  if (cx.resume) {
-    if (cx.resume->theta.size() != cx.parameters) {
-      return fail(std::move(outcome), 0,
-                  Status::corrupt("resume state of chain " + std::to_string(chain) +
-                                  " has the wrong number of parameters"));
-    }
-    Status restored = sampler.restore_state(cx.resume->sampler);
-    if (!restored.ok()) return fail(std::move(outcome), 0, restored);
-    theta = cx.resume->theta;
-    step = cx.resume->next_step;
-    kept = cx.resume->kept;
-  } else {
-    theta.setZero();
-    if (cx.init) {
-      Status initialised = cx.init(chain, theta);
-      if (!initialised.ok()) return fail(std::move(outcome), 0, initialised);
-    }
-  }
-
-  const ChainSettings& layout = cx.layout;
-  const std::int64_t total = layout.burn_in + layout.thin * layout.samples;
-  const StepSchedule schedule(cx.settings.schedule, sampler.base_step_size(), total);
-  double acceptance_sum = 0;
-  std::int64_t acceptance_count = 0;
-  StepReport report;
-  for (; step < total; ++step) {
-    if (cx.stop && cx.stop->load(std::memory_order_relaxed)) {
-      outcome.end = ChainEnd::kStopped;
-      outcome.reason = "stop requested";
-      outcome.status = Status::interrupted("stop requested at step " + std::to_string(step));
-      break;
-    }
-    StepContext context;
-    context.step = step;
-    context.step_size = schedule.step_size(step);
-    context.explore = schedule.exploring(step);
-    context.burn_in = step < layout.burn_in;
-    report = StepReport();
-    Status status = sampler.step(theta, *potential, context, report);
-    if (status.ok() && !(report.potential <= layout.max_potential)) {
-      status = Status::diverged(fmt::format("the potential {:.6g} exceeds the bound {:.6g}",
-                                            report.potential, layout.max_potential));
-    }
-    if (!status.ok()) {
-      outcome.end =
-          status.code() == StatusCode::kDiverged ? ChainEnd::kDiverged : ChainEnd::kFailed;
-      outcome.reason = status.message();
-      outcome.status = status;
-      break;
-    }
-    if (report.acceptance && !context.burn_in) {
-      acceptance_sum += *report.acceptance;
-      ++acceptance_count;
-    }
-    if (cx.hooks.on_trace && step % layout.trace_every == 0) {
-      std::lock_guard<std::mutex> lock(cx.hook_mutex);
-      cx.hooks.on_trace(TraceRow{chain, step, report});
-    }
-    // A cyclical schedule's exploration steps run at T = 0 and are never kept.
-    const bool keep = step >= layout.burn_in && (step - layout.burn_in + 1) % layout.thin == 0 &&
-                      !context.explore;
-    if (keep) {
-      if (!theta.allFinite()) {
-        outcome.end = ChainEnd::kDiverged;
-        outcome.reason = "theta is not finite at a kept sample";
-        outcome.status = Status::diverged(outcome.reason);
-        break;
-      }
-      if (cx.hooks.on_sample) {
-        std::lock_guard<std::mutex> lock(cx.hook_mutex);
-        cx.hooks.on_sample(KeptSample{chain, step, kept, theta});
-      }
-      ++kept;
-    }
-  }
-  outcome.step = step;
-  outcome.kept = kept;
-  outcome.mean_acceptance =
-      acceptance_count > 0 ? acceptance_sum / static_cast<double>(acceptance_count) : 0.0;
-  if (outcome.end == ChainEnd::kDiverged) {
-    outcome.reason +=
-        " at step " + std::to_string(step) + "; try a smaller step size (or learning rate)";
-    outcome.status = Status::diverged(outcome.reason);
-  }
-  // After a divergence the sampler state may hold the failed step's partial
-  // update only for full-batch rules; the checkpoint is the last good position
-  // for every stochastic-gradient rule because step() checks before it updates.
-  outcome.checkpoint.next_step = step;
-  outcome.checkpoint.kept = kept;
-  outcome.checkpoint.theta = theta;
-  outcome.checkpoint.sampler = sampler.save_state();
-  return outcome;
+void add_model_state(const NamedArrays& model, NamedArrays& into) {
+  auto merge = [](const auto& from, auto& to) {
+    for (const auto& [name, values] : from) to[std::string(kModelStatePrefix) + name] = values;
+  };
+  merge(model.floats, into.floats);
+  merge(model.doubles, into.doubles);
+  merge(model.words, into.words);
 }
+
+// One chain: next batch and gradient, step, maybe keep a sample; checkpoints on the side.
+class ChainRunner {
+ public:
+  ChainRunner(const ChainContext& cx, int chain) : cx_(cx), chain_(chain) {}
+
+  ChainOutcome run() {
+    if (Status started = start(); !started.ok()) return end_early(started);
+    loop();
+    return finish();
+  }
+
+ private:
+  // Builds the potential and the sampler and places theta (fresh or resumed).
+  Status start() {
+    potential_ = cx_.factory(chain_);
+    if (!potential_) return Status::invalid_input("the potential factory returned null");
+    Result<std::unique_ptr<Sampler>> made =
+        Sampler::create(cx_.settings, cx_.parameters, potential_->rows(),
+                        mix_seed(cx_.layout.seed, static_cast<std::uint64_t>(chain_)));
+    if (!made.ok()) return made.status();
+    sampler_ = std::move(*made);
+    theta_.resize(cx_.parameters);
+    if (cx_.resume) {
+      const std::string which = "resuming chain " + std::to_string(chain_);
+      if (cx_.resume->theta.size() != cx_.parameters) {
+        return Status::corrupt(which + ": its state has " +
+                               std::to_string(cx_.resume->theta.size()) +
+                               " parameters; the network has " + std::to_string(cx_.parameters));
+      }
+      NamedArrays sampler_state, model_state;
+      split_state(cx_.resume->state, sampler_state, model_state);
+      CREDENCE_RETURN_IF_ERROR(sampler_->restore_state(sampler_state).with_context(which));
+      CREDENCE_RETURN_IF_ERROR(potential_->restore_state(model_state).with_context(which));
+      theta_ = cx_.resume->theta;
+      step_ = cx_.resume->next_step;
+      kept_ = cx_.resume->kept;
+    } else {
+      theta_.setZero();
+      if (cx_.init) CREDENCE_RETURN_IF_ERROR(cx_.init(chain_, theta_));
+    }
+    return Status::ok_status();
+  }
+
+  void loop() {
+    const ChainSettings& layout = cx_.layout;
+    const std::int64_t total = layout.burn_in + layout.thin * layout.samples;
+    const StepSchedule schedule(cx_.settings.schedule, sampler_->base_step_size(), total);
+    const bool checkpoints = static_cast<bool>(cx_.hooks.on_checkpoint);
+    StepReport report;
+    for (; step_ < total; ++step_) {
+      if (cx_.control.stop && cx_.control.stop->load(std::memory_order_relaxed)) {
+        outcome_.end = ChainEnd::kStopped;
+        outcome_.reason = "stop requested";
+        outcome_.status = Status::interrupted("stop requested at step " + std::to_string(step_));
+        return;
+      }
+      if (checkpoints && request_pending()) send(CheckpointCause::kRequested, step_);
+      StepContext context;
+      context.step = step_;
+      context.step_size = schedule.step_size(step_);
+      context.explore = schedule.exploring(step_);
+      context.burn_in = step_ < layout.burn_in;
+      report = StepReport();
+      Status status = sampler_->step(theta_, *potential_, context, report);
+      if (status.ok() && !(report.potential <= layout.max_potential)) {
+        status = Status::diverged(fmt::format("the potential {:.6g} exceeds the bound {:.6g}",
+                                              report.potential, layout.max_potential));
+      }
+      if (!status.ok()) {
+        outcome_.end =
+            status.code() == StatusCode::kDiverged ? ChainEnd::kDiverged : ChainEnd::kFailed;
+        outcome_.reason = status.message();
+        outcome_.status = status;
+        return;
+      }
+      if (report.acceptance && !context.burn_in) {
+        acceptance_sum_ += *report.acceptance;
+        ++acceptance_count_;
+      }
+      if (cx_.hooks.on_trace && step_ % layout.trace_every == 0) {
+        std::lock_guard<std::mutex> lock(cx_.hook_mutex);
+        cx_.hooks.on_trace(TraceRow{chain_, step_, report});
+      }
+      // A cyclical schedule's exploration steps run at T = 0 and are never kept.
+      const bool keep = step_ >= layout.burn_in &&
+                        (step_ - layout.burn_in + 1) % layout.thin == 0 && !context.explore;
+      if (!keep) continue;
+      if (!theta_.allFinite()) {
+        outcome_.end = ChainEnd::kDiverged;
+        outcome_.reason = "theta is not finite at a kept sample";
+        outcome_.status = Status::diverged(outcome_.reason);
+        return;
+      }
+      if (cx_.hooks.on_sample) {
+        std::lock_guard<std::mutex> lock(cx_.hook_mutex);
+        cx_.hooks.on_sample(KeptSample{chain_, step_, kept_, theta_});
+      }
+      ++kept_;
+      if (checkpoints) send(CheckpointCause::kKeptSample, step_ + 1);
+    }
+  }
+
+  ChainOutcome finish() {
+    outcome_.step = step_;
+    outcome_.kept = kept_;
+    outcome_.mean_acceptance =
+        acceptance_count_ > 0 ? acceptance_sum_ / static_cast<double>(acceptance_count_) : 0.0;
+    if (outcome_.end == ChainEnd::kDiverged) {
+      outcome_.reason +=
+          " at step " + std::to_string(step_) + "; try a smaller step size (or learning rate)";
+      outcome_.status = Status::diverged(outcome_.reason);
+    }
+    // After a divergence the sampler state may hold the failed step's partial
+    // update only for full-batch rules; theta is the last good position for every
+    // stochastic-gradient rule because step() checks before it updates.
+    fill(CheckpointCause::kEnded, step_);
+    mark_end();
+    call_checkpoint_hook();
+    outcome_.checkpoint = std::move(checkpoint_);
+    return std::move(outcome_);
+  }
+
+  // The chain could not start: report it, and hand back the state it was given so a
+  // writer that stores the final checkpoint loses nothing.
+  ChainOutcome end_early(const Status& status) {
+    outcome_.end = ChainEnd::kFailed;
+    outcome_.reason = status.message();
+    outcome_.status = status;
+    if (cx_.resume) {
+      checkpoint_ = *cx_.resume;
+      outcome_.step = cx_.resume->next_step;
+      outcome_.kept = cx_.resume->kept;
+    }
+    checkpoint_.chain = chain_;
+    checkpoint_.cause = CheckpointCause::kEnded;
+    mark_end();
+    call_checkpoint_hook();
+    outcome_.checkpoint = std::move(checkpoint_);
+    return std::move(outcome_);
+  }
+
+  bool request_pending() const {
+    return cx_.control.checkpoint_request &&
+           cx_.control.checkpoint_request->load(std::memory_order_relaxed) != served_request_;
+  }
+
+  // Fills checkpoint_ with the state before step `next_step`. theta_ keeps its size, so
+  // the copy reuses checkpoint_'s buffer; the state maps are rebuilt (a checkpoint may
+  // allocate, the step loop between checkpoints does not).
+  void fill(CheckpointCause cause, std::int64_t next_step) {
+    // Read before saving: a request that arrives meanwhile is served next time.
+    if (cx_.control.checkpoint_request) {
+      served_request_ = cx_.control.checkpoint_request->load(std::memory_order_relaxed);
+    }
+    checkpoint_.chain = chain_;
+    checkpoint_.next_step = next_step;
+    checkpoint_.kept = kept_;
+    checkpoint_.theta = theta_;
+    checkpoint_.state = sampler_->save_state();
+    model_state_ = NamedArrays();
+    potential_->save_state(model_state_);
+    add_model_state(model_state_, checkpoint_.state);
+    checkpoint_.cause = cause;
+  }
+
+  void mark_end() {
+    checkpoint_.end = outcome_.end;
+    checkpoint_.status = outcome_.status;
+    checkpoint_.reason = outcome_.reason;
+  }
+
+  void call_checkpoint_hook() {
+    if (!cx_.hooks.on_checkpoint) return;
+    std::lock_guard<std::mutex> lock(cx_.hook_mutex);
+    cx_.hooks.on_checkpoint(checkpoint_);
+  }
+
+  void send(CheckpointCause cause, std::int64_t next_step) {
+    fill(cause, next_step);
+    call_checkpoint_hook();
+  }
+
+  const ChainContext& cx_;
+  const int chain_;
+  std::unique_ptr<PotentialFn> potential_;
+  std::unique_ptr<Sampler> sampler_;
+  Eigen::VectorXf theta_;  // (P)
+  std::int64_t step_ = 0;  // the next step to run
+  std::int64_t kept_ = 0;
+  double acceptance_sum_ = 0;
+  std::int64_t acceptance_count_ = 0;
+  std::uint64_t served_request_ = 0;  // the last checkpoint generation served
+  ChainCheckpoint checkpoint_;        // reused between checkpoints
+  NamedArrays model_state_;
+  ChainOutcome outcome_;
+};
 
 }  // namespace
 
@@ -164,7 +268,7 @@ std::string_view chain_end_name(ChainEnd end) {
 Result<RunOutcome> run_chains(const SamplerSettings& settings, const ChainSettings& chains,
                               std::int64_t parameters, const PotentialFactory& factory,
                               const InitFn& init, const ChainHooks& hooks,
-                              const std::atomic<bool>* stop,
+                              const RunControl& control,
                               const std::vector<ChainCheckpoint>& resume) {
   CREDENCE_RETURN_IF_ERROR(validate(settings, parameters));
   if (chains.chains < 1 || chains.burn_in < 0 || chains.thin < 1 || chains.samples < 0 ||
@@ -186,8 +290,11 @@ Result<RunOutcome> run_chains(const SamplerSettings& settings, const ChainSettin
 #pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
   for (int c = 0; c < chains.chains; ++c) {
     const ChainCheckpoint* from = resume.empty() ? nullptr : &resume[static_cast<std::size_t>(c)];
-    ChainContext cx{settings, chains, parameters, factory, init, hooks, stop, from, hook_mutex};
-    run.chains[static_cast<std::size_t>(c)] = run_one_chain(cx, c);
+    // A chain that never reached its first checkpoint starts afresh, exactly as it
+    // would have the first time (its seed depends on the chain index only).
+    if (from != nullptr && from->next_step == 0 && from->theta.size() == 0) from = nullptr;
+    ChainContext cx{settings, chains, parameters, factory, init, hooks, control, from, hook_mutex};
+    run.chains[static_cast<std::size_t>(c)] = ChainRunner(cx, c).run();
   }
   for (std::size_t c = 0; c < run.chains.size(); ++c) {
     const ChainOutcome& outcome = run.chains[c];

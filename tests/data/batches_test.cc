@@ -1,5 +1,6 @@
 // Minibatches without replacement: coverage per epoch, reproducibility, short last batch,
-// and no heap allocation per batch (counted by replacing the global operator new).
+// seek to a saved position, and no heap allocation per batch (counted by replacing the
+// global operator new).
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -120,6 +121,92 @@ TEST(BatchIterator, SameSeedSameOrderOtherSeedOtherOrder) {
   EXPECT_NE(a, order(seed + 1));
   // The second epoch is a fresh shuffle, not a replay of the first.
   EXPECT_FALSE(std::equal(a.begin(), a.begin() + 50, a.begin() + 50));
+}
+
+TEST(BatchIterator, SeekToASavedPositionContinuesWithIdenticalBatches) {
+  // 23 rows in batches of 5 (short last batch of 3) and, separately, with drop_last:
+  // positions saved mid-epoch, at an epoch's end and at the start of a later epoch.
+  const Eigen::MatrixXf x = design(40);
+  std::vector<std::int32_t> labels(40);
+  for (std::size_t i = 0; i < labels.size(); ++i) labels[i] = static_cast<std::int32_t>(i % 3);
+  std::vector<std::int64_t> rows;
+  for (std::int64_t r = 39; r >= 0; r -= 2) rows.push_back(r);  // a subset, not sorted
+  for (std::int64_t r = 0; r < 6; r += 2) rows.push_back(r);
+  ASSERT_EQ(rows.size(), 23u);
+  const std::uint64_t seed = testing::test_seed(77);
+  for (bool drop_last : {false, true}) {
+    const BatchOptions options{.batch_rows = 5, .drop_last = drop_last};
+    BatchIterator whole(x, labels, rows, options, seed);
+    Eigen::MatrixXf xb(3, 5);
+    std::vector<std::int32_t> yb(5);
+    std::vector<BatchPosition> positions;
+    std::vector<std::vector<float>> batches;
+    for (int i = 0; i < 30; ++i) {
+      positions.push_back(whole.position());
+      BatchInfo info = whole.next(xb, yb);
+      batches.emplace_back(xb.data(), xb.data() + 3 * info.rows);
+    }
+    // The position before batch 0 is (0, 0); after an epoch's last batch it is (e, n or
+    // the dropped remainder's start), and next() moves on to epoch e + 1.
+    EXPECT_EQ(positions[0], (BatchPosition{0, 0}));
+    EXPECT_EQ(positions[5], (BatchPosition{drop_last ? 1 : 0, drop_last ? 5 : 23}));
+    for (std::size_t k : {std::size_t{3}, std::size_t{5}, std::size_t{12}, std::size_t{29}}) {
+      BatchIterator resumed(x, labels, rows, options, seed + 1000);
+      BatchIterator same_seed(x, labels, rows, options, seed);
+      ASSERT_TRUE(same_seed.seek(positions[k]).ok());
+      for (std::size_t i = k; i < batches.size(); ++i) {
+        BatchInfo info = same_seed.next(xb, yb);
+        std::vector<float> got(xb.data(), xb.data() + 3 * info.rows);
+        ASSERT_EQ(got, batches[i]) << "batch " << i << " after a seek to batch " << k
+                                   << (drop_last ? " (drop_last)" : "");
+      }
+      // A position belongs to its seed: another seed gives other batches.
+      ASSERT_TRUE(resumed.seek(positions[k]).ok());
+      resumed.next(xb, yb);
+      std::vector<float> other(xb.data(), xb.data() + 3 * 5);
+      EXPECT_NE(other, std::vector<float>(batches[k].begin(), batches[k].begin() + 15));
+    }
+  }
+}
+
+TEST(BatchIterator, EachEpochIsAFreshShuffleOfTheOriginalOrder) {
+  // Epoch e's order does not depend on the epochs before it: an iterator seeked
+  // straight to (e, 0) hands out the same rows as one that walked there.
+  const Eigen::MatrixXf x = design(30);
+  std::vector<std::int32_t> labels(30, 0);
+  std::vector<std::int64_t> rows(30);
+  for (std::size_t i = 0; i < rows.size(); ++i) rows[i] = static_cast<std::int64_t>(i);
+  const std::uint64_t seed = testing::test_seed(78);
+  BatchIterator walked(x, labels, rows, {.batch_rows = 30, .drop_last = false}, seed);
+  Eigen::MatrixXf xb(3, 30);
+  std::vector<std::int32_t> yb(30);
+  for (std::int64_t epoch = 0; epoch < 5; ++epoch) {
+    walked.next(xb, yb);
+    const Eigen::MatrixXf expected = xb;
+    BatchIterator jumped(x, labels, rows, {.batch_rows = 30, .drop_last = false}, seed);
+    ASSERT_TRUE(jumped.seek({epoch, 0}).ok());
+    EXPECT_EQ(jumped.next(xb, yb).epoch, epoch);
+    EXPECT_EQ(xb, expected) << "epoch " << epoch;
+  }
+}
+
+TEST(BatchIterator, SeekRejectsAPositionOutsideTheTable) {
+  const Eigen::MatrixXf x = design(10);
+  std::vector<std::int32_t> labels(10, 0);
+  std::vector<std::int64_t> rows = {0, 1, 2, 3, 4, 5, 6};
+  BatchIterator batches(x, labels, rows, {.batch_rows = 3, .drop_last = false}, 1);
+  Eigen::MatrixXf xb(3, 3);
+  std::vector<std::int32_t> yb(3);
+  batches.next(xb, yb);
+  for (BatchPosition bad : {BatchPosition{0, 8}, BatchPosition{-1, 0}, BatchPosition{2, -3}}) {
+    Status status = batches.seek(bad);
+    EXPECT_EQ(status.code(), StatusCode::kCorrupt);
+    EXPECT_NE(status.message().find("outside a table of 7 rows"), std::string::npos)
+        << status.message();
+  }
+  EXPECT_EQ(batches.position(), (BatchPosition{0, 3}));  // unchanged by the failures
+  EXPECT_TRUE(batches.seek({4, 7}).ok());                 // the end of an epoch is valid
+  EXPECT_EQ(batches.next(xb, yb).epoch, 5);
 }
 
 TEST(BatchIterator, NextAllocatesNothing) {

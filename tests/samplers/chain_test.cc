@@ -44,7 +44,8 @@ ChainRun run(const SamplerSettings& s, ChainSettings c, Eigen::Index p, float va
     theta.setConstant(0.5f + 0.1f * static_cast<float>(chain));
     return Status::ok_status();
   };
-  Result<RunOutcome> outcome = run_chains(s, c, p, factory, init, hooks, stop, resume);
+  Result<RunOutcome> outcome =
+      run_chains(s, c, p, factory, init, hooks, RunControl{.stop = stop}, resume);
   EXPECT_TRUE(outcome.ok()) << outcome.status().to_string();
   if (outcome.ok()) result.outcome = *outcome;
   return result;
@@ -287,7 +288,7 @@ TEST(ChainDriver, MassAdaptationReachesTheTargetSpeedAndIsRecorded) {
     }
   }
   ratio /= n;
-  const float mass = r.outcome.chains[0].checkpoint.sampler.floats.at("mass")[0];
+  const float mass = r.outcome.chains[0].checkpoint.state.floats.at("mass")[0];
   std::printf("after burn-in: mass %.4f, mean |v|/c %.4f\n", mass, ratio);
   EXPECT_NEAR(ratio, 0.5, 0.1);
   EXPECT_GT(mass, 0.2f);

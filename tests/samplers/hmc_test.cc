@@ -95,7 +95,7 @@ TEST(ExactSamplers, DualAveragingReachesTheTargetAcceptance) {
   // delta +- 0.05 (delta = 0.65).
   HmcRun r =
       run_hmc(hmc_settings(Method::kHmc, 1.0, 10, true), 10, 4000, 2000, 1, testing::test_seed(64));
-  const SamplerState& state = r.outcome.chains[0].checkpoint.sampler;
+  const SamplerState& state = r.outcome.chains[0].checkpoint.state;
   std::printf("hmc dual averaging: acceptance after warm-up %.3f, eps %.4f (bar %.4f)\n",
               r.acceptance, state.doubles.at("step")[0],
               std::exp(state.doubles.at("dual_averaging")[2]));
