@@ -1,0 +1,196 @@
+// merge_runs: joins runs of the same net and preprocessing, renumbering chains.
+#include <unistd.h>
+
+#include <algorithm>
+#include <filesystem>
+#include <sstream>
+#include <system_error>
+
+#include "credence/ensemble.h"
+#include "util/log.h"
+
+namespace credence {
+namespace {
+
+std::vector<std::string> lines_of(const std::string& text) {
+  std::vector<std::string> lines;
+  std::istringstream in(text);
+  for (std::string line; std::getline(in, line);) lines.push_back(line);
+  return lines;
+}
+
+// "line 3: 'hidden 64 relu' against 'hidden 32 relu'".
+std::string net_difference(const std::string& a, const std::string& b) {
+  std::vector<std::string> la = lines_of(a), lb = lines_of(b);
+  for (std::size_t i = 0; i < std::max(la.size(), lb.size()); ++i) {
+    const std::string x = i < la.size() ? la[i] : "(end of text)";
+    const std::string y = i < lb.size() ? lb[i] : "(end of text)";
+    if (x != y) return "line " + std::to_string(i + 1) + ": '" + y + "' against '" + x + "'";
+  }
+  return "whitespace";
+}
+
+std::string preprocessing_difference(const Preprocessing& a, const Preprocessing& b) {
+  if (a.target != b.target) return "target '" + b.target + "' against '" + a.target + "'";
+  if (a.class_names != b.class_names) return "class names";
+  if (a.columns != b.columns) return "column list";
+  if (a.features.size() != b.features.size()) return "number of features";
+  for (std::size_t i = 0; i < a.features.size(); ++i) {
+    if (!(a.features[i] == b.features[i])) {
+      return "encoding of feature '" + b.features[i].name + "' (mean, scale or categories)";
+    }
+  }
+  if (a.impute != b.impute) return "missing-value handling";
+  if (a.unseen != b.unseen) return "unseen-category policy";
+  return "input width or class order";
+}
+
+// Every name of `from` not yet in `into` is added (sizes of names already present win).
+template <typename Map>
+void add_names(Map& into, const Map& from) {
+  for (const auto& [name, values] : from) into.try_emplace(name, values.size());
+}
+
+// Gives `state` exactly the template's names and sizes (zeros where it had none).
+template <typename Map>
+void conform(Map& state, const Map& templ) {
+  Map out;
+  for (const auto& [name, values] : templ) {
+    auto found = state.find(name);
+    if (found != state.end() && found->second.size() == values.size()) {
+      out[name] = found->second;
+    } else {
+      out[name].assign(values.size(), {});
+    }
+  }
+  state = std::move(out);
+}
+
+Status merge_into(const std::vector<std::unique_ptr<RunReader>>& runs, const RunHeader& header,
+                  const std::string& temp) {
+  Result<std::unique_ptr<RunWriter>> writer = RunWriter::create(temp, header, true);
+  if (!writer.ok()) return writer.status();
+  RunStatus final_status = RunStatus::kComplete;
+  int chain_base = 0;
+  for (const auto& run : runs) {
+    const RunHeader& h = run->header();
+    Result<Eigen::MatrixXf> theta = run->samples();  // (P, S)
+    Result<std::vector<std::int32_t>> chains = run->sample_chains();
+    Result<std::vector<std::int64_t>> steps = run->sample_steps();
+    Result<std::vector<std::int64_t>> indices = run->sample_indices();
+    Result<std::vector<double>> log_lik = run->probe_log_lik();
+    Result<Eigen::MatrixXf> probe = run->probe_prob();         // (R, S)
+    Result<Eigen::MatrixXf> projections = run->projections();  // (J, S)
+    Result<Eigen::MatrixXf> norms = run->layer_sq_norms();     // (L, S)
+    Result<std::vector<ChainState>> states = run->chain_states();
+    for (const Status& s :
+         {theta.status(), chains.status(), steps.status(), indices.status(), log_lik.status(),
+          probe.status(), projections.status(), norms.status(), states.status()}) {
+      CREDENCE_RETURN_IF_ERROR(s);
+    }
+    for (Eigen::Index j = 0; j < theta->cols(); ++j) {
+      const auto k = static_cast<std::size_t>(j);
+      SampleRecord record;
+      record.chain = chain_base + (*chains)[k];
+      record.step = (*steps)[k];
+      record.index = (*indices)[k];
+      record.theta = {theta->col(j).data(), static_cast<std::size_t>(theta->rows())};
+      record.probe_log_lik = (*log_lik)[k];
+      record.probe_prob = {probe->col(j).data(), static_cast<std::size_t>(probe->rows())};
+      record.projections = {projections->col(j).data(),
+                            static_cast<std::size_t>(projections->rows())};
+      record.layer_sq_norms = {norms->col(j).data(), static_cast<std::size_t>(norms->rows())};
+      CREDENCE_RETURN_IF_ERROR((*writer)->append_sample(record));
+    }
+    for (int c = 0; c < h.chains; ++c) {
+      Result<std::vector<TraceRecord>> traces = run->traces(c);
+      if (!traces.ok()) return traces.status();
+      for (TraceRecord trace : *traces) {
+        trace.chain = chain_base + c;
+        CREDENCE_RETURN_IF_ERROR((*writer)->append_trace(trace));
+      }
+    }
+    for (ChainState state : *states) {
+      if (static_cast<std::int64_t>(state.theta.size()) != header.parameters)
+        continue;  // never checkpointed
+      state.chain += chain_base;
+      conform(state.state.floats, header.state_template.floats);
+      conform(state.state.doubles, header.state_template.doubles);
+      conform(state.state.words, header.state_template.words);
+      CREDENCE_RETURN_IF_ERROR((*writer)->set_chain_state(std::move(state)));
+    }
+    CREDENCE_RETURN_IF_ERROR((*writer)->commit());
+    if (final_status == RunStatus::kComplete) final_status = run->summary().status;
+    chain_base += h.chains;
+  }
+  return (*writer)->finish(final_status);
+}
+
+}  // namespace
+
+Status merge_runs(std::span<const std::string> inputs, const std::string& output, bool overwrite) {
+  if (inputs.empty()) return Status::invalid_input("merging run files: no input given");
+  std::error_code error;
+  if (std::filesystem::exists(output, error) && !overwrite) {
+    return Status::invalid_input("merging run files: " + output +
+                                 " already exists; choose another --out or pass --force to "
+                                 "replace it");
+  }
+  std::vector<std::unique_ptr<RunReader>> runs;
+  for (const std::string& input : inputs) {
+    Result<std::unique_ptr<RunReader>> run = RunReader::open(input);
+    if (!run.ok()) return run.status();
+    runs.push_back(std::move(*run));
+  }
+  const RunHeader& first = runs[0]->header();
+  RunHeader header = first;
+  header.chains = 0;
+  for (std::size_t i = 0; i < runs.size(); ++i) {
+    const RunHeader& h = runs[i]->header();
+    const std::string pair = inputs[i] + " and " + inputs[0];
+    if (h.parameters != first.parameters) {
+      return Status::invalid_input("merging run files: " + inputs[i] + " has " +
+                                   std::to_string(h.parameters) + " parameters but " + inputs[0] +
+                                   " has " + std::to_string(first.parameters) +
+                                   "; only runs of the same net and data can be merged");
+    }
+    if (h.net_text != first.net_text) {
+      return Status::invalid_input("merging run files: the net text of " + pair + " differs at " +
+                                   net_difference(first.net_text, h.net_text) +
+                                   "; only runs of the same net can be merged");
+    }
+    if (!(h.preprocessing == first.preprocessing)) {
+      return Status::invalid_input("merging run files: the preprocessing of " + pair +
+                                   " differs in its " +
+                                   preprocessing_difference(first.preprocessing, h.preprocessing) +
+                                   "; only runs trained on the same data split can be merged");
+    }
+    if (h.probe_rows != first.probe_rows || h.projections != first.projections ||
+        h.layers != first.layers) {
+      return Status::invalid_input("merging run files: the tracked summaries of " + pair +
+                                   " differ (probe rows, projections or layers); train both "
+                                   "with the same split and settings");
+    }
+    if (h.data_sha256 != first.data_sha256) {
+      log().warn("merging run files: {} was trained on a data file with another SHA-256 than {}",
+                 inputs[i], inputs[0]);
+    }
+    header.chains += h.chains;
+    header.samples_per_chain = std::max(header.samples_per_chain, h.samples_per_chain);
+    add_names(header.state_template.floats, h.state_template.floats);
+    add_names(header.state_template.doubles, h.state_template.doubles);
+    add_names(header.state_template.words, h.state_template.words);
+  }
+  const std::string temp = output + ".partial-" + std::to_string(::getpid());
+  Status status = merge_into(runs, header, temp);
+  if (status.ok()) {
+    std::filesystem::rename(temp, output, error);
+    if (error)
+      status = Status::io_error("merging run files: cannot rename " + temp + " to " + output +
+                                ": " + error.message());
+  }
+  if (!status.ok()) std::filesystem::remove(temp, error);
+  return status;
+}
+
+}  // namespace credence

@@ -1,0 +1,214 @@
+// RunReader: opens a run file (also one left by a crash) and reads its committed rows.
+#include <filesystem>
+#include <system_error>
+
+#include "credence/ensemble.h"
+#include "ensemble/h5_util.h"
+#include "ensemble/layout.h"
+#include "ensemble/run_file.h"
+
+namespace credence {
+using namespace credence::layout;
+
+struct RunReader::Impl {
+  std::string path;
+  H5::H5File file;
+  RunHeader header;
+  RunSummary summary;
+  run_file::Committed committed;
+
+  std::string context() const { return "reading run file " + path; }
+
+  // Rows [0, S) of /samples/<name> into a (cols, S) column-major matrix.
+  Result<Eigen::MatrixXf> read_matrix(const char* name, std::int64_t cols) const {
+    Eigen::MatrixXf out(cols, committed.samples);
+    Status status = h5::guard(context(), StatusCode::kCorrupt, [&]() {
+      H5::DataSet set = file.openGroup(kSamples).openDataSet(name);
+      if (h5::table_cols(set) != std::max<std::int64_t>(cols, 0) && cols > 0) {
+        return Status::corrupt(context() + ": samples/" + name + " has the wrong width");
+      }
+      if (cols > 0) h5::read_rows(set, 0, committed.samples, out.data(), h5::Type<float>::mem());
+      return Status::ok_status();
+    });
+    if (!status.ok()) return status;
+    return out;
+  }
+
+  template <typename T>
+  Result<std::vector<T>> read_sample_column(const char* name) const {
+    std::vector<T> out(static_cast<std::size_t>(committed.samples));
+    Status status = h5::guard(context(), StatusCode::kCorrupt, [&]() {
+      h5::read_rows(file.openGroup(kSamples).openDataSet(name), 0, committed.samples, out.data(),
+                    h5::Type<T>::mem());
+      return Status::ok_status();
+    });
+    if (!status.ok()) return status;
+    return out;
+  }
+
+  // Reads one value at each table's last committed row, so a file cut short fails here
+  // rather than later.
+  void probe_last_rows() const {
+    if (committed.samples > 0) {
+      H5::Group samples = file.openGroup(kSamples);
+      std::vector<float> row(static_cast<std::size_t>(header.parameters));
+      h5::read_rows(samples.openDataSet(kTheta), committed.samples - 1, 1, row.data(),
+                    h5::Type<float>::mem());
+      std::int64_t value = 0;
+      h5::read_rows(samples.openDataSet(kStep), committed.samples - 1, 1, &value,
+                    h5::Type<std::int64_t>::mem());
+    }
+    H5::Group traces = file.openGroup(kTraces);
+    for (int c = 0; c < header.chains; ++c) {
+      const std::int64_t rows = committed.traces[static_cast<std::size_t>(c)];
+      if (rows == 0) continue;
+      double value = 0;
+      h5::read_rows(traces.openGroup(trace_group(c)).openDataSet(kPotential), rows - 1, 1, &value,
+                    h5::Type<double>::mem());
+    }
+  }
+};
+
+RunReader::RunReader(std::unique_ptr<Impl> impl) : impl_(std::move(impl)) {}
+RunReader::~RunReader() = default;
+
+const RunHeader& RunReader::header() const { return impl_->header; }
+const RunSummary& RunReader::summary() const { return impl_->summary; }
+
+Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
+  h5::silence_errors();
+  const std::string context = "reading run file " + path;
+  std::error_code error;
+  if (!std::filesystem::exists(path, error)) {
+    return Status::invalid_input(context + ": no such file; check the path");
+  }
+  if (!std::filesystem::is_regular_file(path, error)) {
+    return Status::invalid_input(context + ": not a regular file; give the .h5 run file");
+  }
+  if (H5Fis_hdf5(path.c_str()) <= 0) {
+    return Status::corrupt(context +
+                           ": not an HDF5 file; give the .h5 file written by "
+                           "'credence train'");
+  }
+  auto impl = std::make_unique<Impl>();
+  impl->path = path;
+  // A plain open fails on a file whose writer was killed (its superblock still says
+  // "open for SWMR writing"); a SWMR-read open reads it without modifying it.
+  bool recovered = false;
+  hid_t id = H5Fopen(path.c_str(), H5F_ACC_RDONLY, H5P_DEFAULT);
+  if (id < 0) {
+    hid_t fapl = H5Pcreate(H5P_FILE_ACCESS);
+    H5Pset_libver_bounds(fapl, H5F_LIBVER_LATEST, H5F_LIBVER_LATEST);
+    // SWMR readers retry a metadata block whose checksum fails (a writer may be
+    // mid-flush), by default 100 times with growing pauses: minutes on a damaged
+    // file. A live writer's flush settles within a few attempts.
+    H5Pset_metadata_read_attempts(fapl, 10);
+    id = H5Fopen(path.c_str(), H5F_ACC_RDONLY | H5F_ACC_SWMR_READ, fapl);
+    H5Pclose(fapl);
+    recovered = true;
+  }
+  if (id < 0) {
+    return Status::corrupt(context +
+                           ": the file is damaged or truncated (HDF5 cannot open "
+                           "it); use an intact copy or train the run again");
+  }
+  impl->file = h5::adopt<H5::H5File>(id);
+  // A SWMR-read open skips HDF5's end-of-file check and reads past the end as zeros,
+  // so compare the allocated end with the bytes on disk here.
+  haddr_t eoa = 0;
+  const auto bytes = std::filesystem::file_size(path, error);
+  if (!error && H5Fget_eoa(id, &eoa) >= 0 && eoa > static_cast<haddr_t>(bytes)) {
+    return Status::corrupt(context + ": the file is truncated (" + std::to_string(bytes) +
+                           " bytes on disk, " + std::to_string(eoa) +
+                           " expected); use an intact copy or train the run again");
+  }
+  Status status =
+      h5::guard(context + ": the file is damaged or truncated", StatusCode::kCorrupt, [&]() {
+        CREDENCE_RETURN_IF_ERROR(run_file::check_format(impl->file, path));
+        impl->header = run_file::read_header(impl->file);
+        impl->committed = run_file::read_committed(impl->file, impl->header);
+        impl->probe_last_rows();
+        RunSummary& s = impl->summary;
+        s.status = run_file::read_run_status(impl->file);
+        s.recovered = recovered;
+        s.samples = impl->committed.samples;
+        s.kept_per_chain = impl->committed.samples_per_chain;
+        for (const ChainState& state : impl->committed.states) {
+          s.chain_status.push_back(state.status);
+          s.chain_reason.push_back(state.reason);
+          s.steps_per_chain.push_back(state.next_step);
+        }
+        return Status::ok_status();
+      });
+  if (!status.ok()) return status;
+  impl->summary.file_bytes = static_cast<std::int64_t>(std::filesystem::file_size(path, error));
+  return std::unique_ptr<RunReader>(new RunReader(std::move(impl)));
+}
+
+Result<Eigen::MatrixXf> RunReader::samples() const {
+  return impl_->read_matrix(kTheta, impl_->header.parameters);
+}
+
+Result<std::vector<std::int32_t>> RunReader::sample_chains() const {
+  return impl_->read_sample_column<std::int32_t>(kChain);
+}
+
+Result<std::vector<std::int64_t>> RunReader::sample_steps() const {
+  return impl_->read_sample_column<std::int64_t>(kStep);
+}
+
+Result<std::vector<std::int64_t>> RunReader::sample_indices() const {
+  return impl_->read_sample_column<std::int64_t>(kIndex);
+}
+
+Result<std::vector<double>> RunReader::probe_log_lik() const {
+  return impl_->read_sample_column<double>(kProbeLogLik);
+}
+
+Result<Eigen::MatrixXf> RunReader::probe_prob() const {
+  return impl_->read_matrix(kProbeProb, static_cast<std::int64_t>(impl_->header.probe_rows.size()));
+}
+
+Result<Eigen::MatrixXf> RunReader::projections() const {
+  return impl_->read_matrix(kProjections, impl_->header.projections);
+}
+
+Result<Eigen::MatrixXf> RunReader::layer_sq_norms() const {
+  return impl_->read_matrix(kLayerSqNorms, impl_->header.layers);
+}
+
+Result<std::vector<TraceRecord>> RunReader::traces(int chain) const {
+  const Impl& m = *impl_;
+  if (chain < 0 || chain >= m.header.chains) {
+    return Status::invalid_input(m.context() + ": no chain " + std::to_string(chain) +
+                                 " (the run has " + std::to_string(m.header.chains) + ")");
+  }
+  const std::int64_t rows = m.committed.traces[static_cast<std::size_t>(chain)];
+  std::vector<TraceRecord> out(static_cast<std::size_t>(rows));
+  Status status = h5::guard(m.context(), StatusCode::kCorrupt, [&]() {
+    H5::Group group = m.file.openGroup(kTraces).openGroup(trace_group(chain));
+    std::vector<std::int64_t> step(out.size());
+    h5::read_rows(group.openDataSet(kStep), 0, rows, step.data(), h5::Type<std::int64_t>::mem());
+    std::vector<double> column(out.size());
+    auto read = [&](const char* name, double TraceRecord::*field) {
+      h5::read_rows(group.openDataSet(name), 0, rows, column.data(), h5::Type<double>::mem());
+      for (std::size_t i = 0; i < out.size(); ++i) out[i].*field = column[i];
+    };
+    read(kPotential, &TraceRecord::potential);
+    read(kAccuracy, &TraceRecord::accuracy);
+    read(kStepSize, &TraceRecord::step_size);
+    read(kSpeedRatio, &TraceRecord::speed_ratio);
+    read(kAcceptance, &TraceRecord::acceptance);
+    for (std::size_t i = 0; i < out.size(); ++i) {
+      out[i].chain = chain;
+      out[i].step = step[i];
+    }
+    return Status::ok_status();
+  });
+  if (!status.ok()) return status;
+  return out;
+}
+
+Result<std::vector<ChainState>> RunReader::chain_states() const { return impl_->committed.states; }
+
+}  // namespace credence
