@@ -6,10 +6,12 @@
 #pragma once
 
 #include "credence/data.h"
+#include "credence/ensemble.h"
 #include "credence/net.h"
 #include "credence/posterior.h"
 #include "credence/samplers.h"
 #include "credence/status.h"
+#include "credence/summaries.h"
 #include "credence/synth.h"
 #include "credence/table_potential.h"
 #include "credence/version.h"

@@ -17,6 +17,7 @@ namespace credence::cli {
 struct GlobalOptions {
   bool quiet = false;               // warnings and errors only, no progress
   std::string log_level = "info";   // trace, debug, info, warn, error, off
+  std::string command_line;         // argv joined by spaces, recorded as provenance
 };
 
 struct Command {
@@ -28,5 +29,8 @@ using CommandList = std::vector<Command>;
 
 void add_schema_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 void add_synth_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_inspect_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_merge_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 
 }  // namespace credence::cli

@@ -7,8 +7,8 @@ namespace credence::cli {
 
 void add_data_options(CLI::App& command, DataFlags& flags) {
   DataOptions& o = flags.options;
+  // Required, but checked in resolve_data_options: `train --resume` takes it from the run.
   command.add_option("--target", o.schema.target, "Class column, by name (required)")
-      ->required()
       ->group("Data");
   command.add_option("--delimiter", flags.delimiter, "Field separator: one character, or 'tab'")
       ->capture_default_str()
@@ -55,6 +55,9 @@ void add_data_options(CLI::App& command, DataFlags& flags) {
 
 Result<DataOptions> resolve_data_options(const DataFlags& flags) {
   DataOptions o = flags.options;
+  if (o.schema.target.empty()) {
+    return Status::invalid_input("--target is required: name the class column (--target COLUMN)");
+  }
   if (flags.delimiter == "tab" || flags.delimiter == "\\t") {
     o.read.delimiter = '\t';
   } else if (flags.delimiter.size() == 1 && flags.delimiter[0] != '"' &&

@@ -23,12 +23,16 @@ int run(int argc, char** argv) {
   app.fallthrough();
 
   GlobalOptions global;
+  for (int i = 0; i < argc; ++i) global.command_line += (i ? " " : "") + std::string(argv[i]);
   app.add_flag("-q,--quiet", global.quiet, "Only warnings and errors on stderr; no progress");
   app.add_option("--log-level", global.log_level, "trace, debug, info, warn, error or off")
       ->capture_default_str();
 
   CommandList commands;
   add_schema_command(app, global, commands);
+  add_train_command(app, global, commands);
+  add_inspect_command(app, global, commands);
+  add_merge_command(app, global, commands);
   add_synth_command(app, global, commands);
 
   try {

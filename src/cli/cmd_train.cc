@@ -1,0 +1,159 @@
+// `credence train`: flags to a TrainRequest, then run_train().
+#include <fmt/format.h>
+
+#include <sstream>
+
+#include "cli/commands.h"
+#include "cli/train_job.h"
+
+namespace credence::cli {
+namespace {
+
+struct TrainFlags {
+  TrainRequest request;
+  DataFlags data;
+  std::string method = "sgld";
+  std::string hidden;            // "64,64"
+  std::string schedule = "constant";
+  std::string tempering = "posterior";
+  bool fixed_mass = false;
+};
+
+Result<std::vector<Index>> parse_widths(const std::string& text) {
+  std::vector<Index> widths;
+  if (text.empty() || text == "none" || text == "0") return widths;
+  std::stringstream stream(text);
+  for (std::string piece; std::getline(stream, piece, ',');) {
+    char* end = nullptr;
+    const long long width = std::strtoll(piece.c_str(), &end, 10);
+    if (piece.empty() || *end != '\0' || width < 1) {
+      return Status::invalid_input(fmt::format(
+          "--hidden '{}': '{}' is not a positive layer width; write widths like 64,64 "
+          "(or 'none' for no hidden layer)", text, piece));
+    }
+    widths.push_back(static_cast<Index>(width));
+  }
+  return widths;
+}
+
+Status resolve(TrainFlags& flags) {
+  TrainRequest& r = flags.request;
+  if (!r.resume_path.empty()) return Status::ok_status();  // everything comes from the run file
+  if (r.data_path.empty()) return Status::invalid_input("give the data file: credence train DATA.csv ...");
+  if (r.out_path.empty()) return Status::invalid_input("give --out RUN.h5 (where the run is written)");
+  Result<DataOptions> data = resolve_data_options(flags.data);
+  if (!data.ok()) return data.status();
+  r.data = *data;
+  if (r.data.schema.target.empty()) return Status::invalid_input("give --target COLUMN (the class column)");
+  Result<Method> method = parse_method(flags.method);
+  if (!method.ok()) return method.status().with_context("--method");
+  r.settings.sampler.method = *method;
+  Result<Tempering> tempering = parse_tempering(flags.tempering);
+  if (!tempering.ok()) return tempering.status().with_context("--tempering");
+  r.settings.tempering = *tempering;
+  if (flags.schedule == "constant") {
+    r.settings.sampler.schedule.kind = ScheduleKind::kConstant;
+  } else if (flags.schedule == "polynomial") {
+    r.settings.sampler.schedule.kind = ScheduleKind::kPolynomial;
+  } else if (flags.schedule == "cyclical") {
+    r.settings.sampler.schedule.kind = ScheduleKind::kCyclical;
+  } else {
+    return Status::invalid_input(fmt::format(
+        "--schedule '{}' is not one of constant, polynomial, cyclical", flags.schedule));
+  }
+  r.settings.sampler.relativistic.adapt_mass = !flags.fixed_mass;
+  if (!r.net_path.empty() && !flags.hidden.empty()) {
+    return Status::invalid_input("give either --net FILE or --hidden LIST, not both");
+  }
+  Result<std::vector<Index>> widths = parse_widths(flags.hidden.empty() ? "32,32" : flags.hidden);
+  if (!widths.ok()) return widths.status();
+  r.hidden = *widths;
+  r.settings.chains.seed = r.data.split.seed;
+  return Status::ok_status();
+}
+
+}  // namespace
+
+void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& commands) {
+  auto flags = std::make_shared<TrainFlags>();
+  TrainRequest& r = flags->request;
+  TrainSettings& s = r.settings;
+  CLI::App* sub = app.add_subcommand(
+      "train", "Fit preprocessing, split, run chains (or an optimizer), write the run file");
+  sub->add_option("data", r.data_path, "The labelled table (CSV with a header row)");
+  add_data_options(*sub, flags->data);
+  sub->add_option("--out", r.out_path, "Run file to write (HDF5)");
+  sub->add_flag("--force", r.force, "Overwrite an existing run file");
+  sub->add_option("--resume", r.resume_path,
+                  "Continue an interrupted run in this file (settings come from the file)");
+
+  auto* net = sub->add_option_group("network");
+  net->add_option("--net", r.net_path, "Net file (see nets/README.md)");
+  net->add_option("--hidden", flags->hidden, "Hidden layer widths, e.g. 64,64 ('none': no hidden layer) [32,32]");
+  net->add_option("--activation", r.activation, "relu, tanh, sigmoid, softplus or identity")
+      ->capture_default_str();
+  net->add_option("--prior-scale", r.prior_scale,
+                  "Weight prior scale s (sd s/sqrt(fan-in)); with --hidden only")
+      ->capture_default_str();
+
+  auto* method = sub->add_option_group("method");
+  method->add_option("--method", flags->method,
+                     "sgld, psgld, sghmc, rsghmc, sgd, momentum, rsgd, adam, hmc or rhmc")
+      ->capture_default_str();
+  method->add_option("--lr", s.sampler.learning_rate,
+                     "Learning rate on the mean loss (converted to the method's step)")
+      ->capture_default_str();
+  method->add_option("--step-size", s.sampler.step_size,
+                     "Step size in potential units; overrides --lr when > 0");
+  method->add_option("--temperature", s.sampler.temperature, "T: 1 = Bayes posterior, < 1 cold")
+      ->capture_default_str();
+  method->add_option("--tempering", flags->tempering, "posterior or likelihood")
+      ->capture_default_str();
+  method->add_option("--schedule", flags->schedule, "constant, polynomial or cyclical")
+      ->capture_default_str();
+  method->add_option("--cycles", s.sampler.schedule.cycles, "cyclical: number of cycles")
+      ->capture_default_str();
+  method->add_option("--friction", s.sampler.sghmc.alpha,
+                     "sghmc/momentum: friction alpha (momentum 1 - alpha)")
+      ->capture_default_str();
+  method->add_option("--max-move", s.sampler.relativistic.max_move,
+                     "rsghmc/rsgd/rhmc: largest move of one weight per step (sets c)")
+      ->capture_default_str();
+  method->add_option("--speed", s.sampler.relativistic.speed,
+                     "rsghmc/rsgd/rhmc: speed of light c (overrides --max-move)");
+  method->add_option("--mass", s.sampler.relativistic.mass,
+                     "rsghmc/rsgd/rhmc: rest mass m (0: derived from the target speed)");
+  method->add_flag("--fixed-mass", flags->fixed_mass, "rsghmc: do not adapt m during burn-in");
+  method->add_option("--leapfrog", s.sampler.hmc.leapfrog_steps, "hmc/rhmc: leapfrog steps")
+      ->capture_default_str();
+  method->add_option("--target-accept", s.sampler.hmc.target_acceptance,
+                     "hmc/rhmc: acceptance rate the step size adapts to")
+      ->capture_default_str();
+
+  auto* chains = sub->add_option_group("chains");
+  chains->add_option("--chains", s.chains.chains, "Independent chains, run in parallel")
+      ->capture_default_str();
+  chains->add_option("--burn-in", s.chains.burn_in, "Steps before the first kept sample")
+      ->capture_default_str();
+  chains->add_option("--thin", s.chains.thin, "Keep every N-th step after burn-in")
+      ->capture_default_str();
+  chains->add_option("--samples", s.chains.samples, "Kept samples per chain")
+      ->capture_default_str();
+  chains->add_option("--batch", s.batches.batch_rows, "Minibatch rows")->capture_default_str();
+  chains->add_option("--steps", s.steps, "Optimizers: steps per chain (default from --epochs)");
+  chains->add_option("--epochs", s.epochs, "Optimizers: passes over the training rows")
+      ->capture_default_str();
+  chains->add_option("--threads", s.chains.threads, "Threads for chains (0: one per core)")
+      ->capture_default_str();
+  chains->add_option("--flush-seconds", s.flush_seconds,
+                     "Longest time a kept sample waits before reaching the disk")
+      ->capture_default_str();
+
+  commands.push_back({sub, [flags, &global] {
+                        CREDENCE_RETURN_IF_ERROR(resolve(*flags));
+                        flags->request.quiet = global.quiet;
+                        return run_train(flags->request);
+                      }});
+}
+
+}  // namespace credence::cli

@@ -1,0 +1,203 @@
+// One list of setting fields, walked in both directions: to the run file and back.
+#include "cli/run_settings.h"
+
+#include <fmt/format.h>
+
+#include <type_traits>
+
+namespace credence::cli {
+namespace {
+
+// Calls visit(name, field) for every setting. The one place that names them, so
+// writing and reading can never disagree.
+template <typename Visit>
+void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
+  SamplerSettings& m = s.sampler;
+  visit("method", m.method);
+  visit("step_size", m.step_size);
+  visit("learning_rate", m.learning_rate);
+  visit("temperature", m.temperature);
+  visit("tempering", s.tempering);
+  visit("schedule", m.schedule.kind);
+  visit("schedule_gamma", m.schedule.gamma);
+  visit("schedule_end_ratio", m.schedule.end_ratio);
+  visit("schedule_cycles", m.schedule.cycles);
+  visit("schedule_exploration_fraction", m.schedule.exploration_fraction);
+  visit("psgld_rho", m.psgld.rho);
+  visit("psgld_lambda", m.psgld.lambda);
+  visit("psgld_max_preconditioner_ratio", m.psgld.max_preconditioner_ratio);
+  visit("psgld_freeze_after_burn_in", m.psgld.freeze_after_burn_in);
+  visit("psgld_gamma_correction", m.psgld.gamma_correction);
+  visit("sghmc_alpha", m.sghmc.alpha);
+  visit("sghmc_correct_gradient_noise", m.sghmc.correct_gradient_noise);
+  visit("sghmc_resample_every", m.sghmc.resample_every);
+  visit("relativistic_speed", m.relativistic.speed);
+  visit("relativistic_max_move", m.relativistic.max_move);
+  visit("relativistic_mass", m.relativistic.mass);
+  visit("relativistic_joint", m.relativistic.joint);
+  visit("relativistic_friction", m.relativistic.friction);
+  visit("relativistic_alpha", m.relativistic.alpha);
+  visit("relativistic_adapt_mass", m.relativistic.adapt_mass);
+  visit("relativistic_target_speed_ratio", m.relativistic.target_speed_ratio);
+  visit("relativistic_adapt_window", m.relativistic.adapt_window);
+  visit("relativistic_correct_gradient_noise", m.relativistic.correct_gradient_noise);
+  visit("relativistic_refresh_sweeps", m.relativistic.refresh_sweeps);
+  visit("adam_beta1", m.adam.beta1);
+  visit("adam_beta2", m.adam.beta2);
+  visit("adam_epsilon", m.adam.epsilon);
+  visit("hmc_leapfrog_steps", m.hmc.leapfrog_steps);
+  visit("hmc_adapt_step", m.hmc.adapt_step);
+  visit("hmc_target_acceptance", m.hmc.target_acceptance);
+  visit("hmc_jitter", m.hmc.jitter);
+  visit("hmc_mass", m.hmc.mass);
+  visit("chains", s.chains.chains);
+  visit("burn_in", s.chains.burn_in);
+  visit("thin", s.chains.thin);
+  visit("samples", s.chains.samples);
+  visit("seed", s.chains.seed);
+  visit("max_potential", s.chains.max_potential);
+  visit("trace_every", s.chains.trace_every);
+  visit("batch_rows", s.batches.batch_rows);
+  visit("drop_last", s.batches.drop_last);
+  visit("optimizer_steps", s.steps);
+  visit("optimizer_epochs", s.epochs);
+  visit("probe_rows", s.probe_rows);
+  visit("projections", s.projections);
+  visit("init_seed", s.init_seed);
+  visit("flush_seconds", s.flush_seconds);
+  visit("csv_delimiter", read.delimiter);
+  visit("csv_na_tokens", read.na_tokens);
+}
+
+// Enums travel as their names, so a Python reader sees "sgld", not 0.
+std::string enum_text(Method v) { return std::string(method_name(v)); }
+std::string enum_text(Tempering v) { return std::string(tempering_name(v)); }
+std::string enum_text(ScheduleKind v) {
+  switch (v) {
+    case ScheduleKind::kConstant: return "constant";
+    case ScheduleKind::kPolynomial: return "polynomial";
+    case ScheduleKind::kCyclical: return "cyclical";
+  }
+  return "constant";
+}
+Status enum_parse(const std::string& text, Method& v) {
+  Result<Method> r = parse_method(text);
+  if (!r.ok()) return r.status();
+  v = *r;
+  return Status::ok_status();
+}
+Status enum_parse(const std::string& text, Tempering& v) {
+  Result<Tempering> r = parse_tempering(text);
+  if (!r.ok()) return r.status();
+  v = *r;
+  return Status::ok_status();
+}
+Status enum_parse(const std::string& text, ScheduleKind& v) {
+  for (ScheduleKind k : {ScheduleKind::kConstant, ScheduleKind::kPolynomial, ScheduleKind::kCyclical}) {
+    if (enum_text(k) == text) {
+      v = k;
+      return Status::ok_status();
+    }
+  }
+  return Status::invalid_input("unknown schedule '" + text + "'; use constant, polynomial or cyclical");
+}
+
+template <typename T>
+constexpr bool kIsEnum = std::is_enum_v<T>;
+
+// Missing-value tokens as one string: joined by the ASCII unit separator, which
+// cannot appear in a CSV cell that means "missing".
+constexpr char kListSeparator = '\x1f';
+
+SettingValue to_value(const auto& field) {
+  using T = std::decay_t<decltype(field)>;
+  if constexpr (kIsEnum<T>) {
+    return enum_text(field);
+  } else if constexpr (std::is_same_v<T, bool>) {
+    return std::int64_t{field ? 1 : 0};
+  } else if constexpr (std::is_same_v<T, char>) {
+    return std::string(1, field);
+  } else if constexpr (std::is_same_v<T, std::vector<std::string>>) {
+    std::string joined;
+    for (std::size_t i = 0; i < field.size(); ++i) {
+      if (i) joined += kListSeparator;
+      joined += field[i];
+    }
+    return joined;
+  } else if constexpr (std::is_floating_point_v<T>) {
+    return static_cast<double>(field);
+  } else {
+    static_assert(std::is_integral_v<T>, "a setting is an enum, bool, number or string list");
+    return static_cast<std::int64_t>(field);
+  }
+}
+
+template <typename T>
+Status from_value(const SettingValue& value, const std::string& name, T& field) {
+  auto mistyped = [&](const char* expected) {
+    return Status::corrupt(fmt::format("setting '{}' in the run file is not {}", name, expected));
+  };
+  if constexpr (kIsEnum<T>) {
+    if (!std::holds_alternative<std::string>(value)) return mistyped("a name");
+    return enum_parse(std::get<std::string>(value), field);
+  } else if constexpr (std::is_same_v<T, char>) {
+    if (!std::holds_alternative<std::string>(value) || std::get<std::string>(value).size() != 1) {
+      return mistyped("one character");
+    }
+    field = std::get<std::string>(value)[0];
+  } else if constexpr (std::is_same_v<T, std::vector<std::string>>) {
+    if (!std::holds_alternative<std::string>(value)) return mistyped("text");
+    field.clear();
+    const std::string& joined = std::get<std::string>(value);
+    std::size_t start = 0;
+    for (std::size_t i = 0; i <= joined.size(); ++i) {
+      if (i == joined.size() || joined[i] == kListSeparator) {
+        field.push_back(joined.substr(start, i - start));
+        start = i + 1;
+      }
+    }
+  } else if constexpr (std::is_floating_point_v<T>) {
+    if (!std::holds_alternative<double>(value)) return mistyped("a number");
+    field = static_cast<T>(std::get<double>(value));
+  } else {
+    if (!std::holds_alternative<std::int64_t>(value)) return mistyped("an integer");
+    field = static_cast<T>(std::get<std::int64_t>(value));
+  }
+  return Status::ok_status();
+}
+
+}  // namespace
+
+Settings to_values(const TrainSettings& settings, const DataOptions& data) {
+  // visit_settings needs mutable references; work on copies.
+  TrainSettings s = settings;
+  ReadOptions read = data.read;
+  Settings values;
+  visit_settings(s, read, [&](const char* name, auto& field) {
+    values.emplace_back(name, to_value(field));
+  });
+  // Data flags are recorded for provenance only; resume uses the stored split and
+  // preprocessing.
+  values.emplace_back("data_target", data.schema.target);
+  values.emplace_back("data_split_seed", static_cast<std::int64_t>(data.split.seed));
+  values.emplace_back("data_test_fraction", data.split.test_fraction);
+  values.emplace_back("data_val_fraction", data.split.val_fraction);
+  return values;
+}
+
+Status from_values(const Settings& values, TrainSettings& settings, ReadOptions& read) {
+  Status status;
+  visit_settings(settings, read, [&](const char* name, auto& field) {
+    if (!status.ok()) return;
+    for (const auto& [key, value] : values) {
+      if (key == name) {
+        status = from_value(value, key, field);
+        return;
+      }
+    }
+    status = Status::corrupt(fmt::format("the run file has no setting '{}'", name));
+  });
+  return status;
+}
+
+}  // namespace credence::cli
