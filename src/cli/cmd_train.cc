@@ -152,6 +152,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   commands.push_back({sub, [flags, &global] {
                         CREDENCE_RETURN_IF_ERROR(resolve(*flags));
                         flags->request.quiet = global.quiet;
+                        flags->request.command_line = global.command_line;
                         return run_train(flags->request);
                       }});
 }

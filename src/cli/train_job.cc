@@ -258,7 +258,9 @@ class WriterThread {
       bool last = false;
       {
         std::unique_lock<std::mutex> lock(mutex_);
-        wake_.wait_for(lock, flush_interval_, [this] { return stopping_; });
+        // Wake often enough for a lively progress line; commit at the flush interval.
+        wake_.wait_for(lock, std::min(flush_interval_, kRedrawInterval),
+                       [this] { return stopping_; });
         // Messages held back last round come first: order within a chain is kept.
         later.insert(later.end(), std::make_move_iterator(queue_.begin()),
                      std::make_move_iterator(queue_.end()));
@@ -286,9 +288,13 @@ class WriterThread {
         }
       }
       batch.clear();
-      if (status_.ok()) status_ = writer_.commit();
-      // Ask every chain for a fresh checkpoint, to be committed on the next round.
-      checkpoint_request_.fetch_add(1, std::memory_order_relaxed);
+      const auto now = std::chrono::steady_clock::now();
+      if (last || now - last_commit_ >= flush_interval_) {
+        if (status_.ok()) status_ = writer_.commit();
+        last_commit_ = now;
+        // Ask every chain for a fresh checkpoint, to be committed on the next round.
+        checkpoint_request_.fetch_add(1, std::memory_order_relaxed);
+      }
       progress_.update(steps_done(), kept_, last_loss_);
       if (last) return;
     }
@@ -328,7 +334,9 @@ class WriterThread {
   SampleSummarizer& summarizer_;
   SampleSummary summary_;
   ProgressDisplay& progress_;
+  static constexpr std::chrono::duration<double> kRedrawInterval{0.25};
   std::chrono::duration<double> flush_interval_;
+  std::chrono::steady_clock::time_point last_commit_ = std::chrono::steady_clock::now();
   double rows_;
   std::vector<std::int64_t> next_steps_;  // (C) progress per chain, from the traces
   std::int64_t kept_;

@@ -95,6 +95,8 @@ TEST_F(Train, WritesARunThatInspectReads) {
   EXPECT_EQ((*reader)->summary().samples, 40);
   EXPECT_EQ((*reader)->header().chains, 2);
   EXPECT_EQ((*reader)->header().data_rows, 600);
+  EXPECT_NE((*reader)->header().command_line.find("--samples 20"), std::string::npos)
+      << "provenance: " << (*reader)->header().command_line;
   auto inspect = run_credence("inspect '" + run + "' --json '" + path("basic.json") + "'");
   EXPECT_EQ(inspect.exit_code, 0) << inspect.output;
   EXPECT_NE(inspect.output.find("complete"), std::string::npos) << inspect.output;
@@ -161,6 +163,40 @@ TEST_F(Train, RunFileRebuildsPredictionsWithNumpy) {
   EXPECT_EQ(lines, 100);
   std::printf("largest |p_credence - p_numpy| over 100 rows: %.3g\n", worst);
   EXPECT_LT(worst, 1e-5);
+}
+
+// DESIGN.md 7: a file that is not a run, a truncated run and a merge of different nets
+// each exit 2 with a message naming the file.
+TEST_F(Train, BadRunFilesAndMismatchedMergesExitTwo) {
+  const std::string text = dir_->write("notes.h5", "this is not HDF5\n");
+  auto not_hdf5 = run_credence("inspect '" + text + "'");
+  EXPECT_EQ(not_hdf5.exit_code, 2) << not_hdf5.output;
+  EXPECT_NE(not_hdf5.output.find("notes.h5"), std::string::npos) << not_hdf5.output;
+
+  const std::string small = path("small_net.h5"), wide = path("wide_net.h5");
+  ASSERT_EQ(run_credence(joined(args(small, {"--burn-in", "10", "--thin", "1", "--samples", "2"})))
+                .exit_code, 0);
+  ASSERT_EQ(run_credence(joined(args(wide, {"--hidden", "12", "--burn-in", "10", "--thin", "1",
+                                            "--samples", "2"})))
+                .exit_code, 0);
+  const auto bytes = std::filesystem::file_size(small);
+  const std::string cut = path("cut_in_half.h5");
+  std::filesystem::copy_file(small, cut);
+  std::filesystem::resize_file(cut, bytes / 2);
+  auto truncated = run_credence("inspect '" + cut + "'");
+  EXPECT_EQ(truncated.exit_code, 2) << truncated.output;
+  EXPECT_NE(truncated.output.find("cut_in_half.h5"), std::string::npos) << truncated.output;
+
+  const std::string merged = path("merged.h5");
+  auto mismatch = run_credence("merge '" + small + "' '" + wide + "' --out '" + merged + "'");
+  EXPECT_EQ(mismatch.exit_code, 2) << mismatch.output;
+  EXPECT_FALSE(std::filesystem::exists(merged)) << "no half-written output";
+  auto same = run_credence("merge '" + small + "' '" + small + "' --out '" + merged + "'");
+  EXPECT_EQ(same.exit_code, 0) << same.output;
+  auto reader = RunReader::open(merged);
+  ASSERT_TRUE(reader.ok()) << reader.status().message();
+  EXPECT_EQ((*reader)->header().chains, 4);
+  EXPECT_EQ((*reader)->summary().samples, 8);
 }
 
 TEST_F(Train, EveryMethodRunsWithItsDefaults) {
