@@ -1,7 +1,6 @@
 // Counts heap allocations during repeated potential evaluations: there must be none.
 // Replaces the global operator new (and, through glibc's __libc_* entry points, malloc)
 // for this test executable only.
-#include <dlfcn.h>
 #include <gtest/gtest.h>
 
 #include <atomic>
@@ -12,52 +11,13 @@
 
 #include "credence/posterior.h"
 
-namespace {
-std::atomic<long> g_news{0};
-std::atomic<long> g_mallocs{0};       // malloc family, called from anywhere but OpenBLAS
-std::atomic<long> g_blas_mallocs{0};  // malloc family, called from inside OpenBLAS
-std::atomic<bool> g_counting{false};
+#include "testing/alloc_counter.h"
 
-// OpenBLAS 0.3.21's small-matrix sgemm kernels malloc a few hundred bytes per call; that
-// is outside our control and counted apart (the report states it), everything else counts.
-void count_malloc(void* caller) {
-  if (!g_counting.load(std::memory_order_relaxed)) return;
-  Dl_info info;
-  if (dladdr(caller, &info) != 0 && info.dli_fname != nullptr &&
-      std::strstr(info.dli_fname, "openblas") != nullptr) {
-    ++g_blas_mallocs;
-  } else {
-    ++g_mallocs;
-  }
-}
+namespace {
+std::atomic<long> g_news{0};  // operator new calls, counted apart from the malloc family
 }  // namespace
 
-extern "C" {
-void* __libc_malloc(std::size_t size);
-void* __libc_calloc(std::size_t count, std::size_t size);
-void* __libc_realloc(void* pointer, std::size_t size);
-void* __libc_memalign(std::size_t alignment, std::size_t size);
-
-// Eigen's aligned_malloc and OpenBLAS use malloc directly, so count it as well.
-void* malloc(std::size_t size) {
-  count_malloc(__builtin_return_address(0));
-  return __libc_malloc(size);
-}
-void* calloc(std::size_t count, std::size_t size) {
-  count_malloc(__builtin_return_address(0));
-  return __libc_calloc(count, size);
-}
-void* realloc(void* pointer, std::size_t size) {
-  count_malloc(__builtin_return_address(0));
-  return __libc_realloc(pointer, size);
-}
-int posix_memalign(void** out, std::size_t alignment, std::size_t size) {
-  count_malloc(__builtin_return_address(0));
-  *out = __libc_memalign(alignment, size);
-  return *out == nullptr ? ENOMEM : 0;
-}
-}
-
+// operator new straight to glibc, so its calls are counted in g_news and not twice.
 void* operator new(std::size_t size) {
   if (g_counting.load(std::memory_order_relaxed)) ++g_news;
   if (void* p = __libc_malloc(size == 0 ? 1 : size)) return p;

@@ -1,6 +1,5 @@
 // SampleSummarizer::summarize allocates nothing after construction: this executable
 // counts malloc (Eigen's allocator and operator new end there) by interposing glibc's.
-#include <dlfcn.h>
 #include <gtest/gtest.h>
 
 #include <atomic>
@@ -10,49 +9,7 @@
 
 #include "credence/summaries.h"
 
-namespace {
-std::atomic<long> g_mallocs{0};       // malloc family, called from anywhere but OpenBLAS
-std::atomic<long> g_blas_mallocs{0};  // malloc family, called from inside OpenBLAS
-std::atomic<bool> g_counting{false};
-
-// OpenBLAS's small-matrix sgemm kernels malloc a few hundred bytes per call (see
-// tests/posterior/potential_alloc_test.cc); counted apart and reported.
-void count_malloc(void* caller) {
-  if (!g_counting.load(std::memory_order_relaxed)) return;
-  Dl_info info;
-  if (dladdr(caller, &info) != 0 && info.dli_fname != nullptr &&
-      std::strstr(info.dli_fname, "openblas") != nullptr) {
-    ++g_blas_mallocs;
-  } else {
-    ++g_mallocs;
-  }
-}
-}  // namespace
-
-extern "C" {
-void* __libc_malloc(std::size_t size);
-void* __libc_calloc(std::size_t count, std::size_t size);
-void* __libc_realloc(void* pointer, std::size_t size);
-void* __libc_memalign(std::size_t alignment, std::size_t size);
-
-void* malloc(std::size_t size) {
-  count_malloc(__builtin_return_address(0));
-  return __libc_malloc(size);
-}
-void* calloc(std::size_t count, std::size_t size) {
-  count_malloc(__builtin_return_address(0));
-  return __libc_calloc(count, size);
-}
-void* realloc(void* pointer, std::size_t size) {
-  count_malloc(__builtin_return_address(0));
-  return __libc_realloc(pointer, size);
-}
-int posix_memalign(void** out, std::size_t alignment, std::size_t size) {
-  count_malloc(__builtin_return_address(0));
-  *out = __libc_memalign(alignment, size);
-  return *out == nullptr ? ENOMEM : 0;
-}
-}
+#include "testing/alloc_counter.h"
 
 // operator new ends in malloc (libstdc++), so it is counted through the override above.
 
