@@ -69,7 +69,7 @@ Status resolve(TrainFlags& flags) {
   if (!widths.ok()) return widths.status();
   r.hidden = *widths;
   r.settings.chains.seed = r.data.split.seed;
-  return Status::ok_status();
+  return validate_train_settings(r.settings);
 }
 
 }  // namespace

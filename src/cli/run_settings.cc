@@ -168,6 +168,22 @@ Status from_value(const SettingValue& value, const std::string& name, T& field) 
 
 }  // namespace
 
+Status validate_train_settings(const TrainSettings& s) {
+  auto refuse = [](std::string_view flag, auto value, std::string_view need) {
+    return Status::invalid_input(fmt::format("{} {} is out of range; give {}", flag, value, need));
+  };
+  if (s.chains.chains < 1 || s.chains.chains > 4096) return refuse("--chains", s.chains.chains, "1 to 4096");
+  if (s.chains.burn_in < 0) return refuse("--burn-in", s.chains.burn_in, "0 or more steps");
+  if (s.chains.thin < 1) return refuse("--thin", s.chains.thin, "1 or more");
+  if (s.chains.samples < 1) return refuse("--samples", s.chains.samples, "1 or more kept samples per chain");
+  if (s.chains.threads < 0) return refuse("--threads", s.chains.threads, "0 (one per core) or more");
+  if (s.batches.batch_rows < 1) return refuse("--batch", s.batches.batch_rows, "1 or more rows");
+  if (s.steps < 0) return refuse("--steps", s.steps, "0 (derive from --epochs) or more");
+  if (!(s.epochs > 0)) return refuse("--epochs", s.epochs, "a positive number of passes");
+  if (!(s.flush_seconds > 0)) return refuse("--flush-seconds", s.flush_seconds, "a positive time");
+  return Status::ok_status();
+}
+
 Settings to_values(const TrainSettings& settings, const DataOptions& data) {
   // visit_settings needs mutable references; work on copies.
   TrainSettings s = settings;

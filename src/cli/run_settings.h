@@ -30,6 +30,10 @@ struct TrainSettings {
   double flush_seconds = 2.0;   // longest time a kept sample waits before reaching disk
 };
 
+/// Checks the chain layout and batch flags before anything is read or written;
+/// kInvalidInput names the flag and what to give instead.
+Status validate_train_settings(const TrainSettings& settings);
+
 /// Every field of `settings` plus the data flags needed to read the data again
 /// (delimiter, missing-value tokens), as named values for the run file.
 Settings to_values(const TrainSettings& settings, const DataOptions& data);

@@ -199,6 +199,23 @@ TEST_F(Train, BadRunFilesAndMismatchedMergesExitTwo) {
   EXPECT_EQ((*reader)->summary().samples, 8);
 }
 
+// Out-of-range settings are refused before anything is written (DESIGN.md 7).
+TEST_F(Train, BadSettingsExitTwoAndWriteNothing) {
+  const std::vector<std::pair<std::vector<std::string>, std::string>> cases = {
+      {{"--samples", "0"}, "--samples"},     {{"--chains", "0"}, "--chains"},
+      {{"--thin", "0"}, "--thin"},           {{"--burn-in", "-5"}, "--burn-in"},
+      {{"--batch", "0"}, "--batch"},         {{"--lr", "-1"}, "learning_rate"},
+      {{"--temperature", "-1"}, "temperature"}, {{"--method", "nope"}, "valid methods"},
+      {{"--hidden", "0,x"}, "--hidden"},     {{"--activation", "gelu"}, "gelu"}};
+  for (const auto& [extra, expected] : cases) {
+    const std::string run = path("refused.h5");
+    auto out = run_credence(joined(args(run, extra)));
+    EXPECT_EQ(out.exit_code, 2) << extra[0] << ": " << out.output;
+    EXPECT_NE(out.output.find(expected), std::string::npos) << extra[0] << ": " << out.output;
+    EXPECT_FALSE(std::filesystem::exists(run)) << extra[0] << " left a run file";
+  }
+}
+
 TEST_F(Train, EveryMethodRunsWithItsDefaults) {
   for (const char* method : {"sgld", "psgld", "sghmc", "rsghmc", "sgd", "momentum", "rsgd",
                              "adam", "hmc", "rhmc"}) {
