@@ -7,8 +7,10 @@
 
 #include "credence/data.h"
 #include "credence/ensemble.h"
+#include "credence/metrics.h"
 #include "credence/net.h"
 #include "credence/posterior.h"
+#include "credence/predict.h"
 #include "credence/samplers.h"
 #include "credence/status.h"
 #include "credence/summaries.h"

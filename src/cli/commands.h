@@ -32,5 +32,6 @@ void add_synth_command(CLI::App& app, const GlobalOptions& global, CommandList& 
 void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 void add_inspect_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 void add_merge_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_predict_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 
 }  // namespace credence::cli

@@ -31,6 +31,7 @@ int run(int argc, char** argv) {
   CommandList commands;
   add_schema_command(app, global, commands);
   add_train_command(app, global, commands);
+  add_predict_command(app, global, commands);
   add_inspect_command(app, global, commands);
   add_merge_command(app, global, commands);
   add_synth_command(app, global, commands);

@@ -1,0 +1,186 @@
+// predict: the Bayesian model average of a kept ensemble and its uncertainty, per row.
+//
+// A Predictor holds what a run file stores for prediction (the preprocessing, the
+// network layout and the kept samples as a (P, S) matrix) and turns encoded rows into
+// the model average pbar, the predictive entropy H[pbar] (total doubt), the expected
+// entropy E H (aleatoric: noise in the data) and the mutual information MI = H - E H
+// (epistemic: lack of data), METHODS.md section 9.1. Each member's log-probabilities
+// come from a float32 forward pass; the averaging and the entropies run in double.
+// predict_csv() streams a CSV file through a Predictor in blocks of rows and writes
+// the predictions CSV atomically.
+//
+// Threads: a Predictor is immutable after creation and safe to share between threads;
+// a Workspace and an EnsembleAverager belong to one thread each. predict_csv() runs
+// blocks in parallel with OpenMP.
+//
+//   Result<std::unique_ptr<RunReader>> run = RunReader::open("run.h5");
+//   Result<Predictor> predictor = Predictor::create(**run, {.samples = 50});
+//   PredictCsvOptions options;  // options.read: the run's delimiter and NA tokens
+//   Result<PredictCsvSummary> done = predict_csv(*predictor, "new.csv", "pred.csv", options);
+#pragma once
+
+#include <Eigen/Core>
+#include <cstdint>
+#include <optional>
+#include <span>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "credence/data.h"
+#include "credence/net.h"
+#include "credence/status.h"
+
+namespace credence {
+
+class RunReader;
+
+// ---------------------------------------------------------------------------------------
+// Averaging members: METHODS.md 9.1.
+
+/// Per-row outputs of the model average over a block of B rows and K classes.
+struct Prediction {
+  Eigen::MatrixXd probabilities;        // (K, B) pbar = (1/S) sum_s p_s
+  Eigen::VectorXd entropy;              // (B) H[pbar] = -sum_k pbar_k log pbar_k, in nats
+  Eigen::VectorXd expected_entropy;     // (B) E H = (1/S) sum_s H[p_s] (aleatoric)
+  Eigen::VectorXd mutual_information;   // (B) MI = H - E H >= 0 (epistemic)
+  std::vector<std::int32_t> predicted;  // (B) argmax_k pbar_k; ties go to the lowest index
+  Eigen::VectorXd confidence;           // (B) pbar of the predicted class
+  /// Rows whose H - E H came out negative from rounding and were set to 0.
+  std::int64_t clamped = 0;
+
+  Index rows() const { return probabilities.cols(); }
+};
+
+/// Accumulates the members of an ensemble one at a time, with equal weights 1/S:
+/// log pbar = logsumexp_s(log p_s) - log S (a running, max-shifted log-sum-exp, so no
+/// member's tiny probability underflows the average), and E H from each member's
+/// p log p computed from its log-probabilities, with 0 log 0 = 0.
+///
+///   EnsembleAverager averager;
+///   averager.reset(K, B);
+///   for (each sample) { network.forward(ws, theta_s, x); averager.add_member(ws.log_probs()); }
+///   averager.finish(prediction);
+class EnsembleAverager {
+ public:
+  /// Starts a new average over B rows and K classes; allocates only when the shape grows.
+  void reset(Index num_classes, Index rows);
+  /// Adds one member's log-probabilities. REQUIRES: log_probs is (K, B) of reset().
+  void add_member(const Eigen::Ref<const Eigen::MatrixXf>& log_probs);
+  void add_member(const Eigen::Ref<const Eigen::MatrixXd>& log_probs);
+  /// Members added since reset().
+  std::int64_t members() const { return members_; }
+  /// Writes the average and the uncertainty split into `out` (resized to (K, B)).
+  /// REQUIRES: members() >= 1.
+  void finish(Prediction& out) const;
+
+ private:
+  template <typename Derived>
+  void add(const Eigen::MatrixBase<Derived>& log_probs);
+
+  std::int64_t members_ = 0;
+  Eigen::MatrixXd max_log_p_;    // (K, B) running max over members of log p_s
+  Eigen::MatrixXd scaled_sum_;   // (K, B) sum_s exp(log p_s - max_log_p_)
+  Eigen::VectorXd entropy_sum_;  // (B) sum_s H[p_s]
+};
+
+/// `wanted` indices spread evenly over 0..available-1 (floor(i * available / wanted)),
+/// in increasing order; every index when wanted is 0 or >= available.
+std::vector<Index> spread_samples(Index available, Index wanted);
+
+// ---------------------------------------------------------------------------------------
+// Predictor: a kept ensemble ready to predict.
+
+struct PredictorOptions {
+  /// Kept samples to use, spread evenly over the ensemble in stored order
+  /// (spread_samples). Default 0: all of them. More than the run holds: all of them.
+  std::int64_t samples = 0;
+  /// Rows per forward pass, the width a Workspace is sized for. Default 4096.
+  std::int64_t block_rows = 4096;
+};
+
+class Predictor {
+ public:
+  /// Reads the preprocessing, the net text and the committed samples of an opened run.
+  /// kInvalidInput for a run with no kept sample or options.block_rows < 1; kCorrupt
+  /// when the stored net text, preprocessing and parameter count disagree.
+  static Result<Predictor> create(const RunReader& run, const PredictorOptions& options);
+  /// The same from parts: `samples` is (P, S), one kept sample per column.
+  static Result<Predictor> from_parts(Preprocessing preprocessing, const std::string& net_text,
+                                      Eigen::MatrixXf samples, const PredictorOptions& options);
+
+  const Preprocessing& preprocessing() const { return preprocessing_; }
+  const ParamLayout& layout() const { return network_.layout(); }
+  Index num_samples() const { return samples_.cols(); }
+  Index num_classes() const { return network_.layout().num_classes; }
+  Index block_rows() const { return block_rows_; }
+
+  /// A workspace for blocks of up to block_rows() rows (one per thread).
+  Workspace<float> make_workspace() const { return Workspace<float>(layout(), block_rows_); }
+
+  /// The model average and uncertainty of encoded rows x (D, B), 1 <= B <= block_rows().
+  /// Fails (kInvalidInput) when x has the wrong shape.
+  Status predict_encoded(Workspace<float>& ws, EnsembleAverager& averager,
+                         const Eigen::Ref<const Eigen::MatrixXf>& x, Prediction& out) const;
+
+  /// Encodes `rows` of `table` with the stored preprocessing (errors name file, line and
+  /// column: see transform_rows) and predicts them. REQUIRES: rows.size() <= block_rows().
+  Status predict_rows(Workspace<float>& ws, EnsembleAverager& averager, const Table& table,
+                      std::span<const std::int64_t> rows, Prediction& out) const;
+
+ private:
+  Predictor(Preprocessing preprocessing, ParamLayout layout, Eigen::MatrixXf samples,
+            Index block_rows);
+
+  Preprocessing preprocessing_;
+  Network<float> network_;
+  Eigen::MatrixXf samples_;  // (P, S)
+  Index block_rows_ = 0;
+};
+
+// ---------------------------------------------------------------------------------------
+// From a CSV file to a predictions CSV.
+
+/// Which uncertainty decides referral.
+enum class FlagBy { kEntropy, kMutualInformation };
+/// "entropy" / "mi".
+std::string_view flag_by_name(FlagBy flag_by);
+
+struct PredictCsvOptions {
+  /// How the input is read. Use the run's stored delimiter and missing-value tokens.
+  /// Id, target and categorical columns are added to its text columns.
+  ReadOptions read;
+  /// Columns passed through first, as written. Empty (default): the run's id columns
+  /// that the input has. A name the input lacks is an error.
+  std::vector<std::string> id_columns;
+  /// With a value, a `refer` column holds 1 where the chosen uncertainty exceeds it.
+  /// Default none.
+  std::optional<double> flag_above;
+  /// The uncertainty compared with flag_above. Default: predictive entropy.
+  FlagBy flag_by = FlagBy::kEntropy;
+};
+
+/// What predict_csv did.
+struct PredictCsvSummary {
+  std::int64_t rows = 0;                     // rows predicted
+  Index samples = 0;                         // kept samples averaged
+  std::int64_t flagged = 0;                  // rows with refer = 1
+  std::int64_t clamped = 0;                  // rows whose MI was clamped to 0 (rounding)
+  std::vector<std::string> id_columns;       // passed through
+  bool target_passed = false;                // the target column was passed through
+  std::vector<std::string> ignored_columns;  // input columns the model does not use
+};
+
+/// Predicts every row of `input_path` and writes `output_path`: the id columns, the
+/// target if present, `p_<class>` per class, `predicted` (class name), `confidence`,
+/// `entropy`, `expected_entropy`, `mutual_information` and, with flag_above, `refer`.
+/// Rows are processed in blocks of predictor.block_rows(), in parallel, and written in
+/// input order to a temporary file renamed over `output_path` at the end, so a failure
+/// leaves no output. Returns kInvalidInput (naming file, line, column) for bad input
+/// and kIoError when the output cannot be written. The output is byte-identical for
+/// any thread count.
+Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::string& input_path,
+                                      const std::string& output_path,
+                                      const PredictCsvOptions& options);
+
+}  // namespace credence

@@ -1,0 +1,205 @@
+// predict_csv: a CSV file through a Predictor, block by block, into a predictions CSV.
+#include <fmt/format.h>
+#include <omp.h>
+
+#include <algorithm>
+#include <iterator>
+#include <memory>
+
+#include "credence/predict.h"
+#include "predict/temp_output.h"
+#include "util/log.h"
+
+namespace credence {
+namespace {
+
+// RFC 4180: quote a field holding a comma, a quote or a line break (or edge blanks,
+// which readers may trim), doubling its quotes.
+void append_field(std::string& out, std::string_view text) {
+  const bool plain = text.find_first_of(",\"\r\n") == std::string_view::npos &&
+                     (text.empty() || (text.front() != ' ' && text.back() != ' '));
+  if (plain) {
+    out += text;
+    return;
+  }
+  out += '"';
+  for (char c : text) {
+    if (c == '"') out += '"';
+    out += c;
+  }
+  out += '"';
+}
+
+// The cell as written in the file; "" where it was missing. Passed-through columns are
+// read as text, so numbers keep their spelling ("007" stays "007").
+std::string_view cell_text(const TableColumn& column, std::int64_t row) {
+  const std::int32_t code = column.codes[static_cast<std::size_t>(row)];
+  return code < 0 ? std::string_view()
+                  : std::string_view(column.levels[static_cast<std::size_t>(code)]);
+}
+
+bool contains(const std::vector<std::string>& names, std::string_view name) {
+  return std::find(names.begin(), names.end(), name) != names.end();
+}
+
+std::string quoted_list(const std::vector<std::string>& names) {
+  std::string out;
+  for (const std::string& name : names) out += (out.empty() ? "'" : ", '") + name + "'";
+  return out;
+}
+
+// Everything one block needs; one per concurrently processed block.
+struct BlockSlot {
+  std::unique_ptr<Workspace<float>> workspace;
+  EnsembleAverager averager;
+  Prediction prediction;
+  std::vector<std::int64_t> rows;
+  std::string text;
+  Status status;
+  std::int64_t flagged = 0;
+};
+
+struct OutputColumns {
+  std::vector<int> passed;  // table columns passed through: ids, then the target
+  bool has_refer = false;
+};
+
+void format_block(const Predictor& predictor, const Table& table, const OutputColumns& columns,
+                  const PredictCsvOptions& options, BlockSlot& slot) {
+  const Prediction& p = slot.prediction;
+  const std::vector<std::string>& classes = predictor.preprocessing().class_names;
+  slot.text.clear();
+  slot.flagged = 0;
+  auto out = std::back_inserter(slot.text);
+  for (std::size_t i = 0; i < slot.rows.size(); ++i) {
+    const auto b = static_cast<Index>(i);
+    for (int j : columns.passed) {
+      append_field(slot.text, cell_text(table.columns[static_cast<std::size_t>(j)], slot.rows[i]));
+      slot.text += ',';
+    }
+    for (Index k = 0; k < p.probabilities.rows(); ++k) {
+      fmt::format_to(out, "{:.9g},", p.probabilities(k, b));
+    }
+    append_field(slot.text, classes[static_cast<std::size_t>(p.predicted[i])]);
+    fmt::format_to(out, ",{:.9g},{:.9g},{:.9g},{:.9g}", p.confidence(b), p.entropy(b),
+                   p.expected_entropy(b), p.mutual_information(b));
+    if (columns.has_refer) {
+      const double doubt =
+          options.flag_by == FlagBy::kEntropy ? p.entropy(b) : p.mutual_information(b);
+      const bool refer = doubt > *options.flag_above;
+      slot.flagged += refer ? 1 : 0;
+      slot.text += refer ? ",1" : ",0";
+    }
+    slot.text += '\n';
+  }
+}
+
+}  // namespace
+
+std::string_view flag_by_name(FlagBy flag_by) {
+  return flag_by == FlagBy::kEntropy ? "entropy" : "mi";
+}
+
+Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::string& input_path,
+                                      const std::string& output_path,
+                                      const PredictCsvOptions& options) {
+  const Preprocessing& pre = predictor.preprocessing();
+  PredictCsvSummary summary;
+  summary.samples = predictor.num_samples();
+
+  std::vector<std::string> ids = options.id_columns;
+  if (ids.empty()) {
+    for (const ColumnSpec& c : pre.columns) {
+      if (c.role == ColumnRole::kId) ids.push_back(c.name);
+    }
+  }
+  // Passed-through columns are read as text so they come out exactly as written.
+  ReadOptions read = options.read;
+  for (const std::string& name : text_columns_of(pre)) read.text_columns.push_back(name);
+  for (const std::string& name : ids) read.text_columns.push_back(name);
+  Result<Table> table = read_table(input_path, read);
+  if (!table.ok()) return table.status();
+
+  OutputColumns columns;
+  columns.has_refer = options.flag_above.has_value();
+  for (const std::string& name : ids) {
+    const int j = table->find_column(name);
+    if (j >= 0) {
+      columns.passed.push_back(j);
+      summary.id_columns.push_back(name);
+    } else if (!options.id_columns.empty()) {
+      return Status::invalid_input(fmt::format(
+          "{}: id column '{}' is not in the header; name one of the columns present ({})",
+          input_path, name, table->column_list()));
+    }
+  }
+  if (const int j = table->find_column(pre.target); j >= 0 && !contains(ids, pre.target)) {
+    columns.passed.push_back(j);
+    summary.target_passed = true;
+  }
+  std::vector<std::string> known;
+  for (const ColumnSpec& c : pre.columns) known.push_back(c.name);
+  for (const TableColumn& c : table->columns) {
+    if (!contains(known, c.name) && !contains(ids, c.name))
+      summary.ignored_columns.push_back(c.name);
+  }
+  if (!summary.ignored_columns.empty()) {
+    log().info("{}: ignoring column{} the model does not use: {}", input_path,
+               summary.ignored_columns.size() == 1 ? "" : "s",
+               quoted_list(summary.ignored_columns));
+  }
+
+  std::string header;
+  for (int j : columns.passed) {
+    append_field(header, table->columns[static_cast<std::size_t>(j)].name);
+    header += ',';
+  }
+  for (const std::string& name : pre.class_names) {
+    append_field(header, "p_" + name);
+    header += ',';
+  }
+  header += "predicted,confidence,entropy,expected_entropy,mutual_information";
+  header += columns.has_refer ? ",refer\n" : "\n";
+
+  Result<predict::TempOutput> output = predict::TempOutput::create(output_path);
+  if (!output.ok()) return output.status();
+  CREDENCE_RETURN_IF_ERROR(output->write(header));
+
+  // Blocks are cut the same way whatever the thread count, and each row's numbers depend
+  // only on its own block, so the output is byte-identical for any OMP_NUM_THREADS.
+  // Memory holds one block per thread: the encoded rows, its workspace and its text.
+  const std::int64_t n = table->rows();
+  const std::int64_t block_rows = predictor.block_rows();
+  const std::int64_t blocks = (n + block_rows - 1) / block_rows;
+  const int slot_count = static_cast<int>(std::min<std::int64_t>(omp_get_max_threads(), blocks));
+  std::vector<BlockSlot> slots(static_cast<std::size_t>(slot_count));
+  for (std::int64_t first = 0; first < blocks; first += slot_count) {
+    const int active = static_cast<int>(std::min<std::int64_t>(slot_count, blocks - first));
+#pragma omp parallel for schedule(static, 1) num_threads(active)
+    for (int s = 0; s < active; ++s) {
+      BlockSlot& slot = slots[static_cast<std::size_t>(s)];
+      if (!slot.workspace)
+        slot.workspace = std::make_unique<Workspace<float>>(predictor.make_workspace());
+      const std::int64_t begin = (first + s) * block_rows;
+      const std::int64_t end = std::min(n, begin + block_rows);
+      slot.rows.resize(static_cast<std::size_t>(end - begin));
+      for (std::int64_t r = begin; r < end; ++r) slot.rows[static_cast<std::size_t>(r - begin)] = r;
+      slot.status = predictor.predict_rows(*slot.workspace, slot.averager, *table, slot.rows,
+                                           slot.prediction);
+      if (slot.status.ok()) format_block(predictor, *table, columns, options, slot);
+    }
+    // In block order, so the error reported is from the earliest bad block.
+    for (int s = 0; s < active; ++s) {
+      BlockSlot& slot = slots[static_cast<std::size_t>(s)];
+      CREDENCE_RETURN_IF_ERROR(slot.status);
+      CREDENCE_RETURN_IF_ERROR(output->write(slot.text));
+      summary.rows += static_cast<std::int64_t>(slot.rows.size());
+      summary.flagged += slot.flagged;
+      summary.clamped += slot.prediction.clamped;
+    }
+  }
+  CREDENCE_RETURN_IF_ERROR(output->commit());
+  return summary;
+}
+
+}  // namespace credence

@@ -1,0 +1,92 @@
+// Predictor: a run's preprocessing, network and kept samples, ready to predict rows.
+#include <fmt/format.h>
+
+#include <cassert>
+
+#include "credence/ensemble.h"
+#include "credence/predict.h"
+#include "util/log.h"
+
+namespace credence {
+
+Predictor::Predictor(Preprocessing preprocessing, ParamLayout layout, Eigen::MatrixXf samples,
+                     Index block_rows)
+    : preprocessing_(std::move(preprocessing)),
+      network_(std::move(layout)),
+      samples_(std::move(samples)),
+      block_rows_(block_rows) {}
+
+Result<Predictor> Predictor::from_parts(Preprocessing preprocessing, const std::string& net_text,
+                                        Eigen::MatrixXf samples, const PredictorOptions& options) {
+  if (options.block_rows < 1) {
+    return Status::invalid_input(
+        fmt::format("block of {} rows asked for; use at least 1", options.block_rows));
+  }
+  if (samples.cols() == 0) {
+    return Status::invalid_input(
+        "the run holds no kept sample yet; train longer (or resume it) before predicting");
+  }
+  Result<NetSpec> spec = parse_net_text(net_text, "stored net text");
+  if (!spec.ok()) {
+    return Status::corrupt("reading the stored network: " + spec.status().message());
+  }
+  Result<ParamLayout> layout = resolve_layout(*spec, static_cast<Index>(preprocessing.input_width),
+                                              static_cast<Index>(preprocessing.class_names.size()));
+  if (!layout.ok()) {
+    return Status::corrupt("resolving the stored network: " + layout.status().message());
+  }
+  if (layout->num_params != samples.rows()) {
+    return Status::corrupt(fmt::format(
+        "the stored samples have {} parameters but the stored network needs {}; the run "
+        "file is damaged",
+        samples.rows(), layout->num_params));
+  }
+  if (options.samples > samples.cols()) {
+    log().warn("{} samples asked for but the run holds {}; using all of them", options.samples,
+               samples.cols());
+  }
+  const std::vector<Index> chosen = spread_samples(samples.cols(), options.samples);
+  if (static_cast<Index>(chosen.size()) != samples.cols()) {
+    Eigen::MatrixXf kept(samples.rows(), static_cast<Index>(chosen.size()));  // (P, S')
+    for (std::size_t i = 0; i < chosen.size(); ++i) {
+      kept.col(static_cast<Index>(i)) = samples.col(chosen[i]);
+    }
+    samples = std::move(kept);
+  }
+  return Predictor(std::move(preprocessing), std::move(*layout), std::move(samples),
+                   static_cast<Index>(options.block_rows));
+}
+
+Result<Predictor> Predictor::create(const RunReader& run, const PredictorOptions& options) {
+  Result<Eigen::MatrixXf> samples = run.samples();
+  if (!samples.ok()) return samples.status();
+  const RunHeader& header = run.header();
+  return from_parts(header.preprocessing, header.net_text, std::move(*samples), options);
+}
+
+Status Predictor::predict_encoded(Workspace<float>& ws, EnsembleAverager& averager,
+                                  const Eigen::Ref<const Eigen::MatrixXf>& x,
+                                  Prediction& out) const {
+  if (x.rows() != layout().input_width || x.cols() < 1 || x.cols() > block_rows_) {
+    return Status::invalid_input(fmt::format("predicting a ({}, {}) block; expected ({}, 1..{})",
+                                             x.rows(), x.cols(), layout().input_width,
+                                             block_rows_));
+  }
+  averager.reset(num_classes(), x.cols());
+  for (Index s = 0; s < samples_.cols(); ++s) {
+    CREDENCE_RETURN_IF_ERROR(network_.forward(ws, samples_.col(s), x));
+    averager.add_member(ws.log_probs());  // (K, B)
+  }
+  averager.finish(out);
+  return Status::ok_status();
+}
+
+Status Predictor::predict_rows(Workspace<float>& ws, EnsembleAverager& averager, const Table& table,
+                               std::span<const std::int64_t> rows, Prediction& out) const {
+  assert(static_cast<Index>(rows.size()) <= block_rows_);
+  Result<Eigen::MatrixXf> x = transform_rows(preprocessing_, table, rows);  // (D, B)
+  if (!x.ok()) return x.status();
+  return predict_encoded(ws, averager, *x, out);
+}
+
+}  // namespace credence

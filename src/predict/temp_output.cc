@@ -1,0 +1,65 @@
+// TempOutput: temporary file + rename, written incrementally.
+#include "predict/temp_output.h"
+
+#include <fmt/format.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <cstring>
+#include <utility>
+
+namespace credence::predict {
+
+TempOutput::TempOutput(std::string path, std::string temp, std::FILE* file)
+    : path_(std::move(path)), temp_(std::move(temp)), file_(file) {}
+
+TempOutput::TempOutput(TempOutput&& other) noexcept
+    : path_(std::move(other.path_)),
+      temp_(std::move(other.temp_)),
+      file_(std::exchange(other.file_, nullptr)),
+      committed_(std::exchange(other.committed_, true)) {}
+
+TempOutput::~TempOutput() { discard(); }
+
+void TempOutput::discard() {
+  if (committed_) return;
+  if (file_ != nullptr) std::fclose(file_);
+  file_ = nullptr;
+  std::remove(temp_.c_str());
+  committed_ = true;
+}
+
+Result<TempOutput> TempOutput::create(const std::string& path) {
+  std::string temp = fmt::format("{}.tmp-{}", path, ::getpid());
+  std::FILE* file = std::fopen(temp.c_str(), "wb");
+  if (file == nullptr) {
+    return Status::io_error(
+        fmt::format("{}: cannot create the file: {}; check that the folder "
+                    "exists and is writable",
+                    path, std::strerror(errno)));
+  }
+  return TempOutput(path, std::move(temp), file);
+}
+
+Status TempOutput::write(std::string_view bytes) {
+  if (std::fwrite(bytes.data(), 1, bytes.size(), file_) != bytes.size()) {
+    return Status::io_error(
+        fmt::format("{}: writing the file failed: {}", path_, std::strerror(errno)));
+  }
+  return Status::ok_status();
+}
+
+Status TempOutput::commit() {
+  const bool closed = std::fclose(file_) == 0;
+  file_ = nullptr;
+  if (!closed || std::rename(temp_.c_str(), path_.c_str()) != 0) {
+    const int error = errno;
+    discard();
+    return Status::io_error(
+        fmt::format("{}: writing the file failed: {}", path_, std::strerror(error)));
+  }
+  committed_ = true;
+  return Status::ok_status();
+}
+
+}  // namespace credence::predict
