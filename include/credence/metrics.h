@@ -72,20 +72,32 @@ Eigen::VectorXd entropy_from_log(ProbsRef log_probs);
 /// Weights need not sum to 1: finish() divides by their total (equal weights: pass none).
 class UncertaintyAccumulator {
  public:
+  UncertaintyAccumulator() = default;
   /// REQUIRES: classes >= 1, rows >= 0.
   UncertaintyAccumulator(Eigen::Index classes, Eigen::Index rows);
 
-  /// Adds one member's log-probabilities with weight w > 0.
+  /// Starts over for (classes, rows); keeps the buffers when the shape is unchanged,
+  /// so blocks of equal size allocate nothing. REQUIRES: classes >= 1, rows >= 0.
+  void reset(Eigen::Index classes, Eigen::Index rows);
+
+  /// Adds one member's log-probabilities with weight w > 0 (float members, as the
+  /// network computes them, are widened to double here).
   /// REQUIRES: log_probs is (classes, rows); weight > 0 and finite.
   void add_member(ProbsRef log_probs, double weight = 1.0);
+  void add_member(const Eigen::Ref<const Eigen::MatrixXf>& log_probs, double weight = 1.0);
 
   /// Members added so far.
   std::int64_t members() const { return members_; }
 
   /// The model average and its entropy split. REQUIRES: members() >= 1.
   UncertaintySplit finish() const;
+  /// The same into `out`, reusing its buffers when they have the right size.
+  void finish(UncertaintySplit& out) const;
 
  private:
+  template <typename Derived>
+  void add(const Eigen::MatrixBase<Derived>& log_probs, double weight);
+
   Eigen::ArrayXXd running_max_;  // (K, n) m = max_s (log w_s + log p_s)
   Eigen::ArrayXXd scaled_sum_;   // (K, n) sum_s exp(log w_s + log p_s - m)
   Eigen::VectorXd entropy_sum_;  // (n) sum_s w_s H[p_s]

@@ -28,6 +28,7 @@
 #include <vector>
 
 #include "credence/data.h"
+#include "credence/metrics.h"
 #include "credence/net.h"
 #include "credence/status.h"
 
@@ -69,19 +70,16 @@ class EnsembleAverager {
   void add_member(const Eigen::Ref<const Eigen::MatrixXf>& log_probs);
   void add_member(const Eigen::Ref<const Eigen::MatrixXd>& log_probs);
   /// Members added since reset().
-  std::int64_t members() const { return members_; }
+  std::int64_t members() const { return accumulator_.members(); }
   /// Writes the average and the uncertainty split into `out` (resized to (K, B)).
   /// REQUIRES: members() >= 1.
   void finish(Prediction& out) const;
 
  private:
-  template <typename Derived>
-  void add(const Eigen::MatrixBase<Derived>& log_probs);
-
-  std::int64_t members_ = 0;
-  Eigen::MatrixXd max_log_p_;    // (K, B) running max over members of log p_s
-  Eigen::MatrixXd scaled_sum_;   // (K, B) sum_s exp(log p_s - max_log_p_)
-  Eigen::VectorXd entropy_sum_;  // (B) sum_s H[p_s]
+  // The one implementation of METHODS.md 9.1 (metrics.h); this class only turns its
+  // result into a Prediction with classes and confidences.
+  UncertaintyAccumulator accumulator_;
+  mutable UncertaintySplit split_;  // finish()'s buffers, reused block after block
 };
 
 /// `wanted` indices spread evenly over 0..available-1 (floor(i * available / wanted)),

@@ -15,8 +15,10 @@ constexpr double kMinusInf = -std::numeric_limits<double>::infinity();
 
 // H[p] = -sum_k p_k log p_k with 0 log 0 = 0, computed from log p so that a tiny p
 // keeps its exact logarithm.
-Eigen::VectorXd entropy_from_log(ProbsRef log_probs) {
-  Eigen::VectorXd h(log_probs.cols());  // (n)
+namespace {
+// Writes the entropies of log_probs' columns into h, reusing its buffer.
+void entropy_into(ProbsRef log_probs, Eigen::VectorXd& h) {
+  h.resize(log_probs.cols());  // (n)
   for (Eigen::Index i = 0; i < log_probs.cols(); ++i) {
     double sum = 0;
     for (Eigen::Index k = 0; k < log_probs.rows(); ++k) {
@@ -25,14 +27,30 @@ Eigen::VectorXd entropy_from_log(ProbsRef log_probs) {
     }
     h[i] = sum;
   }
+}
+}  // namespace
+
+Eigen::VectorXd entropy_from_log(ProbsRef log_probs) {
+  Eigen::VectorXd h;
+  entropy_into(log_probs, h);
   return h;
 }
 
-UncertaintyAccumulator::UncertaintyAccumulator(Eigen::Index classes, Eigen::Index rows)
-    : running_max_(Eigen::ArrayXXd::Constant(classes, rows, kMinusInf)),
-      scaled_sum_(Eigen::ArrayXXd::Zero(classes, rows)),
-      entropy_sum_(Eigen::VectorXd::Zero(rows)) {
+UncertaintyAccumulator::UncertaintyAccumulator(Eigen::Index classes, Eigen::Index rows) {
+  reset(classes, rows);
+}
+
+void UncertaintyAccumulator::reset(Eigen::Index classes, Eigen::Index rows) {
   assert(classes >= 1 && rows >= 0);
+  // resize() keeps the allocation when the size is unchanged.
+  running_max_.resize(classes, rows);
+  scaled_sum_.resize(classes, rows);
+  entropy_sum_.resize(rows);
+  running_max_.setConstant(kMinusInf);
+  scaled_sum_.setZero();
+  entropy_sum_.setZero();
+  weight_sum_ = 0;
+  members_ = 0;
 }
 
 // log sum_s w_s p_s is kept as a running logsumexp (the stable form of pbar in METHODS.md
@@ -42,6 +60,16 @@ UncertaintyAccumulator::UncertaintyAccumulator(Eigen::Index classes, Eigen::Inde
 // entry, no temporaries; the entropy uses entropy_from_log's exact arithmetic so that a
 // one-member ensemble has MI = 0 exactly.
 void UncertaintyAccumulator::add_member(ProbsRef log_probs, double weight) {
+  add(log_probs, weight);
+}
+
+void UncertaintyAccumulator::add_member(const Eigen::Ref<const Eigen::MatrixXf>& log_probs,
+                                        double weight) {
+  add(log_probs, weight);
+}
+
+template <typename Derived>
+void UncertaintyAccumulator::add(const Eigen::MatrixBase<Derived>& log_probs, double weight) {
   assert(log_probs.rows() == running_max_.rows());
   assert(log_probs.cols() == running_max_.cols());
   assert(weight > 0 && std::isfinite(weight));
@@ -49,7 +77,7 @@ void UncertaintyAccumulator::add_member(ProbsRef log_probs, double weight) {
   for (Eigen::Index i = 0; i < log_probs.cols(); ++i) {
     double plogp = 0;
     for (Eigen::Index k = 0; k < log_probs.rows(); ++k) {
-      const double l = log_probs(k, i);
+      const double l = static_cast<double>(log_probs(k, i));
       if (l == kMinusInf) continue;
       plogp -= std::exp(l) * l;
       const double v = log_w + l;
@@ -75,10 +103,17 @@ void UncertaintyAccumulator::add_member(ProbsRef log_probs, double weight) {
 // learning", ICML 2018). MI is non-negative by Jensen's inequality; a negative value is
 // rounding, clamped to 0 and counted.
 UncertaintySplit UncertaintyAccumulator::finish() const {
-  assert(members_ >= 1);
   UncertaintySplit out;
+  finish(out);
+  return out;
+}
+
+void UncertaintyAccumulator::finish(UncertaintySplit& out) const {
+  assert(members_ >= 1);
+  out.clamped_rows = 0;
+  out.largest_clamp = 0;
   out.log_mean = (running_max_ + scaled_sum_.log() - std::log(weight_sum_)).matrix();
-  out.total = entropy_from_log(out.log_mean);
+  entropy_into(out.log_mean, out.total);
   out.expected = entropy_sum_ / weight_sum_;
   out.mutual_info = out.total - out.expected;
   for (Eigen::Index i = 0; i < out.mutual_info.size(); ++i) {
@@ -88,7 +123,6 @@ UncertaintySplit UncertaintyAccumulator::finish() const {
       ++out.clamped_rows;
     }
   }
-  return out;
 }
 
 UncertaintySplit split_uncertainty(std::span<const Eigen::MatrixXd> member_log_probs) {
