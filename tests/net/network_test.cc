@@ -12,18 +12,13 @@
 #include "credence/net.h"
 #include "testing/gradient_check.h"
 #include "testing/seed.h"
+#include "testing/net_layout.h"
 #include "testing/temp_dir.h"
 
 namespace credence {
 namespace {
 
-ParamLayout make_layout(std::vector<Index> widths, const char* activation, Index d, Index k) {
-  Result<NetSpec> spec = net_spec_from_options(widths, activation);
-  EXPECT_TRUE(spec.ok());
-  Result<ParamLayout> layout = resolve_layout(*spec, d, k);
-  EXPECT_TRUE(layout.ok());
-  return *layout;
-}
+using testing::make_layout;
 
 MatX<float> random_inputs(Index d, Index batch, std::uint64_t seed) {
   std::mt19937_64 engine(seed);

@@ -11,18 +11,13 @@
 #include <vector>
 
 #include "testing/seed.h"
+#include "testing/net_layout.h"
 #include "testing/temp_dir.h"
 
 namespace credence {
 namespace {
 
-ParamLayout layout_of(std::vector<Index> hidden, const char* activation, Index d, Index k) {
-  Result<NetSpec> spec = net_spec_from_options(hidden, activation);
-  EXPECT_TRUE(spec.ok());
-  Result<ParamLayout> layout = resolve_layout(*spec, d, k);
-  EXPECT_TRUE(layout.ok());
-  return *layout;
-}
+using testing::make_layout;
 
 ProbeSet random_probe(Index d, Index rows, Index k, std::mt19937_64& engine) {
   std::normal_distribution<float> normal(0.0f, 1.5f);
@@ -62,7 +57,7 @@ TEST(SampleSummarizer, MatchesNumpyOnTheDocumentedFlatLayout) {
   };
   for (const Case& c : {Case{{}, "relu", 5, 3, 24, 4}, Case{{7}, "tanh", 5, 3, 24, 6},
                         Case{{6, 4}, "softplus", 4, 2, 17, 4}}) {
-    const ParamLayout layout = layout_of(c.hidden, c.activation, c.d, c.k);
+    const ParamLayout layout = make_layout(c.hidden, c.activation, c.d, c.k);
     ProbeSet probe = random_probe(c.d, c.r, c.k, engine);
     const ProbeSet probe_copy = probe;
     const Eigen::VectorXf theta = random_theta(layout.num_params, 0.8f, engine);
@@ -138,7 +133,7 @@ TEST(SampleSummarizer, MatchesNumpyOnTheDocumentedFlatLayout) {
 
 TEST(SampleSummarizer, LayerNormsByHand) {
   // D = 2, one hidden layer of 2, K = 2: P = 2*2 + 2 + 2*2 + 2 = 12; theta_i = i + 1.
-  const ParamLayout layout = layout_of({2}, "relu", 2, 2);
+  const ParamLayout layout = make_layout({2}, "relu", 2, 2);
   ASSERT_EQ(layout.num_params, 12);
   Eigen::VectorXf theta = Eigen::VectorXf::LinSpaced(12, 1, 12);
   ProbeSet probe;
@@ -165,7 +160,7 @@ TEST(SampleSummarizer, ProjectionsFollowNormalWithVarianceNormOverP) {
   // z = u^T theta / (|theta| / sqrt(P)) is N(0, 1): over 3000 seeds x 4 projections with a
   // fresh random theta each (scales 0.1 to 3), the mean is within 4 standard errors
   // (4 / sqrt(12000) = 0.037) of 0 and the variance within 4 sqrt(2/12000) = 0.052 of 1.
-  const ParamLayout layout = layout_of({8}, "tanh", 5, 3);  // P = 5*8 + 8 + 8*3 + 3 = 75
+  const ParamLayout layout = make_layout({8}, "tanh", 5, 3);  // P = 5*8 + 8 + 8*3 + 3 = 75
   std::mt19937_64 engine(testing::test_seed(502));
   ProbeSet probe = random_probe(5, 2, 3, engine);
   std::uniform_real_distribution<float> scale(0.1f, 3.0f);
@@ -198,7 +193,7 @@ TEST(SampleSummarizer, ProjectionsFollowNormalWithVarianceNormOverP) {
 }
 
 TEST(SampleSummarizer, SameSeedSameDirectionsOtherSeedOthers) {
-  const ParamLayout layout = layout_of({}, "relu", 3, 2);
+  const ParamLayout layout = make_layout({}, "relu", 3, 2);
   ProbeSet probe;
   probe.x = Eigen::MatrixXf::Zero(3, 0);
   Result<SampleSummarizer> a = SampleSummarizer::create(layout, probe, 4, 9);
@@ -215,7 +210,7 @@ TEST(SampleSummarizer, SameSeedSameDirectionsOtherSeedOthers) {
 }
 
 TEST(SampleSummarizer, RejectsBadProbesAndThetaWithAMessage) {
-  const ParamLayout layout = layout_of({}, "relu", 3, 2);
+  const ParamLayout layout = make_layout({}, "relu", 3, 2);
   ProbeSet wrong_width{Eigen::MatrixXf::Zero(4, 2), {0, 1}};
   Result<SampleSummarizer> a = SampleSummarizer::create(layout, wrong_width);
   ASSERT_FALSE(a.ok());
