@@ -33,5 +33,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
 void add_inspect_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 void add_merge_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 void add_predict_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_assess_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_diagnose_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 
 }  // namespace credence::cli

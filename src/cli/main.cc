@@ -32,6 +32,8 @@ int run(int argc, char** argv) {
   add_schema_command(app, global, commands);
   add_train_command(app, global, commands);
   add_predict_command(app, global, commands);
+  add_assess_command(app, global, commands);
+  add_diagnose_command(app, global, commands);
   add_inspect_command(app, global, commands);
   add_merge_command(app, global, commands);
   add_synth_command(app, global, commands);
