@@ -110,6 +110,8 @@ struct ChainState {
   int chain = 0;
   std::int64_t next_step = 0;            // first step still to run
   std::int64_t kept = 0;                 // samples kept so far
+  double seconds = 0;                    // wall seconds run, resumed sessions included
+  std::int64_t gradient_evals = 0;       // gradient evaluations made
   std::vector<float> theta;              // (P)
   NamedArrays state;                     // sampler state + minibatch position
   ChainStatus status = ChainStatus::kRunning;
@@ -167,7 +169,22 @@ struct RunSummary {
   std::vector<ChainStatus> chain_status;      // (C)
   std::vector<std::string> chain_reason;      // (C)
   std::vector<std::int64_t> steps_per_chain;  // (C) next_step of the committed state
+  /// (C) wall seconds each chain has run and gradient evaluations it has made, up to its
+  /// committed state; empty for a file written before these were recorded.
+  std::vector<double> seconds_per_chain;
+  std::vector<std::int64_t> gradient_evals_per_chain;
   std::int64_t file_bytes = 0;
+};
+
+/// A temperature fitted after training (`credence assess --temperature-scale
+/// --save-temperature`), applied member-wise by predict (fit_ensemble_temperature).
+struct StoredTemperature {
+  double temperature = 1;
+  std::int64_t samples = 0;   // committed samples of the ensemble it was fitted for
+  std::string fitted_on;      // e.g. "validation split, 450 rows"
+  double nll_before = 0;      // NLL on those rows at tau = 1
+  double nll_after = 0;       // ... at the fitted tau
+  std::string fitted_utc;     // ISO 8601
 };
 
 /// Reads a run file. Opens files left by a crash without modifying them.
@@ -199,12 +216,20 @@ class RunReader {
   /// Every chain's last committed state, as reopen() would return it (next_step 0 and
   /// empty arrays for a chain never checkpointed); for merge and inspection.
   Result<std::vector<ChainState>> chain_states() const;      // (C)
+  /// The stored temperature, if any. A temperature fitted for a different number of
+  /// committed samples (the run was resumed since) is stale: empty, with a warning.
+  Result<std::optional<StoredTemperature>> stored_temperature() const;
 
  private:
   struct Impl;
   explicit RunReader(std::unique_ptr<Impl> impl);
   std::unique_ptr<Impl> impl_;
 };
+
+/// Stores (replacing any earlier one) a temperature in a finished run file. Refuses
+/// (kInvalidInput) a run still being written or left by a crash: resume it first.
+/// kIoError when the file cannot be written. No RunReader of the file may be open.
+Status store_temperature(const std::string& path, const StoredTemperature& temperature);
 
 /// Joins runs of the same net and preprocessing into `output`, renumbering chains
 /// (inputs' chains in order). Refuses (kInvalidInput, naming the first difference)

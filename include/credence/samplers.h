@@ -141,6 +141,10 @@ struct ChainCheckpoint {
   int chain = 0;               // 0-based chain (resume uses the list position instead)
   std::int64_t next_step = 0;  // the first step still to run
   std::int64_t kept = 0;       // samples kept so far
+  /// Wall seconds the chain has run and gradient evaluations (calls of the potential's
+  /// minibatch() or full()) it has made, since its start, resumed runs included.
+  double seconds = 0;
+  std::int64_t gradient_evals = 0;
   Eigen::VectorXf theta;       // (P)
   /// The sampler's state arrays (Sampler::save_state) under their own names, and the
   /// potential's (PotentialFn::save_state) under kModelStatePrefix + name.

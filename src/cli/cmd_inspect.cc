@@ -49,7 +49,8 @@ std::string network_text(const RunHeader& header) {
   return text + fmt::format(" -> {} classes", header.preprocessing.class_names.size());
 }
 
-std::string text_report(const std::string& path, const RunHeader& h, const RunSummary& s) {
+std::string text_report(const std::string& path, const RunHeader& h, const RunSummary& s,
+                        const std::optional<StoredTemperature>& temperature) {
   std::string out;
   auto line = [&](std::string_view key, const std::string& value) {
     out += fmt::format("{:<12}{}\n", key, value);
@@ -70,10 +71,22 @@ std::string text_report(const std::string& path, const RunHeader& h, const RunSu
   line("network", fmt::format("{}; {} parameters", network_text(h), h.parameters));
   line("samples", fmt::format("{} kept of {} planned ({} chains x {})", s.samples,
                               h.samples_per_chain * h.chains, h.chains, h.samples_per_chain));
+  const bool costs = s.seconds_per_chain.size() == s.kept_per_chain.size();
   for (std::size_t c = 0; c < s.kept_per_chain.size(); ++c) {
-    out += fmt::format("  chain {:<3} {:<10} step {:<8} kept {:<6} {}\n", c,
+    const std::string cost =
+        costs ? fmt::format("{:>8.1f} s {:>9} gradients  ", s.seconds_per_chain[c],
+                            s.gradient_evals_per_chain[c])
+              : std::string();
+    out += fmt::format("  chain {:<3} {:<10} step {:<8} kept {:<6} {}{}\n", c,
                        chain_status_name(s.chain_status[c]), s.steps_per_chain[c],
-                       s.kept_per_chain[c], s.chain_reason[c]);
+                       s.kept_per_chain[c], cost, s.chain_reason[c]);
+  }
+  if (temperature) {
+    line("calibration",
+         fmt::format("temperature {:.4g} fitted {} on the {} (NLL {:.4f} -> {:.4f}); predict "
+                     "divides every member's logits by it",
+                     temperature->temperature, temperature->fitted_utc, temperature->fitted_on,
+                     temperature->nll_before, temperature->nll_after));
   }
   out += "settings\n";
   for (const auto& [name, value] : h.settings) {
@@ -82,14 +95,28 @@ std::string text_report(const std::string& path, const RunHeader& h, const RunSu
   return out;
 }
 
-std::string json_report(const std::string& path, const RunHeader& h, const RunSummary& s) {
+std::string json_report(const std::string& path, const RunHeader& h, const RunSummary& s,
+                        const std::optional<StoredTemperature>& temperature) {
+  const bool costs = s.seconds_per_chain.size() == s.kept_per_chain.size();
   std::string chains;
   for (std::size_t c = 0; c < s.kept_per_chain.size(); ++c) {
     chains += fmt::format("{}{{\"chain\": {}, \"status\": {}, \"steps\": {}, \"kept\": {}, "
-                          "\"reason\": {}}}",
+                          "\"seconds\": {}, \"gradient_evals\": {}, \"reason\": {}}}",
                           c ? ", " : "", c, json_string(chain_status_name(s.chain_status[c])),
-                          s.steps_per_chain[c], s.kept_per_chain[c], json_string(s.chain_reason[c]));
+                          s.steps_per_chain[c], s.kept_per_chain[c],
+                          costs ? json_number(s.seconds_per_chain[c]) : "null",
+                          costs ? fmt::format("{}", s.gradient_evals_per_chain[c]) : "null",
+                          json_string(s.chain_reason[c]));
   }
+  const std::string temperature_json =
+      temperature ? fmt::format("{{\"temperature\": {}, \"fitted_on\": {}, \"fitted_utc\": {}, "
+                                "\"nll_before\": {}, \"nll_after\": {}}}",
+                                json_number(temperature->temperature),
+                                json_string(temperature->fitted_on),
+                                json_string(temperature->fitted_utc),
+                                json_number(temperature->nll_before),
+                                json_number(temperature->nll_after))
+                  : "null";
   std::string settings;
   for (const auto& [name, value] : h.settings) {
     settings += fmt::format("{}{}: {}", settings.empty() ? "" : ", ", json_string(name),
@@ -105,13 +132,13 @@ std::string json_report(const std::string& path, const RunHeader& h, const RunSu
       "\"data_sha256\": {}, \"data_rows\": {}, \"split\": {{\"train\": {}, \"validation\": {}, "
       "\"test\": {}}}, \"target\": {}, \"classes\": [{}], \"input_width\": {}, "
       "\"parameters\": {}, \"chains\": {}, \"samples_per_chain\": {}, \"samples\": {}, "
-      "\"chain_details\": [{}], \"settings\": {{{}}}}}\n",
+      "\"chain_details\": [{}], \"temperature\": {}, \"settings\": {{{}}}}}\n",
       json_string(path), s.file_bytes, json_string(run_status_name(s.status)),
       s.recovered ? "true" : "false", json_string(h.tool_version), json_string(h.created_utc),
       json_string(h.command_line), json_string(h.data_file), json_string(h.data_sha256),
       h.data_rows, h.train_rows.size(), h.val_rows.size(), h.test_rows.size(),
       json_string(h.preprocessing.target), classes, h.preprocessing.input_width, h.parameters,
-      h.chains, h.samples_per_chain, s.samples, chains, settings);
+      h.chains, h.samples_per_chain, s.samples, chains, temperature_json, settings);
 }
 
 Status run_inspect(const InspectOptions& options) {
@@ -119,11 +146,13 @@ Status run_inspect(const InspectOptions& options) {
   if (!reader.ok()) return reader.status();
   const RunHeader& header = (*reader)->header();
   const RunSummary& summary = (*reader)->summary();
-  const std::string text = text_report(options.run_path, header, summary);
+  Result<std::optional<StoredTemperature>> temperature = (*reader)->stored_temperature();
+  if (!temperature.ok()) return temperature.status();
+  const std::string text = text_report(options.run_path, header, summary, *temperature);
   std::fwrite(text.data(), 1, text.size(), stdout);
   if (!options.json_path.empty()) {
     return write_file_atomically(options.json_path,
-                                 json_report(options.run_path, header, summary));
+                                 json_report(options.run_path, header, summary, *temperature));
   }
   return Status::ok_status();
 }

@@ -356,6 +356,8 @@ ChainCheckpoint checkpoint_of(const ChainState& state) {
   c.chain = state.chain;
   c.next_step = state.next_step;
   c.kept = state.kept;
+  c.seconds = state.seconds;
+  c.gradient_evals = state.gradient_evals;
   c.theta = Eigen::Map<const Eigen::VectorXf>(state.theta.data(),
                                               static_cast<Eigen::Index>(state.theta.size()));
   c.state = state.state;
@@ -367,6 +369,8 @@ ChainState state_of(const ChainCheckpoint& c) {
   s.chain = c.chain;
   s.next_step = c.next_step;
   s.kept = c.kept;
+  s.seconds = c.seconds;
+  s.gradient_evals = c.gradient_evals;
   s.theta.assign(c.theta.data(), c.theta.data() + c.theta.size());
   s.state = c.state;
   s.status = chain_status_of(c.end);

@@ -153,6 +153,8 @@ void create_tables(H5::H5File& file, const RunHeader& header) {
     h5::create_fixed(group, kHasState, h5::Type<std::int8_t>::file(), chains);
     h5::create_fixed(group, kNextStep, h5::Type<std::int64_t>::file(), chains);
     h5::create_fixed(group, kKept, h5::Type<std::int64_t>::file(), chains);
+    h5::create_fixed(group, kSeconds, h5::Type<double>::file(), chains);
+    h5::create_fixed(group, kGradientEvals, h5::Type<std::int64_t>::file(), chains);
     h5::create_fixed(group, kStatus, h5::fixed_string_type(kStatusBytes), chains);
     h5::create_fixed(group, kReason, h5::fixed_string_type(kReasonBytes), chains);
     h5::create_fixed(group, kTheta, h5::Type<float>::file(), chains, p);
@@ -181,7 +183,8 @@ void write_slot(H5::H5File& file, int slot, const RunHeader& header, const Commi
   H5::Group group = file.openGroup(kCheckpoint).openGroup(slot_group(slot));
   const std::size_t chains = committed.states.size();
   std::vector<std::int8_t> has_state(chains);
-  std::vector<std::int64_t> next_step(chains), kept(chains);
+  std::vector<std::int64_t> next_step(chains), kept(chains), gradient_evals(chains);
+  std::vector<double> seconds(chains);
   std::vector<std::string> status(chains), reason(chains);
   const auto p = static_cast<std::size_t>(header.parameters);
   std::vector<float> theta(chains * p, 0.0f);
@@ -190,6 +193,8 @@ void write_slot(H5::H5File& file, int slot, const RunHeader& header, const Commi
     has_state[c] = committed.has_state[c] ? 1 : 0;
     next_step[c] = state.next_step;
     kept[c] = state.kept;
+    seconds[c] = state.seconds;
+    gradient_evals[c] = state.gradient_evals;
     status[c] = chain_status_name(state.status);
     reason[c] = state.reason;
     if (committed.has_state[c] && state.theta.size() == p) {
@@ -203,6 +208,10 @@ void write_slot(H5::H5File& file, int slot, const RunHeader& header, const Commi
   write_all(group, kHasState, has_state);
   write_all(group, kNextStep, next_step);
   write_all(group, kKept, kept);
+  if (group.nameExists(kSeconds)) {  // files of an earlier build lack them
+    write_all(group, kSeconds, seconds);
+    write_all(group, kGradientEvals, gradient_evals);
+  }
   H5::DataSet status_set = group.openDataSet(kStatus);
   h5::write_fixed_strings(status_set, kStatusBytes, status);
   H5::DataSet reason_set = group.openDataSet(kReason);
@@ -248,6 +257,13 @@ Committed read_committed(const H5::H5File& file, const RunHeader& header) {
   std::vector<std::int8_t> has_state = read_exact<std::int8_t>(group, kHasState, chains);
   std::vector<std::int64_t> next_step = read_exact<std::int64_t>(group, kNextStep, chains);
   std::vector<std::int64_t> kept = read_exact<std::int64_t>(group, kKept, chains);
+  committed.costs_recorded = group.nameExists(kSeconds) && group.nameExists(kGradientEvals);
+  std::vector<double> seconds = committed.costs_recorded
+                                    ? read_exact<double>(group, kSeconds, chains)
+                                    : std::vector<double>(chains, 0.0);
+  std::vector<std::int64_t> gradient_evals =
+      committed.costs_recorded ? read_exact<std::int64_t>(group, kGradientEvals, chains)
+                               : std::vector<std::int64_t>(chains, 0);
   std::vector<std::string> status = h5::read_fixed_strings(group.openDataSet(kStatus));
   std::vector<std::string> reason = h5::read_fixed_strings(group.openDataSet(kReason));
   const auto p = static_cast<std::size_t>(header.parameters);
@@ -271,6 +287,8 @@ Committed read_committed(const H5::H5File& file, const RunHeader& header) {
     if (!committed.has_state[c]) continue;
     state.next_step = next_step[c];
     state.kept = kept[c];
+    state.seconds = seconds[c];
+    state.gradient_evals = gradient_evals[c];
     state.theta.assign(theta.begin() + static_cast<std::ptrdiff_t>(c * p),
                        theta.begin() + static_cast<std::ptrdiff_t>((c + 1) * p));
   }

@@ -97,6 +97,9 @@ inline constexpr const char* kCommittedTraces = "committed_traces";       // int
 inline constexpr const char* kHasState = "has_state";                     // int8 (C)
 inline constexpr const char* kNextStep = "next_step";                     // int64 (C)
 inline constexpr const char* kKept = "kept";                              // int64 (C)
+// Added within format 1: readers treat their absence (older files) as "not recorded".
+inline constexpr const char* kSeconds = "seconds";                        // float64 (C)
+inline constexpr const char* kGradientEvals = "gradient_evals";           // int64 (C)
 inline constexpr const char* kStatus = "status";                          // string16 (C)
 inline constexpr const char* kReason = "reason";                          // string512 (C)
 // theta (C, P) float32 reuses kTheta; the NamedArrays under state/{floats,doubles,words}.
@@ -113,6 +116,14 @@ inline constexpr const char* kActiveSlot = "active_slot";  // int32 (1): -1, 0 o
 // Fixed string widths (bytes, null padded) of the status and reason datasets.
 inline constexpr std::size_t kStatusBytes = 16;
 inline constexpr std::size_t kReasonBytes = 512;
+
+// /calibration: written after training by `assess --save-temperature` (attributes).
+inline constexpr const char* kCalibration = "calibration";
+inline constexpr const char* kTemperature = "temperature";    // float64
+inline constexpr const char* kFittedOn = "fitted_on";         // string
+inline constexpr const char* kNllBefore = "nll_before";       // float64
+inline constexpr const char* kNllAfter = "nll_after";         // float64
+inline constexpr const char* kFittedUtc = "fitted_utc";       // string
 
 // Chunking: about 512 KiB of theta per chunk; 4096 rows for narrow tables.
 inline constexpr std::int64_t kThetaChunkBytes = 512 * 1024;

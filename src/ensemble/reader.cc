@@ -1,4 +1,5 @@
 // RunReader: opens a run file (also one left by a crash) and reads its committed rows.
+#include <cmath>
 #include <filesystem>
 #include <system_error>
 
@@ -6,6 +7,7 @@
 #include "ensemble/h5_util.h"
 #include "ensemble/layout.h"
 #include "ensemble/run_file.h"
+#include "util/log.h"
 
 namespace credence {
 using namespace credence::layout;
@@ -137,6 +139,10 @@ Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
           s.chain_status.push_back(state.status);
           s.chain_reason.push_back(state.reason);
           s.steps_per_chain.push_back(state.next_step);
+          if (impl->committed.costs_recorded) {
+            s.seconds_per_chain.push_back(state.seconds);
+            s.gradient_evals_per_chain.push_back(state.gradient_evals);
+          }
         }
         return Status::ok_status();
       });
@@ -210,5 +216,60 @@ Result<std::vector<TraceRecord>> RunReader::traces(int chain) const {
 }
 
 Result<std::vector<ChainState>> RunReader::chain_states() const { return impl_->committed.states; }
+
+Result<std::optional<StoredTemperature>> RunReader::stored_temperature() const {
+  const Impl& m = *impl_;
+  std::optional<StoredTemperature> out;
+  Status status = h5::guard(m.context(), StatusCode::kCorrupt, [&]() {
+    if (!m.file.nameExists(kCalibration)) return Status::ok_status();
+    H5::Group group = m.file.openGroup(kCalibration);
+    StoredTemperature t;
+    t.temperature = h5::read_attr_f64(group, kTemperature);
+    t.samples = h5::read_attr_i64(group, kCommittedSamples);
+    t.fitted_on = h5::read_attr_string(group, kFittedOn);
+    t.nll_before = h5::read_attr_f64(group, kNllBefore);
+    t.nll_after = h5::read_attr_f64(group, kNllAfter);
+    t.fitted_utc = h5::read_attr_string(group, kFittedUtc);
+    if (!(t.temperature > 0) || !std::isfinite(t.temperature)) {
+      return Status::corrupt(m.context() + ": the stored temperature is not a positive number");
+    }
+    if (t.samples != m.committed.samples) {
+      log().warn("{}: ignoring the stored temperature {:.4g}: it was fitted for {} samples and "
+                 "the run now holds {}; fit it again with assess --temperature-scale",
+                 m.path, t.temperature, t.samples, m.committed.samples);
+      return Status::ok_status();
+    }
+    out = std::move(t);
+    return Status::ok_status();
+  });
+  if (!status.ok()) return status;
+  return out;
+}
+
+Status store_temperature(const std::string& path, const StoredTemperature& temperature) {
+  {
+    Result<std::unique_ptr<RunReader>> check = RunReader::open(path);
+    if (!check.ok()) return check.status();
+    const RunSummary& summary = (*check)->summary();
+    if (summary.recovered || summary.status == RunStatus::kRunning) {
+      return Status::invalid_input("run file " + path +
+                                   " is still being written or was left by a crash; finish "
+                                   "it with train --resume before storing a temperature");
+    }
+  }
+  return h5::guard("storing a temperature in " + path, StatusCode::kIoError, [&]() {
+    H5::H5File file(path, H5F_ACC_RDWR);
+    H5::Group group = file.nameExists(kCalibration) ? file.openGroup(kCalibration)
+                                                    : file.createGroup(kCalibration);
+    h5::write_attr(group, kTemperature, temperature.temperature);
+    h5::write_attr(group, kCommittedSamples, temperature.samples);
+    h5::write_attr(group, kFittedOn, temperature.fitted_on);
+    h5::write_attr(group, kNllBefore, temperature.nll_before);
+    h5::write_attr(group, kNllAfter, temperature.nll_after);
+    h5::write_attr(group, kFittedUtc, temperature.fitted_utc);
+    file.flush(H5F_SCOPE_GLOBAL);
+    return Status::ok_status();
+  });
+}
 
 }  // namespace credence

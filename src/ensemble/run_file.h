@@ -40,6 +40,7 @@ struct Committed {
   std::vector<std::int64_t> traces;             // (C) committed trace rows per chain
   std::vector<bool> has_state;                  // (C)
   std::vector<ChainState> states;               // (C); next_step 0, empty arrays if !has_state
+  bool costs_recorded = false;                  // the slot has seconds and gradient_evals
 };
 
 /// Creates /samples, /traces, both checkpoint slots and /run (status "running",

@@ -4,6 +4,7 @@
 #include <omp.h>
 
 #include <atomic>
+#include <chrono>
 #include <cmath>
 #include <mutex>
 #include <string>
@@ -52,6 +53,34 @@ void add_model_state(const NamedArrays& model, NamedArrays& into) {
   merge(model.words, into.words);
 }
 
+// Counts gradient evaluations for the run file's cost figures (ESS per 1000 gradients):
+// every call that returns a gradient, whatever the method does with it.
+class CountingPotential final : public PotentialFn {
+ public:
+  CountingPotential(std::unique_ptr<PotentialFn> inner, std::int64_t start)
+      : inner_(std::move(inner)), count_(start) {}
+  std::int64_t count() const { return count_; }
+
+  std::int64_t rows() const override { return inner_->rows(); }
+  Status minibatch(ConstThetaRef theta, ThetaRef grad, MinibatchValue& out) override {
+    ++count_;
+    return inner_->minibatch(theta, grad, out);
+  }
+  Status full(ConstThetaRef theta, ThetaRef grad, double& potential) override {
+    ++count_;
+    return inner_->full(theta, grad, potential);
+  }
+  bool gradient_noise_variance(ThetaRef vhat) override {
+    return inner_->gradient_noise_variance(vhat);
+  }
+  void save_state(NamedArrays& out) const override { inner_->save_state(out); }
+  Status restore_state(const NamedArrays& in) override { return inner_->restore_state(in); }
+
+ private:
+  std::unique_ptr<PotentialFn> inner_;
+  std::int64_t count_;
+};
+
 // One chain: next batch and gradient, step, maybe keep a sample; checkpoints on the side.
 class ChainRunner {
  public:
@@ -66,8 +95,11 @@ class ChainRunner {
  private:
   // Builds the potential and the sampler and places theta (fresh or resumed).
   Status start() {
-    potential_ = cx_.factory(chain_);
-    if (!potential_) return Status::invalid_input("the potential factory returned null");
+    std::unique_ptr<PotentialFn> made_potential = cx_.factory(chain_);
+    if (!made_potential) return Status::invalid_input("the potential factory returned null");
+    potential_ = std::make_unique<CountingPotential>(
+        std::move(made_potential), cx_.resume ? cx_.resume->gradient_evals : 0);
+    seconds_before_ = cx_.resume ? cx_.resume->seconds : 0.0;
     Result<std::unique_ptr<Sampler>> made =
         Sampler::create(cx_.settings, cx_.parameters, potential_->rows(),
                         mix_seed(cx_.layout.seed, static_cast<std::uint64_t>(chain_)));
@@ -209,6 +241,10 @@ class ChainRunner {
     checkpoint_.chain = chain_;
     checkpoint_.next_step = next_step;
     checkpoint_.kept = kept_;
+    checkpoint_.seconds =
+        seconds_before_ +
+        std::chrono::duration<double>(std::chrono::steady_clock::now() - started_).count();
+    checkpoint_.gradient_evals = potential_->count();
     checkpoint_.theta = theta_;
     checkpoint_.state = sampler_->save_state();
     model_state_ = NamedArrays();
@@ -236,8 +272,10 @@ class ChainRunner {
 
   const ChainContext& cx_;
   const int chain_;
-  std::unique_ptr<PotentialFn> potential_;
+  std::unique_ptr<CountingPotential> potential_;
   std::unique_ptr<Sampler> sampler_;
+  const std::chrono::steady_clock::time_point started_ = std::chrono::steady_clock::now();
+  double seconds_before_ = 0;  // run time of earlier sessions of a resumed chain
   Eigen::VectorXf theta_;  // (P)
   std::int64_t step_ = 0;  // the next step to run
   std::int64_t kept_ = 0;
