@@ -268,6 +268,20 @@ Eigen::MatrixXd apply_temperature(ProbsRef z, double temperature);
 /// NLL of softmax(z / tau) against labels. REQUIRES: as fit_temperature, tau > 0.
 double temperature_nll(ProbsRef z, LabelSpan labels, double temperature);
 
+/// Temperature scaling of an ensemble member by member: every member's log-probabilities
+/// (its logits up to a constant per row) are divided by tau and renormalised before the
+/// average, pbar_tau = (1/S) sum_s softmax(log p_s / tau). The tempered ensemble is still
+/// an average of distributions, so H = E H + MI holds for it as before. With one member
+/// this is fit_temperature. Fails with kInvalidInput on NaN or +inf entries, or when a
+/// label has probability 0 under every member.
+/// REQUIRES: member_log_probs non-empty, each (K, n) of one shape, n == labels.size() >= 1,
+/// labels in [0, K).
+Result<TemperatureFit> fit_ensemble_temperature(std::span<const Eigen::MatrixXd> member_log_probs,
+                                                LabelSpan labels);
+/// NLL of the member-wise tempered ensemble average. REQUIRES: as above, tau > 0.
+double ensemble_temperature_nll(std::span<const Eigen::MatrixXd> member_log_probs,
+                                LabelSpan labels, double temperature);
+
 // ---------------------------------------------------------------------------------------
 // Bootstrap intervals
 

@@ -65,7 +65,9 @@ struct Prediction {
 class EnsembleAverager {
  public:
   /// Starts a new average over B rows and K classes; allocates only when the shape grows.
-  void reset(Index num_classes, Index rows);
+  /// With temperature tau != 1 every member is tempered first, softmax(log p_s / tau)
+  /// (member-wise temperature scaling, fit_ensemble_temperature). REQUIRES: tau > 0.
+  void reset(Index num_classes, Index rows, double temperature = 1.0);
   /// Adds one member's log-probabilities. REQUIRES: log_probs is (K, B) of reset().
   void add_member(const Eigen::Ref<const Eigen::MatrixXf>& log_probs);
   void add_member(const Eigen::Ref<const Eigen::MatrixXd>& log_probs);
@@ -80,6 +82,8 @@ class EnsembleAverager {
   // result into a Prediction with classes and confidences.
   UncertaintyAccumulator accumulator_;
   mutable UncertaintySplit split_;  // finish()'s buffers, reused block after block
+  double temperature_ = 1.0;
+  Eigen::MatrixXd tempered_;        // (K, B) a tempered member, reused
 };
 
 /// `wanted` indices spread evenly over 0..available-1 (floor(i * available / wanted)),
@@ -90,11 +94,14 @@ std::vector<Index> spread_samples(Index available, Index wanted);
 // Predictor: a kept ensemble ready to predict.
 
 struct PredictorOptions {
-  /// Kept samples to use, spread evenly over the ensemble in stored order
+  /// Kept samples to use, spread evenly over the ensemble ordered by (chain, kept number)
   /// (spread_samples). Default 0: all of them. More than the run holds: all of them.
   std::int64_t samples = 0;
   /// Rows per forward pass, the width a Workspace is sized for. Default 4096.
   std::int64_t block_rows = 4096;
+  /// Member-wise temperature (EnsembleAverager::reset). Empty (default): the temperature
+  /// stored in the run by `assess --save-temperature`, or 1 when there is none.
+  std::optional<double> temperature;
 };
 
 class Predictor {
@@ -112,6 +119,11 @@ class Predictor {
   Index num_samples() const { return samples_.cols(); }
   Index num_classes() const { return network_.layout().num_classes; }
   Index block_rows() const { return block_rows_; }
+  /// The member-wise temperature every prediction uses (1: none).
+  double temperature() const { return temperature_; }
+  /// The kept samples in use, one per column. (P, S)
+  const Eigen::MatrixXf& samples() const { return samples_; }
+  const Network<float>& network() const { return network_; }
 
   /// A workspace for blocks of up to block_rows() rows (one per thread).
   Workspace<float> make_workspace() const { return Workspace<float>(layout(), block_rows_); }
@@ -128,13 +140,53 @@ class Predictor {
 
  private:
   Predictor(Preprocessing preprocessing, ParamLayout layout, Eigen::MatrixXf samples,
-            Index block_rows);
+            Index block_rows, double temperature);
 
   Preprocessing preprocessing_;
   Network<float> network_;
   Eigen::MatrixXf samples_;  // (P, S)
   Index block_rows_ = 0;
+  double temperature_ = 1.0;
 };
+
+// ---------------------------------------------------------------------------------------
+// Scoring a kept ensemble on labelled rows: the model average, and every member alone.
+
+/// One member's scores on the rows, as if it were the whole model.
+struct MemberScores {
+  double accuracy = 0;
+  double nll = 0;    // nats
+  double brier = 0;  // multi-class
+  double ece = 0;    // top-label, equal-width bins (EvaluateOptions::ece_bins)
+};
+
+struct EvaluateOptions {
+  /// Bins of each member's ECE. Default 15.
+  int ece_bins = 15;
+  /// Keep every member's (K, n) log-probabilities (for fitting a temperature).
+  bool keep_member_log_probs = false;
+  /// Member-wise temperature. Empty (default): the predictor's own.
+  std::optional<double> temperature;
+};
+
+struct EnsembleEvaluation {
+  /// The model average: log_mean (K, n), H, E H and MI per row, of the tempered members.
+  UncertaintySplit split;
+  std::vector<MemberScores> members;              // (S)
+  std::vector<Eigen::MatrixXd> member_log_probs;  // (S) of (K, n), when kept
+  double temperature = 1;                         // the temperature used
+};
+
+/// Runs every kept sample over encoded rows x (D, n) with labels (n): the model average
+/// with its uncertainty split (as predict computes it), and each member's accuracy, NLL,
+/// Brier score and ECE on its own, so that the gain of averaging shows. Blocks of
+/// block_rows() rows run in parallel; results do not depend on the thread count.
+/// kInvalidInput when x has the wrong width, n == 0, a label is out of range or the
+/// temperature is not positive.
+Result<EnsembleEvaluation> evaluate_ensemble(const Predictor& predictor,
+                                             const Eigen::Ref<const Eigen::MatrixXf>& x,
+                                             std::span<const std::int32_t> labels,
+                                             const EvaluateOptions& options);
 
 // ---------------------------------------------------------------------------------------
 // From a CSV file to a predictions CSV.

@@ -26,6 +26,7 @@ struct PredictFlags {
   std::int64_t samples = 0;
   std::optional<double> flag_above;
   std::string flag_by = "entropy";
+  std::optional<double> temperature;
 };
 
 // The delimiter and missing-value tokens the run was trained with.
@@ -77,11 +78,25 @@ Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
                run_status_name(status));
   }
   options.read = stored_read_options(header);
-  Result<Predictor> predictor = Predictor::create(**run, {.samples = flags.samples});
+  PredictorOptions predictor_options;
+  predictor_options.samples = flags.samples;
+  predictor_options.temperature = flags.temperature;
+  if (flags.temperature && !(*flags.temperature > 0 && std::isfinite(*flags.temperature))) {
+    return Status::invalid_input(fmt::format(
+        "--temperature {}: give a positive number (1 leaves the members as trained)",
+        *flags.temperature));
+  }
+  Result<Predictor> predictor = Predictor::create(**run, predictor_options);
   if (!predictor.ok()) {
     return Status(predictor.status().code(), flags.run_path + ": " + predictor.status().message());
   }
   run->reset();  // the samples now live in the predictor
+  if (predictor->temperature() != 1.0 && !flags.temperature && !global.quiet) {
+    std::fprintf(stderr,
+                 "using the temperature %.4g stored in the run (assess --save-temperature); "
+                 "--temperature 1 turns it off\n",
+                 predictor->temperature());
+  }
 
   Result<PredictCsvSummary> done = predict_csv(*predictor, flags.data_path, flags.out, options);
   if (!done.ok()) return done.status();
@@ -123,6 +138,9 @@ void add_predict_command(CLI::App& app, const GlobalOptions& global, CommandList
   sub->add_option("--flag-by", flags->flag_by,
                   "Uncertainty compared with --flag-above: entropy (total) or mi (epistemic)")
       ->capture_default_str();
+  sub->add_option("--temperature", flags->temperature,
+                  "Divide every member's logits by T before averaging (default: the "
+                  "temperature stored by assess --save-temperature, else 1)");
   commands.push_back({sub, [flags, &global] { return run_predict(*flags, global); }});
 }
 

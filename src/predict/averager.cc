@@ -6,16 +6,42 @@
 
 namespace credence {
 
-void EnsembleAverager::reset(Index num_classes, Index rows) {
+void EnsembleAverager::reset(Index num_classes, Index rows, double temperature) {
+  assert(temperature > 0);
   accumulator_.reset(num_classes, rows);
+  temperature_ = temperature;
+  if (temperature_ != 1.0) tempered_.resize(num_classes, rows);
 }
 
+namespace {
+// tempered = log softmax(log_probs / tau), column by column.
+template <typename Derived>
+void temper(const Eigen::MatrixBase<Derived>& log_probs, double temperature,
+            Eigen::MatrixXd& tempered) {
+  tempered = log_probs.template cast<double>() / temperature;
+  for (Index b = 0; b < tempered.cols(); ++b) {
+    const double top = tempered.col(b).maxCoeff();
+    tempered.col(b).array() -= top + std::log((tempered.col(b).array() - top).exp().sum());
+  }
+}
+}  // namespace
+
 void EnsembleAverager::add_member(const Eigen::Ref<const Eigen::MatrixXf>& log_probs) {
-  accumulator_.add_member(log_probs);
+  if (temperature_ == 1.0) {
+    accumulator_.add_member(log_probs);
+    return;
+  }
+  temper(log_probs, temperature_, tempered_);
+  accumulator_.add_member(tempered_);
 }
 
 void EnsembleAverager::add_member(const Eigen::Ref<const Eigen::MatrixXd>& log_probs) {
-  accumulator_.add_member(log_probs);
+  if (temperature_ == 1.0) {
+    accumulator_.add_member(log_probs);
+    return;
+  }
+  temper(log_probs, temperature_, tempered_);
+  accumulator_.add_member(tempered_);
 }
 
 void EnsembleAverager::finish(Prediction& out) const {

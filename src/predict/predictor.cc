@@ -1,7 +1,11 @@
 // Predictor: a run's preprocessing, network and kept samples, ready to predict rows.
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cassert>
+#include <numeric>
+#include <utility>
+#include <cmath>
 
 #include "credence/ensemble.h"
 #include "credence/predict.h"
@@ -10,17 +14,23 @@
 namespace credence {
 
 Predictor::Predictor(Preprocessing preprocessing, ParamLayout layout, Eigen::MatrixXf samples,
-                     Index block_rows)
+                     Index block_rows, double temperature)
     : preprocessing_(std::move(preprocessing)),
       network_(std::move(layout)),
       samples_(std::move(samples)),
-      block_rows_(block_rows) {}
+      block_rows_(block_rows),
+      temperature_(temperature) {}
 
 Result<Predictor> Predictor::from_parts(Preprocessing preprocessing, const std::string& net_text,
                                         Eigen::MatrixXf samples, const PredictorOptions& options) {
   if (options.block_rows < 1) {
     return Status::invalid_input(
         fmt::format("block of {} rows asked for; use at least 1", options.block_rows));
+  }
+  const double temperature = options.temperature.value_or(1.0);
+  if (!(temperature > 0) || !std::isfinite(temperature)) {
+    return Status::invalid_input(
+        fmt::format("temperature {} asked for; give a positive finite number", temperature));
   }
   if (samples.cols() == 0) {
     return Status::invalid_input(
@@ -54,14 +64,37 @@ Result<Predictor> Predictor::from_parts(Preprocessing preprocessing, const std::
     samples = std::move(kept);
   }
   return Predictor(std::move(preprocessing), std::move(*layout), std::move(samples),
-                   static_cast<Index>(options.block_rows));
+                   static_cast<Index>(options.block_rows), temperature);
 }
 
 Result<Predictor> Predictor::create(const RunReader& run, const PredictorOptions& options) {
   Result<Eigen::MatrixXf> samples = run.samples();
   if (!samples.ok()) return samples.status();
+  // Rows are stored in commit order, which depends on thread timing; sort them by
+  // (chain, kept number) so that --samples N picks the same members every time.
+  Result<std::vector<std::int32_t>> chains = run.sample_chains();
+  if (!chains.ok()) return chains.status();
+  Result<std::vector<std::int64_t>> indices = run.sample_indices();
+  if (!indices.ok()) return indices.status();
+  std::vector<Index> order(static_cast<std::size_t>(samples->cols()));
+  std::iota(order.begin(), order.end(), Index{0});
+  std::stable_sort(order.begin(), order.end(), [&](Index a, Index b) {
+    const auto ua = static_cast<std::size_t>(a), ub = static_cast<std::size_t>(b);
+    return std::pair((*chains)[ua], (*indices)[ua]) < std::pair((*chains)[ub], (*indices)[ub]);
+  });
+  Eigen::MatrixXf sorted(samples->rows(), samples->cols());  // (P, S)
+  for (std::size_t i = 0; i < order.size(); ++i) {
+    sorted.col(static_cast<Index>(i)) = samples->col(order[i]);
+  }
+  *samples = std::move(sorted);
   const RunHeader& header = run.header();
-  return from_parts(header.preprocessing, header.net_text, std::move(*samples), options);
+  PredictorOptions chosen = options;
+  if (!chosen.temperature) {
+    Result<std::optional<StoredTemperature>> stored = run.stored_temperature();
+    if (!stored.ok()) return stored.status();
+    if (*stored) chosen.temperature = (*stored)->temperature;
+  }
+  return from_parts(header.preprocessing, header.net_text, std::move(*samples), chosen);
 }
 
 Status Predictor::predict_encoded(Workspace<float>& ws, EnsembleAverager& averager,
@@ -72,7 +105,7 @@ Status Predictor::predict_encoded(Workspace<float>& ws, EnsembleAverager& averag
                                              x.rows(), x.cols(), layout().input_width,
                                              block_rows_));
   }
-  averager.reset(num_classes(), x.cols());
+  averager.reset(num_classes(), x.cols(), temperature_);
   for (Index s = 0; s < samples_.cols(); ++s) {
     CREDENCE_RETURN_IF_ERROR(network_.forward(ws, samples_.col(s), x));
     averager.add_member(ws.log_probs());  // (K, B)

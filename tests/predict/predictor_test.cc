@@ -6,24 +6,14 @@
 #include <random>
 
 #include "credence/predict.h"
+#include "testing/predict_fixtures.h"
 #include "testing/seed.h"
 
 namespace credence {
 namespace {
 
-Preprocessing two_input_preprocessing() {
-  Preprocessing p;
-  p.input_width = 2;
-  p.class_names = {"a", "b", "c"};
-  p.target = "y";
-  return p;
-}
-
-std::string small_net() {
-  NetSpec spec;
-  spec.hidden = {{4, Activation::kTanh}};
-  return format_net_spec(spec);
-}
+using testing::small_net;
+using testing::two_input_preprocessing;
 
 TEST(Predictor, BlockedAverageMatchesPlainLoop) {
   std::mt19937_64 rng(testing::test_seed(11));
@@ -37,7 +27,7 @@ TEST(Predictor, BlockedAverageMatchesPlainLoop) {
   for (Index i = 0; i < x.size(); ++i) x.data()[i] = normal(rng);
 
   Result<Predictor> predictor =
-      Predictor::from_parts(two_input_preprocessing(), net, samples, {.block_rows = 8});
+      Predictor::from_parts(two_input_preprocessing(), net, samples, {.samples = 0, .block_rows = 8, .temperature = {}});
   ASSERT_TRUE(predictor.ok()) << predictor.status().message();
   Workspace<float> ws = predictor->make_workspace();
   EnsembleAverager averager;
@@ -70,7 +60,7 @@ TEST(Predictor, UsesSamplesSpreadEvenly) {
   Eigen::MatrixXf samples = Eigen::MatrixXf::Zero(layout->num_params, 10);
   Result<Predictor> all = Predictor::from_parts(two_input_preprocessing(), net, samples, {});
   Result<Predictor> some =
-      Predictor::from_parts(two_input_preprocessing(), net, samples, {.samples = 4});
+      Predictor::from_parts(two_input_preprocessing(), net, samples, {.samples = 4, .block_rows = 4096, .temperature = {}});
   ASSERT_TRUE(all.ok() && some.ok());
   EXPECT_EQ(all->num_samples(), 10);
   EXPECT_EQ(some->num_samples(), 4);
