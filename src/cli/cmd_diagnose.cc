@@ -1,11 +1,231 @@
-// credence diagnose: placeholder until the command lands.
+// `credence diagnose`: do the chains agree? R-hat and ESS of the run's function-space
+// summaries (METHODS.md 10), as a table on stdout and optionally as JSON.
+#include <fmt/format.h>
+
+#include <cmath>
+#include <cstdio>
+#include <limits>
+#include <map>
+
 #include "cli/commands.h"
+#include "cli/json.h"
+#include "credence/ensemble.h"
+#include "credence/run_diagnostics.h"
+#include "util/atomic_file.h"
 
 namespace credence::cli {
+namespace {
+
+struct DiagnoseOptions {
+  std::string run_path;
+  std::string json_path;
+  bool all = false;
+};
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+constexpr std::string_view kWhyFunctionSpace =
+    "Weights are not compared across chains: hidden units can be permuted and sign-flipped "
+    "without changing the network, so parameter-space R-hat means nothing; the summaries below "
+    "are in function space.";
+
+std::string number(double value, int decimals) {
+  if (std::isnan(value)) return "-";
+  if (std::isinf(value)) return value > 0 ? "inf" : "-inf";
+  return fmt::format("{:.{}f}", value, decimals);
+}
+std::string number(const std::optional<double>& value, int decimals) {
+  return value ? number(*value, decimals) : "-";
+}
+
+// Worse means a larger R-hat, or with no R-hat (one chain, projections) a smaller bulk-ESS.
+bool worse(const SummaryDiagnostics& a, const SummaryDiagnostics& b) {
+  const bool within = a.group == SummaryGroup::kProjection;
+  const double ra = within ? kNaN : a.stats.rhat.value_or(kNaN);
+  const double rb = within ? kNaN : b.stats.rhat.value_or(kNaN);
+  if (!std::isnan(ra) || !std::isnan(rb)) {
+    if (std::isnan(rb)) return true;
+    if (std::isnan(ra)) return false;
+    if (ra != rb) return ra > rb;
+  }
+  if (std::isnan(b.stats.ess_bulk)) return !std::isnan(a.stats.ess_bulk);
+  return !std::isnan(a.stats.ess_bulk) && a.stats.ess_bulk < b.stats.ess_bulk;
+}
+
+// Projections show no R-hat: they differ between chains in equivalent modes by design.
+std::string row(const std::string& label, const SummaryDiagnostics& s, const std::string& flags) {
+  const bool within = s.group == SummaryGroup::kProjection;
+  const std::optional<double> none;
+  return fmt::format("{:<34} {:>7} {:>7} {:>7} {:>9} {:>9} {:>8} {:>9}  {}\n", label,
+                     number(within ? none : s.stats.rhat, 3), number(within ? none : s.stats.rhat_bulk, 3),
+                     number(within ? none : s.stats.rhat_folded, 3), number(s.stats.ess_bulk, 0),
+                     number(s.stats.ess_tail, 0), number(s.ess_per_second, 2),
+                     number(s.ess_per_1000_grads, 2), flags);
+}
+
+std::string flag_text(const SummaryDiagnostics& s, double ess_threshold) {
+  std::string text;
+  if (s.flag_rhat) text += "R-hat>1.01 ";
+  if (s.flag_ess) text += fmt::format("bulk<{} ", ess_threshold);
+  if (s.flag_ess_tail) text += fmt::format("tail<{}", ess_threshold);
+  if (!s.in_verdict && !text.empty()) text += " (not in verdict)";
+  return text;
+}
+
+std::string group_label(SummaryGroup group, std::size_t count) {
+  switch (group) {
+    case SummaryGroup::kProbeLogLik: return "probe log-likelihood";
+    case SummaryGroup::kProbeProb: return fmt::format("probe probabilities ({} rows)", count);
+    case SummaryGroup::kLayerSqNorm: return fmt::format("layer squared norms ({})", count);
+    case SummaryGroup::kProjection: return fmt::format("projections ({}, within-chain)", count);
+    case SummaryGroup::kPotential: return "potential U (trace, after burn-in)";
+  }
+  return "?";
+}
+
+std::string text_report(const std::string& path, const RunDiagnostics& d, bool all) {
+  std::string out = fmt::format("run {}: {}, {} chain{} x {} kept samples used", path, d.method,
+                                d.chains, d.chains == 1 ? "" : "s", d.draws_per_chain);
+  if (d.thin) out += fmt::format(", thinning {}", *d.thin);
+  out += "\n";
+  out += std::string(kWhyFunctionSpace) + "\n\n";
+  out += fmt::format("{:<34} {:>7} {:>7} {:>7} {:>9} {:>9} {:>8} {:>9}  {}\n", "summary", "R-hat",
+                     "bulk", "folded", "ESS bulk", "ESS tail", "ESS/s", "ESS/1k g", "flags");
+  // ESS rates divide bulk-ESS by the cost summed over chains (seconds, gradients).
+  // Groups in the order they were computed, each collapsed to its worst member.
+  std::vector<SummaryGroup> order;
+  std::map<SummaryGroup, std::vector<const SummaryDiagnostics*>> groups;
+  for (const SummaryDiagnostics& s : d.summaries) {
+    if (groups[s.group].empty()) order.push_back(s.group);
+    groups[s.group].push_back(&s);
+  }
+  for (SummaryGroup group : order) {
+    const auto& members = groups[group];
+    if (all || members.size() == 1) {
+      for (const SummaryDiagnostics* s : members) {
+        out += row(members.size() == 1 ? group_label(group, 1) : s->name, *s, flag_text(*s, d.ess_threshold));
+      }
+      continue;
+    }
+    const SummaryDiagnostics* worst = members[0];
+    int flagged = 0;
+    for (const SummaryDiagnostics* s : members) {
+      if (worse(*s, *worst)) worst = s;
+      flagged += (s->flag_rhat || s->flag_ess || s->flag_ess_tail) ? 1 : 0;
+    }
+    out += row(group_label(group, members.size()), *worst,
+               fmt::format("worst {}; {} of {} flagged", worst->name, flagged, members.size()));
+  }
+  out += "\n";
+  if (!d.speed_ratio_per_chain.empty()) {
+    std::string ratios;
+    for (double r : d.speed_ratio_per_chain) ratios += (ratios.empty() ? "" : ", ") + number(r, 3);
+    out += fmt::format("mean |v|/c per chain: {}. {}\n", ratios, d.speed_note);
+  }
+  for (const std::string& note : d.notes) out += "note: " + note + "\n";
+  switch (d.verdict) {
+    case MixingVerdict::kMixed:
+      out += fmt::format("verdict: mixed. Max R-hat {} <= 1.01, min bulk-ESS {} and tail-ESS {} >= {} "
+                         "over the function-space summaries.\n", number(d.max_rhat, 3),
+                         number(d.min_ess_bulk, 0), number(d.min_ess_tail, 0), d.ess_threshold);
+      break;
+    case MixingVerdict::kNotMixed:
+      out += fmt::format("verdict: NOT mixed. {} function-space summar{} flagged ({}min bulk-ESS {}); "
+                         "run longer or more chains before trusting the ensemble.\n",
+                         d.flagged, d.flagged == 1 ? "y" : "ies",
+                         d.chains >= 2 ? "max R-hat " + number(d.max_rhat, 3) + ", " : "one chain, ",
+                         number(d.min_ess_bulk, 0));
+      break;
+    case MixingVerdict::kSingleChain:
+      out += fmt::format("verdict: one chain, min bulk-ESS {}; R-hat needs two or more chains, so "
+                         "agreement between chains is unchecked.\n", number(d.min_ess_bulk, 0));
+      break;
+    case MixingVerdict::kNotEnoughDraws:
+      out += "verdict: too few kept samples to diagnose.\n";
+      break;
+  }
+  out += fmt::format("Thresholds: R-hat 1.01, bulk- and tail-ESS 100 per chain ({} here), both from "
+                     "\"Rank-normalization, folding, and localization\" (Bayesian Analysis, 2021). "
+                     "Flags are information: exit code 0.\n", d.ess_threshold);
+  return out;
+}
+
+std::string json_optional(const std::optional<double>& value) {
+  return value ? json_number(*value) : "null";
+}
+
+std::string json_strings(const std::vector<std::string>& items) {
+  std::string out;
+  for (const std::string& item : items) out += (out.empty() ? "" : ", ") + json_string(item);
+  return "[" + out + "]";
+}
+
+std::string json_report(const std::string& path, const RunDiagnostics& d) {
+  std::string summaries;
+  for (const SummaryDiagnostics& s : d.summaries) {
+    summaries += fmt::format(
+        "{}\n    {{\"name\": {}, \"group\": {}, \"index\": {}, \"in_verdict\": {}, \"rhat\": {}, "
+        "\"rhat_bulk\": {}, \"rhat_folded\": {}, \"rhat_split\": {}, \"ess_bulk\": {}, "
+        "\"ess_tail\": {}, \"ess_per_second\": {}, \"ess_per_1000_grads\": {}, \"flagged\": {}, "
+        "\"flag_rhat\": {}, \"flag_ess\": {}, \"flag_ess_tail\": {}, \"draws_per_chain\": {}, "
+        "\"notes\": {}}}",
+        summaries.empty() ? "" : ",", json_string(s.name), json_string(summary_group_name(s.group)),
+        s.index, s.in_verdict, json_optional(s.stats.rhat), json_optional(s.stats.rhat_bulk),
+        json_optional(s.stats.rhat_folded), json_optional(s.stats.rhat_split),
+        json_number(s.stats.ess_bulk), json_number(s.stats.ess_tail), json_number(s.ess_per_second),
+        json_number(s.ess_per_1000_grads), s.flag_rhat || s.flag_ess || s.flag_ess_tail, s.flag_rhat,
+        s.flag_ess, s.flag_ess_tail,
+        s.stats.draws_per_chain, json_strings(s.stats.notes));
+  }
+  std::string kept, speeds;
+  for (std::int64_t k : d.kept_per_chain) kept += (kept.empty() ? "" : ", ") + fmt::format("{}", k);
+  for (double r : d.speed_ratio_per_chain) speeds += (speeds.empty() ? "" : ", ") + json_number(r);
+  return fmt::format(
+      "{{\"run_file\": {}, \"method\": {}, \"chains\": {}, \"kept_per_chain\": [{}], "
+      "\"draws_per_chain\": {}, \"thin\": {}, \"burn_in\": {}, \"rhat_available\": {}, "
+      "\"thresholds\": {{\"rhat\": {}, \"ess_per_chain\": {}, \"ess\": {}}}, \"verdict\": {}, \"max_rhat\": {}, "
+      "\"min_ess_bulk\": {}, \"min_ess_tail\": {}, \"flagged_count\": {}, "
+      "\"speed_ratio_per_chain\": [{}], \"speed_note\": {}, \"explanation\": {}, \"notes\": {}, "
+      "\"summaries\": [{}\n  ]}}\n",
+      json_string(path), json_string(d.method), d.chains, kept, d.draws_per_chain,
+      d.thin ? fmt::format("{}", *d.thin) : "null", d.burn_in ? fmt::format("{}", *d.burn_in) : "null",
+      d.chains >= 2, json_number(d.rhat_threshold), json_number(kEssPerChainThreshold),
+      json_number(d.ess_threshold),
+      json_string(mixing_verdict_name(d.verdict)), json_number(d.max_rhat),
+      json_number(d.min_ess_bulk), json_number(d.min_ess_tail), d.flagged, speeds,
+      json_string(d.speed_note), json_string(kWhyFunctionSpace), json_strings(d.notes), summaries);
+}
+
+Status run_diagnose(const DiagnoseOptions& options) {
+  Result<std::unique_ptr<RunReader>> reader = RunReader::open(options.run_path);
+  if (!reader.ok()) return reader.status();
+  Result<RunDiagnostics> diagnostics = diagnose_run(**reader);
+  if (!diagnostics.ok()) {
+    return diagnostics.status().with_context(fmt::format("diagnosing {}", options.run_path));
+  }
+  const std::string text = text_report(options.run_path, *diagnostics, options.all);
+  std::fwrite(text.data(), 1, text.size(), stdout);
+  if (!options.json_path.empty()) {
+    return write_file_atomically(options.json_path, json_report(options.run_path, *diagnostics));
+  }
+  return Status::ok_status();
+}
+
+}  // namespace
 
 void add_diagnose_command(CLI::App& app, const GlobalOptions& /*global*/, CommandList& commands) {
-  CLI::App* sub = app.add_subcommand("diagnose", "(not built yet)");
-  commands.push_back({sub, [] { return Status::internal("credence diagnose is not built yet"); }});
+  auto options = std::make_shared<DiagnoseOptions>();
+  CLI::App* sub = app.add_subcommand(
+      "diagnose",
+      "Do the chains agree? R-hat (bulk, folded) and bulk/tail ESS of the run's function-space "
+      "summaries; flags R-hat > 1.01 and bulk- or tail-ESS < 100 per chain. Exits 0 even when flags are raised "
+      "(they are information, not failure); 2 for a missing or unreadable run file");
+  sub->add_option("RUN.h5", options->run_path, "The run file")->required();
+  sub->add_option("--json", options->json_path,
+                  "Also write every number as JSON to this file (names: docs/diagnostics.md)");
+  sub->add_flag("--all", options->all,
+                "List every summary (each probe row, layer, projection) instead of the worst per group");
+  commands.push_back({sub, [options] { return run_diagnose(*options); }});
 }
 
 }  // namespace credence::cli

@@ -1,0 +1,143 @@
+// `credence diagnose` end to end on real run files written by `credence train`: a
+// four-chain run checked against an independent numpy implementation of the 2021 paper's
+// R-hat and ESS applied to the stored summaries read with h5py (tests/tools/numpy_rhat.py),
+// a one-chain run, a relativistic run (speed ratio note) and bad input. Data: an invented
+// cold-store table from `credence synth`.
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+
+#include "python_reference.h"
+#include "testing/run_command.h"
+#include "testing/temp_dir.h"
+
+namespace credence {
+namespace {
+
+using testing::run_credence;
+
+class Diagnose : public ::testing::Test {
+ protected:
+  static void SetUpTestSuite() {
+    dir_ = new testing::TempDir();
+    data_ = path("cold.csv");
+    auto out = run_credence("synth --scenario cold-store --rows 400 --seed 4 --out '" + data_ + "'");
+    ASSERT_EQ(out.exit_code, 0) << out.output;
+  }
+  static void TearDownTestSuite() { delete dir_; }
+
+  static std::string path(const std::string& name) { return (dir_->path() / name).string(); }
+
+  // A small, fast run: hidden width 8, batch 32.
+  static testing::CommandOutput train(const std::string& run, const std::string& extra) {
+    return run_credence("--quiet train '" + data_ + "' --target fault_14d --id unit_id --impute median "
+                        "--batch 32 --hidden 8 --seed 3 --out '" + run + "' " + extra);
+  }
+
+  // Trains `name` with `flags`, then runs `diagnose RUN <diagnose_flags>`; its output.
+  static testing::CommandOutput train_and_diagnose(const std::string& name, const std::string& flags,
+                                                   const std::string& diagnose_flags) {
+    const std::string run = path(name);
+    auto trained = train(run, flags);
+    EXPECT_EQ(trained.exit_code, 0) << trained.output;
+    return run_credence("diagnose '" + run + "' " + diagnose_flags);
+  }
+
+  static std::string read_text(const std::string& file) {
+    std::ifstream in(file);
+    std::stringstream text;
+    text << in.rdbuf();
+    return text.str();
+  }
+
+  static testing::TempDir* dir_;
+  static std::string data_;
+};
+testing::TempDir* Diagnose::dir_ = nullptr;
+std::string Diagnose::data_;
+
+TEST_F(Diagnose, FourChainJsonMatchesNumpyOnStoredSummaries) {
+  const std::string run = path("four.h5");
+  auto trained = train(run, "--method sgld --chains 4 --burn-in 100 --thin 2 --samples 120");
+  ASSERT_EQ(trained.exit_code, 0) << trained.output;
+  const std::string json = path("four.json");
+  auto out = run_credence("diagnose '" + run + "' --json '" + json + "'");
+  ASSERT_EQ(out.exit_code, 0) << out.output;  // flags are information: exit 0 regardless
+  EXPECT_NE(out.output.find("permuted"), std::string::npos) << out.output;
+  EXPECT_NE(out.output.find("verdict:"), std::string::npos) << out.output;
+  EXPECT_NE(out.output.find("probe probabilities"), std::string::npos) << out.output;
+
+  // Reference: numpy_rhat.py on the summaries read with h5py (docs/run-file.md layout);
+  // 1e-8 relative on R-hat (bulk, folded), bulk-ESS and tail-ESS.
+  const testing::PythonLines ref = testing::run_numpy_rhat("run", run);
+  ASSERT_TRUE(ref.ok) << ref.output;
+  const testing::PythonLines ours = testing::run_numpy_rhat("json", json);
+  ASSERT_TRUE(ours.ok) << ours.output << "\n" << read_text(json);
+  ASSERT_EQ(ours.values.size(), ref.values.size()) << ours.output << "\n---\n" << ref.output;
+  int compared = 0;
+  for (const auto& [name, expected] : ref.values) {
+    ASSERT_TRUE(ours.values.count(name)) << name;
+    const std::vector<double>& actual = ours.values.at(name);
+    ASSERT_EQ(actual.size(), expected.size()) << name;
+    for (std::size_t k = 0; k < expected.size(); ++k) {
+      if (std::isnan(expected[k])) {
+        EXPECT_TRUE(std::isnan(actual[k])) << name << " value " << k;
+      } else {
+        // JSON prints the shortest round-trip form of each double.
+        EXPECT_NEAR(actual[k], expected[k], 1e-8 * std::abs(expected[k])) << name << " value " << k;
+        ++compared;
+      }
+    }
+  }
+  EXPECT_GT(compared, 20);
+
+  const std::string report = read_text(json);
+  for (const char* key : {"\"rhat\"", "\"ess_per_second\"", "\"ess_per_1000_grads\"", "\"flagged\"",
+                          "\"verdict\"", "\"thin\": 2", "\"chains\": 4", "\"group\": \"potential\""}) {
+    EXPECT_NE(report.find(key), std::string::npos) << key << " missing from\n" << report;
+  }
+
+  auto every = run_credence("diagnose '" + run + "' --all");
+  EXPECT_EQ(every.exit_code, 0) << every.output;
+  EXPECT_NE(every.output.find("probe_prob[0]"), std::string::npos) << every.output;
+  EXPECT_NE(every.output.find("projection[0]"), std::string::npos) << every.output;
+}
+
+TEST_F(Diagnose, OneChainReportsEssAndSaysRhatNeedsTwoChains) {
+  const std::string json = path("one.json");
+  auto out = train_and_diagnose("one.h5", "--method sgld --chains 1 --burn-in 50 --samples 120",
+                                "--json '" + json + "'");
+  ASSERT_EQ(out.exit_code, 0) << out.output;
+  EXPECT_NE(out.output.find("R-hat needs two or more chains"), std::string::npos) << out.output;
+  const testing::PythonLines ours = testing::run_numpy_rhat("json", json);
+  ASSERT_TRUE(ours.ok) << ours.output;
+  const std::vector<double>& log_lik = ours.values.at("probe_log_lik");
+  EXPECT_TRUE(std::isnan(log_lik[0]) && std::isnan(log_lik[1])) << "no R-hat with one chain";
+  EXPECT_GT(log_lik[2], 0) << "bulk-ESS is still reported";
+  EXPECT_NE(read_text(json).find("\"rhat_available\": false"), std::string::npos);
+}
+
+TEST_F(Diagnose, RelativisticRunReportsSpeedRatio) {
+  auto out = train_and_diagnose("rel.h5", "--method rsghmc --chains 2 --burn-in 50 --samples 60", "");
+  ASSERT_EQ(out.exit_code, 0) << out.output;
+  EXPECT_NE(out.output.find("mean |v|/c per chain"), std::string::npos) << out.output;
+  EXPECT_NE(out.output.find("mass"), std::string::npos) << out.output;
+}
+
+TEST_F(Diagnose, BadInputExitsTwoAndWritesNothing) {
+  const std::string json = path("missing.json");
+  auto missing = run_credence("diagnose '" + path("no_such_run.h5") + "' --json '" + json + "'");
+  EXPECT_EQ(missing.exit_code, 2) << missing.output;
+  EXPECT_NE(missing.output.find("no_such_run.h5"), std::string::npos) << missing.output;
+  EXPECT_FALSE(std::filesystem::exists(json));
+
+  std::ofstream(path("not_a_run.h5")) << "plain text, not HDF5\n";
+  auto garbage = run_credence("diagnose '" + path("not_a_run.h5") + "'");
+  EXPECT_EQ(garbage.exit_code, 2) << garbage.output;
+}
+
+}  // namespace
+}  // namespace credence
