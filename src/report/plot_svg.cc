@@ -1,0 +1,194 @@
+// The SVG document, text escaping, the palette and the chart header with its legend.
+#include "report/plot_svg.h"
+
+#include <fmt/format.h>
+
+#include <cmath>
+#include <cstdint>
+
+#include "credence/plot.h"
+
+namespace credence {
+
+std::string escape_markup(std::string_view text) {
+  std::string out;
+  out.reserve(text.size());
+  std::size_t i = 0;
+  while (i < text.size()) {
+    unsigned char c = static_cast<unsigned char>(text[i]);
+    if (c < 0x80) {
+      switch (c) {
+        case '&': out += "&amp;"; break;
+        case '<': out += "&lt;"; break;
+        case '>': out += "&gt;"; break;
+        case '"': out += "&quot;"; break;
+        case '\'': out += "&#39;"; break;
+        default:
+          // XML 1.0 forbids most control characters even as references.
+          if (c >= 0x20 || c == '\t' || c == '\n') out += static_cast<char>(c);
+          else if (c == '\r') out += ' ';
+      }
+      ++i;
+      continue;
+    }
+    // A multi-byte UTF-8 sequence: copy it when well-formed (no overlong forms, no
+    // surrogates, at most U+10FFFF), else one U+FFFD for the bad lead byte.
+    int length = c >= 0xF0 ? 4 : c >= 0xE0 ? 3 : c >= 0xC2 ? 2 : 0;
+    bool valid = length > 0 && c <= 0xF4 && i + static_cast<std::size_t>(length) <= text.size();
+    std::uint32_t code = length == 2 ? (c & 0x1Fu) : length == 3 ? (c & 0x0Fu) : (c & 0x07u);
+    for (int k = 1; valid && k < length; ++k) {
+      unsigned char next = static_cast<unsigned char>(text[i + static_cast<std::size_t>(k)]);
+      valid = (next & 0xC0u) == 0x80u;
+      code = (code << 6) | (next & 0x3Fu);
+    }
+    if (valid) {
+      valid = !(length == 3 && code < 0x800) && !(length == 4 && code < 0x10000) &&
+              !(code >= 0xD800 && code <= 0xDFFF) && code <= 0x10FFFF && code != 0xFFFE &&
+              code != 0xFFFF;
+    }
+    if (valid) {
+      out.append(text.substr(i, static_cast<std::size_t>(length)));
+      i += static_cast<std::size_t>(length);
+    } else {
+      out += "\xEF\xBF\xBD";
+      ++i;
+    }
+  }
+  return out;
+}
+
+const std::vector<std::string_view>& plot_palette() {
+  // Deep teal, ochre, plum, slate blue, brick, sage, sky, umber: adjacent entries differ
+  // in lightness as well as hue, so the first few stay distinct under the common forms of
+  // colour-blindness and in greyscale.
+  static const std::vector<std::string_view> palette = {
+      "#1d6a75", "#d3962a", "#7d3c6e", "#5d7fb3", "#b4533a", "#7f9a5a", "#63b3cf", "#6d5644"};
+  return palette;
+}
+
+namespace report {
+
+double text_width(std::string_view text, double size) {
+  double units = 0;
+  for (unsigned char c : text) {
+    if ((c & 0xC0u) == 0x80u) continue;  // continuation byte: counted with its lead
+    if (c == ' ' || c == '.' || c == ',' || c == 'i' || c == 'l' || c == '1') units += 0.34;
+    else if (c >= 'A' && c <= 'Z') units += 0.68;
+    else if (c == 'm' || c == 'w' || c == 'M' || c == 'W') units += 0.85;
+    else units += 0.56;
+  }
+  return units * size;
+}
+
+std::string coord(double value) {
+  if (std::fabs(value) < 0.005) value = 0;
+  return fmt::format("{:.2f}", value);
+}
+
+SvgDocument::SvgDocument(int width, int height, std::string_view title)
+    : width_(width), height_(height), title_(title) {}
+
+void SvgDocument::text(double x, double y, std::string_view content, std::string_view anchor,
+                       double size, std::string_view colour, std::string_view extra) {
+  body_ += fmt::format("<text x=\"{}\" y=\"{}\" font-size=\"{}\" fill=\"{}\"", coord(x),
+                       coord(y), size, colour);
+  if (anchor != "start") body_ += fmt::format(" text-anchor=\"{}\"", anchor);
+  if (!extra.empty()) body_ += fmt::format(" {}", extra);
+  body_ += fmt::format(">{}</text>\n", escape_markup(content));
+}
+
+void SvgDocument::line(double x1, double y1, double x2, double y2, std::string_view colour,
+                       double width, std::string_view extra) {
+  body_ += fmt::format("<line x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke=\"{}\"", coord(x1),
+                       coord(y1), coord(x2), coord(y2), colour);
+  if (width != 1) body_ += fmt::format(" stroke-width=\"{}\"", width);
+  if (!extra.empty()) body_ += fmt::format(" {}", extra);
+  body_ += "/>\n";
+}
+
+std::string SvgDocument::finish() const {
+  // FNV-1a of the content names the clip path: the same chart gives the same bytes.
+  std::uint64_t hash = 1469598103934665603ull;
+  for (unsigned char c : body_) hash = (hash ^ c) * 1099511628211ull;
+  for (unsigned char c : title_) hash = (hash ^ c) * 1099511628211ull;
+  std::string id = fmt::format("cr{:012x}", hash & 0xFFFFFFFFFFFFull);
+  std::string body = body_;
+  for (std::size_t at = body.find("@CLIP@"); at != std::string::npos;
+       at = body.find("@CLIP@", at)) {
+    body.replace(at, 6, id);
+  }
+  std::string out = fmt::format(
+      "<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 {0} {1}\" width=\"{0}\" "
+      "height=\"{1}\" role=\"img\" aria-label=\"{2}\" font-family=\"{3}\">\n"
+      "<title>{2}</title>\n<rect class=\"ground\" x=\"0\" y=\"0\" width=\"{0}\" height=\"{1}\" "
+      "fill=\"{4}\"/>\n",
+      width_, height_, escape_markup(title_), kFontStack, kGround);
+  out += body;
+  out += "</svg>\n";
+  return out;
+}
+
+double Scale::operator()(double v) const {
+  double t = log ? (std::log10(v) - std::log10(d0)) / (std::log10(d1) - std::log10(d0))
+                 : (v - d0) / (d1 - d0);
+  return p0 + t * (p1 - p0);
+}
+
+std::string_view series_dash(int i) {
+  static constexpr std::string_view dashes[] = {"", "", "", "", "6 3", "2 3", "8 3 2 3", "4 4"};
+  return dashes[i % 8];
+}
+
+std::string_view series_colour(int i) {
+  const auto& palette = plot_palette();
+  return palette[static_cast<std::size_t>(i) % palette.size()];
+}
+
+double draw_header(SvgDocument& doc, std::string_view title,
+                   const std::vector<LegendEntry>& legend, int width) {
+  double y = 12;
+  if (!title.empty()) {
+    doc.text(14, 24, title, "start", 14, kInk, "font-weight=\"600\"");
+    y = 34;
+  }
+  if (legend.empty()) return y + 6;
+  // Entries flow left to right and wrap, so long names never run under the plot.
+  double x = 14;
+  double row = y + 10;
+  for (const LegendEntry& entry : legend) {
+    double entry_width = 22 + text_width(entry.label, 11) + 16;
+    if (x > 14 && x + entry_width > width - 10) {
+      x = 14;
+      row += 17;
+    }
+    std::string& b = doc.body();
+    switch (entry.swatch) {
+      case Swatch::kLine: {
+        std::string_view dash = series_dash(entry.series);
+        std::string extra = dash.empty() ? "" : fmt::format("stroke-dasharray=\"{}\"", dash);
+        doc.line(x, row, x + 18, row, entry.colour, 2.2, extra);
+        break;
+      }
+      case Swatch::kBox:
+        b += fmt::format(
+            "<rect x=\"{}\" y=\"{}\" width=\"14\" height=\"10\" fill=\"{}\" fill-opacity=\"0.8\" "
+            "stroke=\"{}\"/>\n",
+            coord(x + 2), coord(row - 5), entry.colour, entry.colour);
+        break;
+      case Swatch::kTick:
+        doc.line(x + 2, row, x + 16, row, entry.colour, 2);
+        break;
+    }
+    doc.text(x + 22, row + 4, entry.label, "start", 11, kInk);
+    x += entry_width;
+  }
+  return row + 14;
+}
+
+void draw_no_data(SvgDocument& doc, const Area& area) {
+  doc.text((area.left + area.right) / 2, (area.top + area.bottom) / 2, "no data", "middle", 13,
+           kMuted, "class=\"no-data\" font-style=\"italic\"");
+}
+
+}  // namespace report
+}  // namespace credence
