@@ -1,0 +1,81 @@
+// Scoring a run's ensemble on labelled rows: what `assess` prints and `report` and
+// `compare` reuse. Reads the table, picks the rows, checks the data file, runs the
+// ensemble, optionally fits a temperature on the validation rows.
+#pragma once
+
+#include <cstdint>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "credence/ensemble.h"
+#include "credence/metrics.h"
+#include "credence/predict.h"
+
+namespace credence::cli {
+
+/// Which rows of the data file are scored.
+enum class AssessSplit {
+  kAuto,  // the stored test rows when the file is the run's data file, else every row
+  kTest,  // the stored held-out rows (the file must be the run's data file)
+  kVal,   // the stored validation rows (idem)
+  kAll,   // every row of the file
+};
+
+struct AssessJobOptions {
+  AssessSplit split = AssessSplit::kAuto;
+  AssessSettings metrics;               // bins, bootstrap
+  Binning binning = Binning::kEqualWidth;  // the headline ECE and table
+  std::int64_t samples = 0;             // 0: every kept sample
+  std::optional<double> temperature;    // member-wise; empty: the run's stored one
+  bool fit_temperature = false;         // fit tau on the validation rows and score both
+  std::string truth_path;               // synth truth file (p_<class> per data row)
+};
+
+/// The true class probabilities of the scored rows, compared with the model's.
+struct TruthScores {
+  double kl = 0;        // mean_i KL(truth_i || pbar_i), nats
+  double mae = 0;       // mean over rows and classes of |pbar_ik - truth_ik|
+  double truth_nll = 0; // NLL of the true probabilities on the labels (the floor)
+  double model_nll = 0; // the model's NLL on the same rows, for comparison
+};
+
+/// An assessment of one set of probabilities (before or after temperature scaling).
+struct ScoredEnsemble {
+  double temperature = 1;
+  Assessment metrics;                // of the model average
+  UncertaintySplit split;            // per row: log pbar, H, E H, MI
+  std::vector<MemberScores> members; // each kept sample alone
+  std::optional<TruthScores> truth;
+};
+
+struct AssessJobResult {
+  std::string split_name;            // "test", "validation", "all rows"
+  std::vector<std::int64_t> rows;    // 0-based data rows scored
+  std::vector<std::int32_t> labels;  // (n)
+  std::vector<std::string> class_names;
+  std::int64_t samples = 0;          // kept samples averaged
+  std::string data_sha256;
+  bool data_matches_run = false;     // the file's SHA-256 equals the run's
+  ScoredEnsemble scored;             // with the run's temperature (or the one given)
+  std::optional<TemperatureFit> fit; // when fit_temperature
+  std::optional<ScoredEnsemble> calibrated;  // scored at the fitted temperature
+  std::int64_t val_rows = 0;         // rows the temperature was fitted on
+};
+
+/// Runs the whole assessment. Errors: kInvalidInput (exit 2) for a bad data file, a
+/// split that needs the run's data file when another is given, or too few rows.
+Result<AssessJobResult> run_assess_job(const RunReader& run, const std::string& data_path,
+                                       const AssessJobOptions& options);
+
+/// The run's delimiter and missing-value tokens, for reading tables like its data file.
+ReadOptions read_options_of(const RunHeader& header);
+
+/// Mean and sample standard deviation of one member score.
+struct MeanSd {
+  double mean = 0;
+  double sd = 0;
+};
+MeanSd member_mean_sd(const std::vector<MemberScores>& members, double MemberScores::*score);
+
+}  // namespace credence::cli
