@@ -6,11 +6,15 @@
 #pragma once
 
 #include "credence/data.h"
+#include "credence/diagnostics.h"
 #include "credence/ensemble.h"
 #include "credence/metrics.h"
 #include "credence/net.h"
 #include "credence/posterior.h"
+#include "credence/plot.h"
+#include "credence/html_report.h"
 #include "credence/predict.h"
+#include "credence/run_diagnostics.h"
 #include "credence/samplers.h"
 #include "credence/status.h"
 #include "credence/summaries.h"

@@ -35,5 +35,8 @@ void add_merge_command(CLI::App& app, const GlobalOptions& global, CommandList& 
 void add_predict_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 void add_assess_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 void add_diagnose_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_compare_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_sweep_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
+void add_report_command(CLI::App& app, const GlobalOptions& global, CommandList& commands);
 
 }  // namespace credence::cli

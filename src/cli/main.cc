@@ -34,6 +34,9 @@ int run(int argc, char** argv) {
   add_predict_command(app, global, commands);
   add_assess_command(app, global, commands);
   add_diagnose_command(app, global, commands);
+  add_compare_command(app, global, commands);
+  add_sweep_command(app, global, commands);
+  add_report_command(app, global, commands);
   add_inspect_command(app, global, commands);
   add_merge_command(app, global, commands);
   add_synth_command(app, global, commands);

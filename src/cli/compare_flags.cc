@@ -1,0 +1,99 @@
+// The flags of compare and sweep.
+#include "cli/compare_flags.h"
+
+#include <fmt/format.h>
+
+#include <filesystem>
+#include <sstream>
+
+#include "util/atomic_file.h"
+
+namespace credence::cli {
+
+void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string& default_methods) {
+  flags.methods = default_methods;
+  command.add_option("data", flags.data_path, "The labelled table (CSV with a header row)")
+      ->required();
+  add_data_options(command, flags.data);
+  command.add_option("--methods", flags.methods, "Comma-separated methods")
+      ->capture_default_str();
+  command.add_option("--hidden", flags.hidden, "Hidden layer widths of the one network")
+      ->capture_default_str();
+  command.add_option("--activation", flags.activation, "relu, tanh, sigmoid, softplus, identity")
+      ->capture_default_str();
+  command.add_option("--net", flags.net_path, "Net file instead of --hidden/--activation");
+  command.add_option("--epochs", flags.epochs,
+                     "Gradient budget per chain, in passes over the training rows (the same "
+                     "for every method)")
+      ->capture_default_str();
+  command.add_option("--chains", flags.chains,
+                     "Chains per method (optimizers: independent restarts, averaged)")
+      ->capture_default_str();
+  command.add_option("--batch", flags.batch, "Minibatch rows")->capture_default_str();
+  command.add_option("--samples", flags.samples, "Kept samples per chain for samplers")
+      ->capture_default_str();
+  command.add_option("--out", flags.out_dir, "Folder for the run files, tables and report")
+      ->required();
+  command.add_option("--truth", flags.truth_path,
+                     "A synth truth file: also score against the true probabilities");
+  command.add_option("--bootstrap", flags.bootstrap, "Bootstrap resamples for the intervals")
+      ->capture_default_str();
+}
+
+Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Method>& methods) {
+  CompareRequest r;
+  r.data_path = flags.data_path;
+  Result<DataOptions> data = resolve_data_options(flags.data);
+  if (!data.ok()) return data.status();
+  r.data = *data;
+  if (r.data.schema.target.empty()) {
+    return Status::invalid_input("give --target COLUMN (the class column)");
+  }
+  methods.clear();
+  std::stringstream stream(flags.methods);
+  for (std::string name; std::getline(stream, name, ',');) {
+    Result<Method> method = parse_method(name);
+    if (!method.ok()) return method.status().with_context("--methods");
+    if (*method == Method::kHmc || *method == Method::kRhmc) {
+      return Status::invalid_input(fmt::format(
+          "--methods: {} uses the full data per step, so it has no minibatch budget to share; "
+          "train it on its own with credence train",
+          name));
+    }
+    methods.push_back(*method);
+  }
+  if (methods.empty()) return Status::invalid_input("--methods: give at least one method");
+  if (!flags.net_path.empty()) {
+    r.net_path = flags.net_path;
+  } else if (flags.hidden != "none") {
+    std::stringstream widths(flags.hidden);
+    for (std::string piece; std::getline(widths, piece, ',');) {
+      char* end = nullptr;
+      const long long width = std::strtoll(piece.c_str(), &end, 10);
+      if (piece.empty() || *end != '\0' || width < 1) {
+        return Status::invalid_input(
+            fmt::format("--hidden '{}': write positive widths like 32,32", flags.hidden));
+      }
+      r.hidden.push_back(static_cast<Index>(width));
+    }
+  }
+  r.activation = flags.activation;
+  r.epochs = flags.epochs;
+  r.chains = flags.chains;
+  r.batch_rows = flags.batch;
+  r.samples = flags.samples;
+  r.out_dir = flags.out_dir;
+  r.truth_path = flags.truth_path;
+  r.bootstrap = flags.bootstrap;
+  if (r.chains < 1 || r.batch_rows < 1 || r.samples < 1 || r.bootstrap < 0) {
+    return Status::invalid_input(
+        "--chains, --batch and --samples need at least 1, and --bootstrap at least 0");
+  }
+  return r;
+}
+
+Status write_output(const std::string& out_dir, const std::string& name, const std::string& text) {
+  return write_file_atomically((std::filesystem::path(out_dir) / name).string(), text);
+}
+
+}  // namespace credence::cli

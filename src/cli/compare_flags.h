@@ -1,0 +1,38 @@
+// Flags shared by `compare` and `sweep`, and their conversion to a CompareRequest.
+#pragma once
+
+#include <CLI/CLI.hpp>
+#include <string>
+
+#include "cli/compare_job.h"
+#include "cli/data_options.h"
+
+namespace credence::cli {
+
+struct CompareFlags {
+  std::string data_path;
+  DataFlags data;
+  std::string methods;
+  std::string hidden = "32,32";
+  std::string activation = "relu";
+  std::string net_path;
+  double epochs = 30;
+  int chains = 4;
+  std::int64_t batch = 128;
+  std::int64_t samples = 100;
+  std::string out_dir;
+  std::string truth_path;
+  int bootstrap = 1000;
+};
+
+/// Adds DATA.csv, the data flags, --methods (default `default_methods`), the network and
+/// budget flags, --out DIR, --truth and --bootstrap.
+void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string& default_methods);
+
+/// The request without entries (the caller adds them), and the method list parsed.
+Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Method>& methods);
+
+/// Prints `text` to stdout and writes out_dir/<name> atomically.
+Status write_output(const std::string& out_dir, const std::string& name, const std::string& text);
+
+}  // namespace credence::cli
