@@ -23,6 +23,8 @@
 
 #include <Eigen/Core>
 #include <cstdint>
+#include <cstdio>
+#include <memory>
 #include <limits>
 #include <span>
 #include <string>
@@ -51,6 +53,9 @@ struct ReadOptions {
   /// Columns kept as text even when every cell is a number (categorical overrides
   /// and the target). Default empty. Names not in the header are ignored here.
   std::vector<std::string> text_columns;
+  /// When > 0, the physical line the first byte after the header stands on, for parsing
+  /// a piece of a larger file behind a copy of its header (CsvChunkReader). Default 0.
+  std::int64_t data_first_line = 0;
 };
 
 /// One column as read: numbers, or text interned as sorted levels.
@@ -95,6 +100,43 @@ Result<Table> read_table(const std::string& path, const ReadOptions& options);
 /// Same as read_table on bytes already in memory; `source` names them in messages.
 Result<Table> parse_table(std::string_view bytes, const std::string& source,
                           const ReadOptions& options);
+
+/// Reads a CSV file piece by piece: each next() parses the following records (about
+/// `chunk_bytes` of them, always whole records, quoted line breaks included) behind the
+/// file's header, so memory stays bounded whatever the file's length. Every piece is a
+/// Table with the header's columns; its row_lines and messages give the file's own lines.
+/// Typing is per piece: a numeric column may come out as text in a piece where a cell is
+/// not a number, which transform_rows then reports with its line.
+///
+///   Result<CsvChunkReader> reader = CsvChunkReader::open("big.csv", read);
+///   Table piece;
+///   for (bool got = true;;) { CREDENCE_RETURN_IF_ERROR(reader->next(piece, got)); if (!got) break; ... }
+class CsvChunkReader {
+ public:
+  /// Opens `path` and reads its header (errors as read_table: a missing file, an empty
+  /// file, a bad header). REQUIRES: chunk_bytes >= 1.
+  static Result<CsvChunkReader> open(const std::string& path, const ReadOptions& options,
+                                     std::int64_t chunk_bytes = std::int64_t{16} << 20);
+  /// The next piece into `table`; `got` false (and `table` untouched) at the end.
+  Status next(Table& table, bool& got);
+  /// Data rows returned so far.
+  std::int64_t rows_read() const { return rows_read_; }
+
+ private:
+  CsvChunkReader() = default;
+  Status fill();  // reads more bytes into buffer_ (sets eof_)
+
+  std::string path_;
+  ReadOptions options_;
+  std::int64_t chunk_bytes_ = 0;
+  std::shared_ptr<std::FILE> file_;
+  std::string header_;          // the header record's bytes, line end included
+  std::int64_t header_lines_ = 0;
+  std::string buffer_;          // bytes read but not yet returned
+  std::int64_t next_line_ = 0;  // physical line of buffer_'s first byte
+  bool eof_ = false;
+  std::int64_t rows_read_ = 0;
+};
 
 // ---------------------------------------------------------------------------
 // Schema: roles, types, classes

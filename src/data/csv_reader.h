@@ -31,6 +31,10 @@ class CsvScanner {
   /// text after a closing quote.
   Status next(CsvRecord& record, bool& got);
 
+  /// Makes the next byte count as physical line `line` (for a piece of a larger file
+  /// whose header was prepended).
+  void set_line(std::int64_t line) { line_ = line; }
+
  private:
   Status read_quoted(CsvRecord& record, std::size_t field_index);
 

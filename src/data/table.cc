@@ -46,6 +46,32 @@ using data::CsvScanner;
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
+// UTF-16/32 text and binary files hold NUL bytes (or open with a UTF-16 byte-order mark);
+// without this check they surface as a confusing ragged row far into the file.
+Status check_text_encoding(std::string_view bytes, const std::string& source,
+                           std::int64_t data_first_line) {
+  constexpr const char* kWhatToDo =
+      "save the table as UTF-8 (or ASCII) CSV, e.g. 'CSV UTF-8' in a spreadsheet or "
+      "iconv -f UTF-16 -t UTF-8";
+  if (bytes.size() >= 2 && ((bytes[0] == '\xFF' && bytes[1] == '\xFE') ||
+                            (bytes[0] == '\xFE' && bytes[1] == '\xFF'))) {
+    return Status::invalid_input(fmt::format(
+        "{}: the file starts with a UTF-16 byte-order mark; credence reads UTF-8 text: {}",
+        source, kWhatToDo));
+  }
+  const std::size_t nul = bytes.find('\0');
+  if (nul == std::string_view::npos) return Status::ok_status();
+  const std::string_view before = bytes.substr(0, nul);
+  std::int64_t line = 1 + std::count(before.begin(), before.end(), '\n');
+  const std::size_t line_start = before.rfind('\n');
+  const std::size_t column = line_start == std::string_view::npos ? nul + 1 : nul - line_start;
+  // A piece behind a copy of the header: its second line is data_first_line.
+  if (data_first_line > 0 && line > 1) line += data_first_line - 2;
+  return Status::invalid_input(fmt::format(
+      "{}:{}:{}: a NUL byte: this is binary data or UTF-16/UTF-32 text, not a CSV file; {}",
+      source, line, column, kWhatToDo));
+}
+
 struct TransparentHash {
   using is_transparent = void;
   std::size_t operator()(std::string_view text) const { return std::hash<std::string_view>{}(text); }
@@ -138,6 +164,7 @@ Status intern_text_columns(std::string_view bytes, const std::string& source,
   CsvRecord record;
   bool got = false;
   CREDENCE_RETURN_IF_ERROR(scanner.next(record, got));  // the header
+  if (options.data_first_line > 0) scanner.set_line(options.data_first_line);
   for (std::size_t row = 0; row < n; ++row) {
     CREDENCE_RETURN_IF_ERROR(scanner.next(record, got));
     if (!got) return Status::internal("CSV second pass ended early");
@@ -182,6 +209,7 @@ Status intern_text_columns(std::string_view bytes, const std::string& source,
 
 Result<Table> parse_table(std::string_view bytes, const std::string& source,
                           const ReadOptions& options) {
+  CREDENCE_RETURN_IF_ERROR(check_text_encoding(bytes, source, options.data_first_line));
   Table table;
   table.source = source;
   CsvScanner scanner(bytes, options.delimiter, source);
@@ -195,6 +223,7 @@ Result<Table> parse_table(std::string_view bytes, const std::string& source,
         source));
   }
   CREDENCE_RETURN_IF_ERROR(check_header(record, source, table));
+  if (options.data_first_line > 0) scanner.set_line(options.data_first_line);
   const std::size_t width = table.columns.size();
 
   std::vector<std::uint8_t> forced_text(width, 0);

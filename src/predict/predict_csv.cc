@@ -117,8 +117,18 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
   ReadOptions read = options.read;
   for (const std::string& name : text_columns_of(pre)) read.text_columns.push_back(name);
   for (const std::string& name : ids) read.text_columns.push_back(name);
-  Result<Table> table = read_table(input_path, read);
-  if (!table.ok()) return table.status();
+  // The file streams through in pieces of whole records, so memory holds one piece (and
+  // one block per thread) whatever the number of rows.
+  Result<CsvChunkReader> reader = CsvChunkReader::open(input_path, read, options.chunk_bytes);
+  if (!reader.ok()) return reader.status();
+  Table piece;
+  bool got = false;
+  CREDENCE_RETURN_IF_ERROR(reader->next(piece, got));
+  if (!got) {
+    return Status::invalid_input(fmt::format(
+        "{}: the header has no data rows below it; add the rows to predict", input_path));
+  }
+  const Table* table = &piece;
 
   OutputColumns columns;
   columns.has_refer = options.flag_above.has_value();
@@ -168,35 +178,40 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
   // Blocks are cut the same way whatever the thread count, and each row's numbers depend
   // only on its own block, so the output is byte-identical for any OMP_NUM_THREADS.
   // Memory holds one block per thread: the encoded rows, its workspace and its text.
-  const std::int64_t n = table->rows();
   const std::int64_t block_rows = predictor.block_rows();
-  const std::int64_t blocks = (n + block_rows - 1) / block_rows;
-  const int slot_count = static_cast<int>(std::min<std::int64_t>(omp_get_max_threads(), blocks));
-  std::vector<BlockSlot> slots(static_cast<std::size_t>(slot_count));
-  for (std::int64_t first = 0; first < blocks; first += slot_count) {
-    const int active = static_cast<int>(std::min<std::int64_t>(slot_count, blocks - first));
+  std::vector<BlockSlot> slots(static_cast<std::size_t>(std::max(1, omp_get_max_threads())));
+  while (got) {
+    const std::int64_t n = table->rows();
+    const std::int64_t blocks = (n + block_rows - 1) / block_rows;
+    const int slot_count =
+        static_cast<int>(std::min<std::int64_t>(static_cast<std::int64_t>(slots.size()), blocks));
+    for (std::int64_t first = 0; first < blocks; first += slot_count) {
+      const int active = static_cast<int>(std::min<std::int64_t>(slot_count, blocks - first));
 #pragma omp parallel for schedule(static, 1) num_threads(active)
-    for (int s = 0; s < active; ++s) {
-      BlockSlot& slot = slots[static_cast<std::size_t>(s)];
-      if (!slot.workspace)
-        slot.workspace = std::make_unique<Workspace<float>>(predictor.make_workspace());
-      const std::int64_t begin = (first + s) * block_rows;
-      const std::int64_t end = std::min(n, begin + block_rows);
-      slot.rows.resize(static_cast<std::size_t>(end - begin));
-      for (std::int64_t r = begin; r < end; ++r) slot.rows[static_cast<std::size_t>(r - begin)] = r;
-      slot.status = predictor.predict_rows(*slot.workspace, slot.averager, *table, slot.rows,
-                                           slot.prediction);
-      if (slot.status.ok()) format_block(predictor, *table, columns, options, slot);
+      for (int s = 0; s < active; ++s) {
+        BlockSlot& slot = slots[static_cast<std::size_t>(s)];
+        if (!slot.workspace)
+          slot.workspace = std::make_unique<Workspace<float>>(predictor.make_workspace());
+        const std::int64_t begin = (first + s) * block_rows;
+        const std::int64_t end = std::min(n, begin + block_rows);
+        slot.rows.resize(static_cast<std::size_t>(end - begin));
+        for (std::int64_t r = begin; r < end; ++r)
+          slot.rows[static_cast<std::size_t>(r - begin)] = r;
+        slot.status = predictor.predict_rows(*slot.workspace, slot.averager, *table, slot.rows,
+                                             slot.prediction);
+        if (slot.status.ok()) format_block(predictor, *table, columns, options, slot);
+      }
+      // In block order, so the error reported is from the earliest bad block.
+      for (int s = 0; s < active; ++s) {
+        BlockSlot& slot = slots[static_cast<std::size_t>(s)];
+        CREDENCE_RETURN_IF_ERROR(slot.status);
+        CREDENCE_RETURN_IF_ERROR(output->write(slot.text));
+        summary.rows += static_cast<std::int64_t>(slot.rows.size());
+        summary.flagged += slot.flagged;
+        summary.clamped += slot.prediction.clamped;
+      }
     }
-    // In block order, so the error reported is from the earliest bad block.
-    for (int s = 0; s < active; ++s) {
-      BlockSlot& slot = slots[static_cast<std::size_t>(s)];
-      CREDENCE_RETURN_IF_ERROR(slot.status);
-      CREDENCE_RETURN_IF_ERROR(output->write(slot.text));
-      summary.rows += static_cast<std::int64_t>(slot.rows.size());
-      summary.flagged += slot.flagged;
-      summary.clamped += slot.prediction.clamped;
-    }
+    CREDENCE_RETURN_IF_ERROR(reader->next(piece, got));
   }
   CREDENCE_RETURN_IF_ERROR(output->commit());
   return summary;

@@ -1,0 +1,55 @@
+#!/usr/bin/python3
+"""Checks the files `credence compare` writes, as a script user would read them.
+
+Usage: check_compare.py OUT_DIR METHOD[,METHOD...]
+
+summary.json (read with Python's json module, RFC 8259) must hold one object per method,
+in order, each with every metric named in docs/assess-json.md's compare subset; every
+method must have had the same gradient budget; summary.csv (csv module, RFC 4180) must
+have the same rows; the report must reference nothing outside itself. Prints what fails
+and exits 1; exits 0 when all holds.
+"""
+import csv
+import json
+import math
+import sys
+
+out_dir, methods = sys.argv[1], sys.argv[2].split(",")
+failures = []
+rows = json.load(open(f"{out_dir}/summary.json"))
+if [r["method"] for r in rows] != methods:
+    failures.append(f"methods {[r['method'] for r in rows]} != {methods}")
+for r in rows:
+    for key in ("accuracy", "nll", "brier", "ece", "mce", "auroc", "wall_seconds",
+                "gradient_evals", "nll_interval", "ece_interval", "mixing"):
+        if key not in r or r[key] is None:
+            failures.append(f"{r['method']}: missing {key}")
+    if not (0 <= r["accuracy"] <= 1 and r["nll"] > 0 and 0 <= r["ece"] <= 1):
+        failures.append(f"{r['method']}: implausible scores {r}")
+    lo, hi = r["nll_interval"]
+    if not lo <= hi:
+        failures.append(f"{r['method']}: interval {lo} > {hi}")
+    sampler = r["method"] in ("sgld", "psgld", "sghmc", "rsghmc")
+    if sampler and (r["bulk_ess_per_second"] is None or not math.isfinite(r["bulk_ess_per_second"])):
+        failures.append(f"{r['method']}: a sampler needs bulk_ess_per_second")
+    if not sampler and r["mixing"] != "not_applicable":
+        failures.append(f"{r['method']}: an optimizer has no mixing verdict, got {r['mixing']}")
+budgets = {r["gradient_evals"] for r in rows}
+if len(budgets) != 1:
+    failures.append(f"gradient budgets differ: {budgets}")
+with open(f"{out_dir}/summary.csv", newline="") as f:
+    table = list(csv.DictReader(f))
+if [t["method"] for t in table] != methods:
+    failures.append("summary.csv rows differ from summary.json")
+html = open(f"{out_dir}/report.html", encoding="utf-8").read()
+for bad in ("http://", "https://", "<script", "<link", " src=", "@import"):
+    if bad in html:
+        failures.append(f"report.html contains {bad!r}")
+for heading in ("Data and split", "Scores on held-out rows", "Reliability",
+                "Accuracy when abstaining", "Doubt on right and wrong predictions",
+                "Mixing diagnostics", "Training traces", "Settings and provenance", "Cautions"):
+    if heading not in html:
+        failures.append(f"report.html lacks the section {heading!r}")
+for f in failures:
+    print(f)
+sys.exit(1 if failures else 0)
