@@ -25,15 +25,24 @@ class AdamRule final : public Rule {
     const auto beta1 = static_cast<float>(as.beta1);
     const auto beta2 = static_cast<float>(as.beta2);
     const auto inv_n = static_cast<float>(1.0 / static_cast<double>(rows_));
-    m_ = beta1 * m_ + ((1.0f - beta1) * inv_n) * grad_;
-    v_ = beta2 * v_ + ((1.0f - beta2) * inv_n * inv_n) * grad_.cwiseAbs2();
     const auto m_scale = static_cast<float>(1.0 / (1.0 - std::pow(as.beta1, t)));
     const auto v_scale = static_cast<float>(1.0 / (1.0 - std::pow(as.beta2, t)));
     const auto a = static_cast<float>(context.step_size);
     const auto epsilon = static_cast<float>(as.epsilon);
-    // A plain loop: Eigen's AVX-512 packet sqrt trips gcc 12's maybe-uninitialized check.
-    for (Eigen::Index i = 0; i < theta.size(); ++i) {
-      theta[i] -= a * (m_scale * m_[i]) / (std::sqrt(v_scale * v_[i]) + epsilon);
+    const float m_gain = (1.0f - beta1) * inv_n;
+    const float v_gain = (1.0f - beta2) * inv_n * inv_n;
+    // One fused pass over the moments and theta. A plain loop: Eigen's AVX-512 packet
+    // sqrt trips gcc 12's maybe-uninitialized check.
+    float* __restrict th = theta.data();
+    float* __restrict m = m_.data();
+    float* __restrict v = v_.data();
+    const float* __restrict g = grad_.data();
+    for (std::int64_t i = 0; i < parameters_; ++i) {
+      const float mi = beta1 * m[i] + m_gain * g[i];
+      const float vi = beta2 * v[i] + v_gain * (g[i] * g[i]);
+      m[i] = mi;
+      v[i] = vi;
+      th[i] -= a * (m_scale * mi) / (std::sqrt(v_scale * vi) + epsilon);
     }
     report.step_size = context.step_size;
     return Status::ok_status();

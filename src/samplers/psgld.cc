@@ -42,11 +42,16 @@ class PsgldRule final : public Rule {
       const auto correction =
           static_cast<float>(1.0 - std::pow(ps.rho, static_cast<double>(adapted_)));
       const auto lambda = static_cast<float>(ps.lambda);
-      v_ = rho * v_ + (1.0f - rho) * (grad_ * inv_n).cwiseAbs2();
       // Plain loops for sqrt: Eigen's AVX-512 packet sqrt trips gcc 12's
       // maybe-uninitialized check.
-      for (Eigen::Index i = 0; i < v_.size(); ++i) {
-        g_precond_[i] = 1.0f / (lambda + std::sqrt(v_[i] / correction));
+      float* __restrict v = v_.data();
+      float* __restrict gp = g_precond_.data();
+      const float* __restrict g = grad_.data();
+      for (std::int64_t i = 0; i < parameters_; ++i) {
+        const float gbar = g[i] * inv_n;
+        const float vi = rho * v[i] + (1.0f - rho) * (gbar * gbar);
+        v[i] = vi;
+        gp[i] = 1.0f / (lambda + std::sqrt(vi / correction));
       }
       if (ps.max_preconditioner_ratio > 0) cap_preconditioner(ps.max_preconditioner_ratio);
       if (ps.gamma_correction && adapted_ > 1) {
@@ -70,19 +75,33 @@ class PsgldRule final : public Rule {
     } else {
       gamma_.setZero();
     }
+    // One fused pass: theta - (eps/2)(G g - T Gamma), then + sqrt(eps T G) xi.
     const auto half = static_cast<float>(eps / 2);
-    if (ps.gamma_correction) {
-      theta.noalias() -=
-          half * (g_precond_.cwiseProduct(grad_) - static_cast<float>(temperature) * gamma_);
-    } else {
-      theta.noalias() -= half * g_precond_.cwiseProduct(grad_);
-    }
+    const auto temperature_f = static_cast<float>(temperature);
+    const bool gamma = ps.gamma_correction;
+    float* __restrict th = theta.data();
+    const float* __restrict gp = g_precond_.data();
+    const float* __restrict g = grad_.data();
+    const float* __restrict gm = gamma_.data();
+    const std::int64_t n = parameters_;
     if (temperature > 0) {
       draw_noise();
+      const float* __restrict xi = noise_.data();
       const auto scale = static_cast<float>(eps * temperature);
-      for (Eigen::Index i = 0; i < theta.size(); ++i) {
-        theta[i] += std::sqrt(scale * g_precond_[i]) * noise_[i];
+      if (gamma) {
+        for (std::int64_t i = 0; i < n; ++i) {
+          th[i] = (th[i] - half * (gp[i] * g[i] - temperature_f * gm[i])) +
+                  std::sqrt(scale * gp[i]) * xi[i];
+        }
+      } else {
+        for (std::int64_t i = 0; i < n; ++i) {
+          th[i] = (th[i] - half * (gp[i] * g[i])) + std::sqrt(scale * gp[i]) * xi[i];
+        }
       }
+    } else if (gamma) {
+      for (std::int64_t i = 0; i < n; ++i) th[i] -= half * (gp[i] * g[i] - temperature_f * gm[i]);
+    } else {
+      for (std::int64_t i = 0; i < n; ++i) th[i] -= half * (gp[i] * g[i]);
     }
     report.step_size = eps;
     ++steps_taken_;

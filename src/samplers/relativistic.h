@@ -3,6 +3,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <vector>
@@ -47,6 +48,14 @@ inline float relativistic_velocity(float p, float m, float c) {
   const double pd = p;
   const double mc = static_cast<double>(m) * c;
   return static_cast<float>(static_cast<double>(c) * (pd / std::sqrt(pd * pd + mc * mc)));
+}
+
+/// v / c = x / sqrt(1 + x^2) at x = p / (m c), in float: |x| is capped at 1e18 first so
+/// x^2 cannot overflow (the ratio is exactly +-1 there already). Vectorises in loops.
+inline float relativistic_speed_fraction(float x) {
+  constexpr float kCap = 1e18f;
+  const float xc = std::min(std::max(x, -kCap), kCap);
+  return xc / std::sqrt(xc * xc + 1.0f);
 }
 
 /// K_i - m c^2 = m c^2 x^2 / (sqrt(1 + x^2) + 1), x = p / (m c), without cancellation.

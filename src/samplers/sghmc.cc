@@ -32,29 +32,50 @@ class SghmcRule final : public Rule {
       draw_noise();
       v_ = static_cast<float>(std::sqrt(eta * temperature)) * noise_;
     }
+    // One fused pass: v = (1 - alpha) v - eta g (+ sd xi), theta += v.
     const auto decay = static_cast<float>(1.0 - ss.alpha);
-    v_ = decay * v_ - static_cast<float>(eta) * grad_;
+    const auto eta_f = static_cast<float>(eta);
+    float* __restrict th = theta.data();
+    float* __restrict v = v_.data();
+    const float* __restrict g = grad_.data();
+    const std::int64_t n = parameters_;
     report.clipped = 0;
     if (temperature > 0) {
       draw_noise();
+      const float* __restrict xi = noise_.data();
       const double target = ss.alpha * temperature;  // alpha T
       if (ss.correct_gradient_noise && potential.gradient_noise_variance(vhat_)) {
         // beta_hat_i = eta Vhat_i / 2, clipped to [0, alpha T (1 - 1e-3)].
-        const double cap = target * (1.0 - 1e-3);
+        const float* __restrict vh = vhat_.data();
+        const auto cap = static_cast<float>(target * (1.0 - 1e-3));
+        const auto target_f = static_cast<float>(target);
         std::int64_t clipped = 0;
-        for (Eigen::Index i = 0; i < v_.size(); ++i) {
-          double beta_hat = eta * static_cast<double>(vhat_[i]) / 2;
-          if (beta_hat > cap || beta_hat < 0) ++clipped;
-          beta_hat = std::clamp(beta_hat, 0.0, cap);
-          v_[i] += static_cast<float>(std::sqrt(2 * eta * (target - beta_hat))) * noise_[i];
+        for (std::int64_t i = 0; i < n; ++i) {
+          const float beta_hat = 0.5f * eta_f * vh[i];
+          clipped += static_cast<std::int64_t>((beta_hat > cap) | (beta_hat < 0));
+          const float sd =
+              std::sqrt(2.0f * eta_f * (target_f - std::clamp(beta_hat, 0.0f, cap)));
+          const float vi = (decay * v[i] - eta_f * g[i]) + sd * xi[i];
+          v[i] = vi;
+          th[i] += vi;
         }
         report.clipped = clipped;
         clipped_total_ += static_cast<std::uint64_t>(clipped);
       } else {
-        v_.noalias() += static_cast<float>(std::sqrt(2 * eta * target)) * noise_;
+        const auto sd = static_cast<float>(std::sqrt(2 * eta * target));
+        for (std::int64_t i = 0; i < n; ++i) {
+          const float vi = (decay * v[i] - eta_f * g[i]) + sd * xi[i];
+          v[i] = vi;
+          th[i] += vi;
+        }
+      }
+    } else {
+      for (std::int64_t i = 0; i < n; ++i) {
+        const float vi = decay * v[i] - eta_f * g[i];
+        v[i] = vi;
+        th[i] += vi;
       }
     }
-    theta.noalias() += v_;
     report.step_size = eta;
     ++steps_taken_;
     return Status::ok_status();

@@ -22,10 +22,18 @@ class SgldRule final : public Rule {
     CREDENCE_RETURN_IF_ERROR(evaluate_minibatch(theta, potential, report));
     const double eps = context.step_size;
     const double temperature = this->temperature(context);
-    theta.noalias() -= static_cast<float>(eps / 2) * grad_;
+    // One fused pass: theta - (eps/2) g, then + sd xi, in that order at every T.
+    float* __restrict th = theta.data();
+    const float* __restrict g = grad_.data();
+    const auto half = static_cast<float>(eps / 2);
+    const std::int64_t n = parameters_;
     if (temperature > 0) {
       draw_noise();
-      theta.noalias() += static_cast<float>(std::sqrt(eps * temperature)) * noise_;
+      const float* __restrict xi = noise_.data();
+      const auto sd = static_cast<float>(std::sqrt(eps * temperature));
+      for (std::int64_t i = 0; i < n; ++i) th[i] = (th[i] - half * g[i]) + sd * xi[i];
+    } else {
+      for (std::int64_t i = 0; i < n; ++i) th[i] -= half * g[i];
     }
     report.step_size = eps;
     ++steps_taken_;
