@@ -57,6 +57,8 @@ struct RunHeader {
   std::string tool_version;              // credence::kVersion
   std::string command_line;              // as typed, for the record
   std::string created_utc;               // ISO 8601, e.g. "2026-12-02T01:30:00Z"
+  int mpi_ranks = 1;                     // processes that ran the chains (mpirun -n)
+  int mpi_hosts = 1;                     // distinct hosts among them
   // Data.
   std::string data_file;                 // the path given on the command line
   std::string data_sha256;               // hex digest of the data file's bytes

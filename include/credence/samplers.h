@@ -105,6 +105,11 @@ struct ChainSettings {
   double max_potential = 1e30;
   /// Call on_trace every this many steps (1 = every step). Default 1.
   std::int64_t trace_every = 1;
+  /// Global indices of the chains this call runs, when it runs a share of a larger
+  /// run (several processes, one run): seeds, factory, init, hooks and checkpoints use
+  /// these indices, and `resume` follows their order. Empty = chains 0 .. chains - 1.
+  /// REQUIRES: empty, or `chains` entries, each >= 0 and distinct.
+  std::vector<int> chain_ids;
 };
 
 /// A kept sample, valid only during the hook call.
@@ -209,7 +214,9 @@ struct RunOutcome {
 /// Writes chain `chain`'s starting point into theta (P). Called once per fresh chain.
 using InitFn = std::function<Status(int chain, ThetaRef theta)>;
 
-/// Runs settings.chains chains of `parameters` coordinates. Each chain: its own
+/// Runs settings.chains chains of `parameters` coordinates (chains 0 .. C - 1, or the
+/// global indices in chains.chain_ids, which then stand for `chain` below; resume[i]
+/// belongs to the i-th chain run). Each chain: its own
 /// PotentialFn (factory), Sampler seeded with mix_seed(seed, chain), theta from
 /// init (or from resume[chain] when resume is non-empty: theta, sampler state and the
 /// potential's "model." arrays), then steps t = next_step .. burn_in + thin * samples - 1.

@@ -19,6 +19,10 @@
 #include <variant>
 
 #include "cli/interrupt.h"
+#ifdef CREDENCE_HAVE_MPI
+#include "cli/mpi_wire.h"
+#include "cli/mpi_world.h"
+#endif
 #include "cli/progress.h"
 #include "credence/ensemble.h"
 #include "credence/summaries.h"
@@ -190,13 +194,7 @@ Result<Prepared> prepare_resume(const RunHeader& header, const std::string& data
   return p;
 }
 
-struct SampleMessage {
-  int chain;
-  std::int64_t step;
-  std::int64_t index;
-  Eigen::VectorXf theta;
-};
-using Message = std::variant<TraceRecord, SampleMessage, ChainState>;
+using Message = ChainMessage;
 
 ChainStatus chain_status_of(const std::optional<ChainEnd>& end) {
   if (!end) return ChainStatus::kRunning;
@@ -378,60 +376,110 @@ ChainState state_of(const ChainCheckpoint& c) {
   return s;
 }
 
-Status run_chains_into(Prepared& p, RunWriter& writer, const std::string& run_path,
-                       std::vector<ChainCheckpoint> resume, bool quiet) {
-  const TrainSettings& s = p.settings;
-  const std::int64_t steps_per_chain = s.chains.burn_in + s.chains.thin * s.chains.samples;
-  std::vector<std::int64_t> next_steps(static_cast<std::size_t>(s.chains.chains), 0);
-  std::int64_t kept = 0;
+// The potential factory and the starting points: both depend on (seed, global chain
+// index) only, so a chain gives the same samples in whichever process runs it.
+PotentialFactory factory_of(const Prepared& p) {
+  return [&p](int chain) -> std::unique_ptr<PotentialFn> {
+    const TrainSettings& s = p.settings;
+    // The batch order of chain c depends on (seed, c) only, not on thread timing.
+    auto potential = TablePotential::create(p.rows, p.layout, p.spec.prior,
+                                            potential_settings_of(s), s.batches,
+                                            s.chains.seed * 1000003ULL +
+                                                static_cast<std::uint64_t>(chain));
+    return potential.ok() ? std::move(*potential) : nullptr;
+  };
+}
+
+InitFn init_of(const Prepared& p) {
+  return [&p](int chain, ThetaRef theta) {
+    Eigen::VectorXf start(theta.size());
+    initialize_params<float>(start, p.layout,
+                             p.settings.init_seed + static_cast<std::uint64_t>(chain) * 7919ULL);
+    theta = start;
+    return Status::ok_status();
+  };
+}
+
+// Hooks that hand every message to `push` (called under run_chains' hook mutex).
+ChainHooks hooks_into(const std::function<void(Message)>& push) {
+  ChainHooks hooks;
+  hooks.on_trace = [push](const TraceRow& row) {
+    push(TraceRecord{.chain = row.chain,
+                     .step = row.step,
+                     .potential = row.report.potential,
+                     .accuracy = row.report.accuracy.value_or(std::nan("")),
+                     .step_size = row.report.step_size,
+                     .speed_ratio = row.report.speed_ratio.value_or(std::nan("")),
+                     .acceptance = row.report.acceptance.value_or(std::nan(""))});
+  };
+  hooks.on_sample = [push](const KeptSample& sample) {
+    push(SampleMessage{sample.chain, sample.step, sample.index, sample.theta});
+  };
+  hooks.on_checkpoint = [push](const ChainCheckpoint& c) { push(state_of(c)); };
+  return hooks;
+}
+
+// How the run ended, from every chain's end; `failure` is the first failed chain's
+// status, `continue_with` the command that resumes the run.
+struct Verdict {
+  RunStatus status = RunStatus::kComplete;
+  Status result;
+};
+
+Verdict verdict_of(int chains, int stopped, int failed, int diverged, const Status& failure,
+                   const TrainSettings& s, const std::string& run_path,
+                   const std::string& continue_with) {
+  if (stopped > 0) {
+    return {RunStatus::kInterrupted,
+            Status::interrupted(fmt::format(
+                "interrupted; every kept sample is in {}. Continue with: {}", run_path,
+                continue_with))};
+  }
+  if (failed > 0) return {RunStatus::kFailed, failure};
+  if (diverged == chains) {
+    return {RunStatus::kDiverged,
+            Status::diverged(fmt::format(
+                "every chain diverged; try a step size ten times smaller (--lr {:g})",
+                s.sampler.learning_rate / 10))};
+  }
+  return {};
+}
+
+std::int64_t steps_per_chain_of(const TrainSettings& s) {
+  return s.chains.burn_in + s.chains.thin * s.chains.samples;
+}
+
+// Each chain's next step and the samples kept so far, from the resume list.
+std::vector<std::int64_t> next_steps_of(const std::vector<ChainCheckpoint>& resume, int chains,
+                                        std::int64_t& kept) {
+  std::vector<std::int64_t> next_steps(static_cast<std::size_t>(chains), 0);
+  kept = 0;
   for (std::size_t c = 0; c < resume.size() && c < next_steps.size(); ++c) {
     next_steps[c] = resume[c].next_step;
     kept += resume[c].kept;
   }
+  return next_steps;
+}
+
+Status run_chains_into(Prepared& p, RunWriter& writer, const std::string& run_path,
+                       std::vector<ChainCheckpoint> resume, bool quiet) {
+  const TrainSettings& s = p.settings;
+  std::int64_t kept = 0;
+  std::vector<std::int64_t> next_steps = next_steps_of(resume, s.chains.chains, kept);
   Result<SampleSummarizer> summarizer =
       SampleSummarizer::create(p.layout, p.probe, s.projections, s.chains.seed);
   if (!summarizer.ok()) return summarizer.status();
   ProgressDisplay progress(fmt::format("train {}", method_name(s.sampler.method)),
-                           steps_per_chain * s.chains.chains, s.chains.samples * s.chains.chains,
-                           quiet);
+                           steps_per_chain_of(s) * s.chains.chains,
+                           s.chains.samples * s.chains.chains, quiet);
   WriterThread writer_thread(writer, *summarizer, progress, s.flush_seconds, p.rows.x.cols(),
                              next_steps, kept);
-
-  const PotentialSettings potential_settings = potential_settings_of(s);
-  auto factory = [&](int chain) -> std::unique_ptr<PotentialFn> {
-    // The batch order of chain c depends on (seed, c) only, not on thread timing.
-    auto potential = TablePotential::create(p.rows, p.layout, p.spec.prior, potential_settings,
-                                            s.batches, s.chains.seed * 1000003ULL +
-                                                           static_cast<std::uint64_t>(chain));
-    return potential.ok() ? std::move(*potential) : nullptr;
-  };
-  auto init = [&](int chain, ThetaRef theta) {
-    Eigen::VectorXf start(theta.size());
-    initialize_params<float>(start, p.layout,
-                             s.init_seed + static_cast<std::uint64_t>(chain) * 7919ULL);
-    theta = start;
-    return Status::ok_status();
-  };
-  ChainHooks hooks;
-  hooks.on_trace = [&](const TraceRow& row) {
-    writer_thread.push(TraceRecord{
-        .chain = row.chain,
-        .step = row.step,
-        .potential = row.report.potential,
-        .accuracy = row.report.accuracy.value_or(std::nan("")),
-        .step_size = row.report.step_size,
-        .speed_ratio = row.report.speed_ratio.value_or(std::nan("")),
-        .acceptance = row.report.acceptance.value_or(std::nan(""))});
-  };
-  hooks.on_sample = [&](const KeptSample& sample) {
-    writer_thread.push(SampleMessage{sample.chain, sample.step, sample.index, sample.theta});
-  };
-  hooks.on_checkpoint = [&](const ChainCheckpoint& c) { writer_thread.push(state_of(c)); };
+  const ChainHooks hooks = hooks_into([&](Message m) { writer_thread.push(std::move(m)); });
 
   const std::atomic<bool>& stop = install_interrupt_handlers();
   RunControl control{.stop = &stop, .checkpoint_request = &writer_thread.checkpoint_request()};
-  Result<RunOutcome> outcome = run_chains(s.sampler, s.chains, p.layout.num_params, factory,
-                                          init, hooks, control, resume);
+  Result<RunOutcome> outcome = run_chains(s.sampler, s.chains, p.layout.num_params,
+                                          factory_of(p), init_of(p), hooks, control, resume);
   Status written = writer_thread.stop();
   progress.finish(writer_thread.steps_done(), writer_thread.kept());
   if (!outcome.ok()) {
@@ -449,26 +497,483 @@ Status run_chains_into(Prepared& p, RunWriter& writer, const std::string& run_pa
       log().warn("chain {} diverged at step {}: {}", chain.checkpoint.chain, chain.step, chain.reason);
     }
   }
-  const int chains = static_cast<int>(outcome->chains.size());
-  RunStatus final_status = RunStatus::kComplete;
-  Status result = Status::ok_status();
-  if (stopped > 0) {
-    final_status = RunStatus::kInterrupted;
-    result = Status::interrupted(fmt::format(
-        "interrupted; every kept sample is in {0}. Continue with: credence train --resume {0}",
-        run_path));
-  } else if (failed > 0) {
-    final_status = RunStatus::kFailed;
-    result = outcome->status;
-  } else if (diverged == chains) {
-    final_status = RunStatus::kDiverged;
-    result = Status::diverged(fmt::format(
-        "every chain diverged; try a step size ten times smaller (--lr {:g})",
-        s.sampler.learning_rate / 10));
-  }
-  CREDENCE_RETURN_IF_ERROR(writer.finish(final_status));
-  return result;
+  const Verdict verdict =
+      verdict_of(static_cast<int>(outcome->chains.size()), stopped, failed, diverged,
+                 outcome->status, s, run_path, "credence train --resume " + run_path);
+  CREDENCE_RETURN_IF_ERROR(writer.finish(verdict.status));
+  return verdict.result;
 }
+
+#ifdef CREDENCE_HAVE_MPI
+// ---- Under mpirun: chains spread over ranks, rank 0 the only writer ----------------
+//
+// Rank r runs global chains r, r + R, r + 2R, ... with its own OpenMP threads, on a
+// chain thread; the process's main thread alone talks MPI (MPI_THREAD_FUNNELED).
+// Workers send their chains' messages to rank 0, whose main thread feeds them to the
+// same WriterThread a local run uses, so rows and states commit exactly as locally.
+// Rank 0 forwards the writer's checkpoint requests and any stop to every worker.
+
+std::vector<int> chains_of_rank(int chains, int rank, int ranks) {
+  std::vector<int> ids;
+  for (int c = rank; c < chains; c += ranks) ids.push_back(c);
+  return ids;
+}
+
+// What a rank's own chains produce, waiting for its MPI thread.
+class Outbox {
+ public:
+  void push(Message message) {
+    std::lock_guard<std::mutex> lock(mutex_);
+    messages_.push_back(std::move(message));
+  }
+  void take(std::vector<Message>& into) {
+    std::lock_guard<std::mutex> lock(mutex_);
+    into.swap(messages_);
+    messages_.clear();
+  }
+
+ private:
+  std::mutex mutex_;
+  std::vector<Message> messages_;
+};
+
+// One rank's share of the chains, run on their own thread.
+class ChainThread {
+ public:
+  ChainThread(const Prepared& p, const std::vector<int>& ids, std::vector<ChainCheckpoint> resume,
+              ChainHooks hooks, RunControl control)
+      : p_(p), hooks_(std::move(hooks)), control_(control), resume_(std::move(resume)) {
+    chains_ = p.settings.chains;
+    chains_.chains = static_cast<int>(ids.size());
+    chains_.chain_ids = ids;
+    if (ids.empty()) {
+      finished_ = true;
+      return;
+    }
+    thread_ = std::thread([this] {
+      Result<RunOutcome> run = run_chains(p_.settings.sampler, chains_, p_.layout.num_params,
+                                          factory_of(p_), init_of(p_), hooks_, control_, resume_);
+      if (run.ok()) {
+        outcome_ = std::move(*run);
+      } else {
+        failure_ = run.status();
+      }
+      finished_.store(true, std::memory_order_release);
+    });
+  }
+  ~ChainThread() { join(); }
+
+  bool finished() const { return finished_.load(std::memory_order_acquire); }
+  void join() {
+    if (thread_.joinable()) thread_.join();
+  }
+  /// After join(): how each chain ended, and a failure of the whole share.
+  std::vector<wire::ChainEnding> endings() const {
+    std::vector<wire::ChainEnding> out;
+    for (const ChainOutcome& c : outcome_.chains) {
+      out.push_back({c.checkpoint.chain, c.end, c.status, c.step, c.reason});
+    }
+    return out;
+  }
+  const Status& failure() const { return failure_; }
+
+ private:
+  const Prepared& p_;
+  ChainSettings chains_;
+  ChainHooks hooks_;
+  RunControl control_;
+  std::vector<ChainCheckpoint> resume_;
+  RunOutcome outcome_;
+  Status failure_;
+  std::atomic<bool> finished_{false};
+  std::thread thread_;
+};
+
+void sleep_briefly() { std::this_thread::sleep_for(std::chrono::milliseconds(2)); }
+
+// The job every rank runs: settings, network and encoded training rows from rank 0, so
+// every rank trains on exactly what rank 0 prepared, plus every chain's resume state.
+void put_job(wire::Packer& out, const Prepared& p, const std::vector<ChainState>& states) {
+  wire::put_settings(out, p.header.settings);
+  out.put_string(p.header.net_text);
+  out.put(static_cast<std::int64_t>(p.header.preprocessing.input_width));
+  out.put(static_cast<std::int64_t>(p.header.preprocessing.class_names.size()));
+  out.put(static_cast<std::int32_t>(p.header.chains));
+  out.put(static_cast<std::int64_t>(p.rows.x.rows()));
+  out.put(static_cast<std::int64_t>(p.rows.x.cols()));
+  const auto* bytes = reinterpret_cast<const char*>(p.rows.x.data());
+  out.bytes().insert(out.bytes().end(), bytes,
+                     bytes + static_cast<std::size_t>(p.rows.x.size()) * sizeof(float));
+  out.put_vector(p.rows.labels);
+  out.put(static_cast<std::uint64_t>(states.size()));
+  for (const ChainState& state : states) wire::put_chain_state(out, state);
+}
+
+Status get_job(wire::Unpacker& in, Prepared& p, std::vector<ChainState>& states) {
+  const Status garbled = Status::internal("the job from rank 0 arrived garbled");
+  std::int64_t width = 0, classes = 0, rows = 0, cols = 0;
+  std::int32_t chains = 0;
+  if (!wire::get_settings(in, p.header.settings) || !in.get_string(p.header.net_text) ||
+      !in.get(width) || !in.get(classes) || !in.get(chains) || !in.get(rows) || !in.get(cols)) {
+    return garbled;
+  }
+  std::vector<float> x(static_cast<std::size_t>(rows * cols));
+  for (float& v : x) {
+    if (!in.get(v)) return garbled;
+  }
+  p.rows.x = Eigen::Map<const Eigen::MatrixXf>(x.data(), rows, cols);
+  std::uint64_t count = 0;
+  if (!in.get_vector(p.rows.labels) || !in.get(count)) return garbled;
+  states.resize(static_cast<std::size_t>(count));
+  for (ChainState& state : states) {
+    if (!wire::get_chain_state(in, state)) return garbled;
+  }
+  if (!in.done()) return garbled;
+  p.header.chains = chains;
+  ReadOptions read;
+  CREDENCE_RETURN_IF_ERROR(from_values(p.header.settings, p.settings, read));
+  Result<NetSpec> spec = parse_net_text(p.header.net_text, "net text from rank 0");
+  if (!spec.ok()) return spec.status();
+  p.spec = *spec;
+  Result<ParamLayout> layout =
+      resolve_layout(p.spec, static_cast<Index>(width), static_cast<Index>(classes));
+  if (!layout.ok()) return layout.status();
+  p.layout = *layout;
+  return Status::ok_status();
+}
+
+// Rank 0 opens the run: for --resume the file and the data it names, for a new run only
+// the data's path and digest (nothing is written before every rank agrees on the data).
+Status open_on_root(const TrainRequest& request, std::unique_ptr<RunWriter>& writer,
+                    Prepared& p, std::vector<ChainState>& states, std::string& data_path,
+                    std::string& digest) {
+  if (request.resume_path.empty()) {
+    data_path = request.data_path;
+    if (data_path.empty()) return Status::invalid_input("give the data file: credence train DATA.csv ...");
+    Result<std::string> d = file_sha256_hex(data_path);
+    if (!d.ok()) return d.status();
+    digest = *d;
+    return Status::ok_status();
+  }
+  Result<std::unique_ptr<RunWriter>> reopened = RunWriter::reopen(request.resume_path, states);
+  if (!reopened.ok()) return reopened.status();
+  writer = std::move(*reopened);
+  Result<Prepared> prepared = prepare_resume(writer->header(), request.data_path);
+  if (!prepared.ok()) return prepared.status();
+  p = std::move(*prepared);
+  data_path = request.data_path.empty() ? p.header.data_file : request.data_path;
+  digest = p.header.data_sha256;
+  log().info("resuming {} chains from {}", states.size(), request.resume_path);
+  return Status::ok_status();
+}
+
+// Every rank hashes its own copy of the data and compares with rank 0's digest.
+Status check_same_data(const mpi::World& world, const TrainRequest& request,
+                       const std::string& root_path, const std::string& root_digest) {
+  if (world.rank() == 0) return Status::ok_status();
+  const std::string path = request.data_path.empty() ? root_path : request.data_path;
+  Result<std::string> digest = file_sha256_hex(path);
+  if (!digest.ok()) return digest.status();
+  if (*digest != root_digest) {
+    return Status::invalid_input(fmt::format(
+        "{}: SHA-256 {} differs from rank 0's {} ({}); every rank must read the same data "
+        "file: copy it to the same path on every host",
+        path, *digest, root_digest, root_path));
+  }
+  return Status::ok_status();
+}
+
+void send_control(const mpi::World& world, bool stop, std::uint64_t generation) {
+  wire::Packer out;
+  out.put(static_cast<std::uint8_t>(stop));
+  out.put(generation);
+  for (int r = 1; r < world.size(); ++r) world.send(r, mpi::kTagControl, out.bytes());
+}
+
+// Rank 0: its own chains, the writer, and everything the workers send.
+Status run_root(const mpi::World& world, Prepared& p, RunWriter& writer,
+                const std::string& run_path, std::vector<ChainCheckpoint> resume_all,
+                bool quiet) {
+  const TrainSettings& s = p.settings;
+  const int chains = s.chains.chains;
+  std::int64_t kept = 0;
+  std::vector<std::int64_t> next_steps = next_steps_of(resume_all, chains, kept);
+  Result<SampleSummarizer> summarizer =
+      SampleSummarizer::create(p.layout, p.probe, s.projections, s.chains.seed);
+  if (!summarizer.ok()) return summarizer.status();
+  ProgressDisplay progress(fmt::format("train {} ({} ranks)", method_name(s.sampler.method),
+                                       world.size()),
+                           steps_per_chain_of(s) * chains, s.chains.samples * chains, quiet);
+  WriterThread writer_thread(writer, *summarizer, progress, s.flush_seconds, p.rows.x.cols(),
+                             next_steps, kept);
+  const std::vector<int> ids = chains_of_rank(chains, 0, world.size());
+  std::vector<ChainCheckpoint> resume;
+  for (int id : ids) {
+    if (!resume_all.empty()) resume.push_back(std::move(resume_all[static_cast<std::size_t>(id)]));
+  }
+  const std::atomic<bool>& signalled = install_interrupt_handlers();
+  std::atomic<bool> stop{false};
+  ChainThread own(p, ids,  std::move(resume),
+                  hooks_into([&](Message m) { writer_thread.push(std::move(m)); }),
+                  RunControl{.stop = &stop,
+                             .checkpoint_request = &writer_thread.checkpoint_request()});
+
+  std::vector<wire::ChainEnding> endings;
+  std::vector<int> ending_rank;
+  Status rank_failure;
+  int stopped_first = -1;  // the rank whose chains stopped first
+  int done = 0;
+  bool stop_sent = false;
+  std::uint64_t forwarded = 0;
+  auto stop_everyone = [&] {
+    stop.store(true, std::memory_order_relaxed);
+    if (!stop_sent) send_control(world, true, forwarded);
+    stop_sent = true;
+  };
+  std::vector<char> bytes;
+  for (;;) {
+    bool busy = false;
+    int from = 0, tag = 0;
+    while (world.poll(from, tag, bytes)) {
+      busy = true;
+      wire::Unpacker in(bytes.data(), bytes.size());
+      if (tag == mpi::kTagData) {
+        std::uint64_t n = 0;
+        in.get(n);
+        for (std::uint64_t i = 0; i < n; ++i) {
+          Message m;
+          if (!wire::get_message(in, m)) break;
+          writer_thread.push(std::move(m));
+        }
+        if (!in.done() && rank_failure.ok()) {
+          rank_failure = Status::internal(world.who(from) + ": chain messages arrived garbled");
+          stop_everyone();
+        }
+      } else if (tag == mpi::kTagDone) {
+        ++done;
+        Status failure;
+        std::uint64_t n = 0;
+        wire::get_status(in, failure);
+        in.get(n);
+        for (std::uint64_t i = 0; i < n; ++i) {
+          wire::ChainEnding e;
+          if (!wire::get_ending(in, e)) break;
+          if (e.end == ChainEnd::kStopped && stopped_first < 0) stopped_first = from;
+          endings.push_back(std::move(e));
+          ending_rank.push_back(from);
+        }
+        if (!failure.ok() && rank_failure.ok()) {
+          rank_failure = Status(failure.code(), world.who(from) + ": " + failure.message());
+        }
+        if (!failure.ok() || stopped_first >= 0) stop_everyone();
+      }
+    }
+    if (signalled.load(std::memory_order_relaxed) && !stop_sent) {
+      if (stopped_first < 0) stopped_first = 0;
+      stop_everyone();
+    }
+    const std::uint64_t generation =
+        writer_thread.checkpoint_request().load(std::memory_order_relaxed);
+    if (generation != forwarded) {
+      forwarded = generation;
+      send_control(world, stop_sent, generation);
+    }
+    if (own.finished() && done == world.size() - 1) break;
+    if (!busy) sleep_briefly();
+  }
+  own.join();
+  if (!own.failure().ok() && rank_failure.ok()) {
+    rank_failure = Status(own.failure().code(), world.who(0) + ": " + own.failure().message());
+  }
+  for (const wire::ChainEnding& e : own.endings()) {
+    endings.push_back(e);
+    ending_rank.push_back(0);
+  }
+  Status written = writer_thread.stop();
+  progress.finish(writer_thread.steps_done(), writer_thread.kept());
+
+  Verdict verdict;
+  const std::string resume_line = fmt::format("mpirun -n {} credence train --resume {}",
+                                              world.size(), run_path);
+  if (!written.ok()) {
+    verdict = {RunStatus::kFailed, written.with_context("writing the run file")};
+  } else if (!rank_failure.ok()) {
+    // A rank failed as a whole: keep what arrived, resumable.
+    verdict = {RunStatus::kInterrupted,
+               Status(rank_failure.code() == StatusCode::kInterrupted ? StatusCode::kInternal
+                                                                      : rank_failure.code(),
+                      fmt::format("{}; every kept sample that arrived is in {}. Continue with: {}",
+                                  rank_failure.message(), run_path, resume_line))};
+  } else {
+    int diverged = 0, stopped = 0, failed = 0;
+    Status failure;
+    for (std::size_t i = 0; i < endings.size(); ++i) {
+      const wire::ChainEnding& e = endings[i];
+      diverged += e.end == ChainEnd::kDiverged;
+      stopped += e.end == ChainEnd::kStopped;
+      failed += e.end == ChainEnd::kFailed;
+      if (e.end == ChainEnd::kDiverged) {
+        log().warn("chain {} diverged at step {}: {}", e.chain, e.step, e.reason);
+      }
+      if (e.end == ChainEnd::kFailed && failure.ok()) {
+        failure = Status(e.status.code(), fmt::format("{}: chain {}: {}", world.who(ending_rank[i]),
+                                                      e.chain, e.status.message()));
+      }
+    }
+    verdict = verdict_of(chains, stopped, failed, diverged, failure, s, run_path, resume_line);
+    if (stopped > 0) {
+      verdict.result = Status::interrupted(fmt::format(
+          "interrupted ({} stopped first); every kept sample is in {}. Continue with: {}",
+          world.who(std::max(stopped_first, 0)), run_path, resume_line));
+    }
+  }
+  Status finished = writer.finish(verdict.status);
+  if (verdict.result.ok() && !finished.ok()) verdict.result = finished;
+  wire::Packer out;
+  wire::put_status(out, verdict.result);
+  for (int r = 1; r < world.size(); ++r) world.send(r, mpi::kTagFinal, out.bytes());
+  return verdict.result;
+}
+
+// A worker rank: run its chains, send everything to rank 0, obey its control messages.
+Status run_worker(const mpi::World& world, const Prepared& p,
+                  const std::vector<ChainState>& states) {
+  const std::vector<int> ids = chains_of_rank(p.settings.chains.chains, world.rank(), world.size());
+  std::vector<ChainCheckpoint> resume;
+  for (int id : ids) {
+    if (!states.empty()) resume.push_back(checkpoint_of(states[static_cast<std::size_t>(id)]));
+  }
+  const std::atomic<bool>& signalled = install_interrupt_handlers();
+  std::atomic<bool> stop{false};
+  std::atomic<std::uint64_t> request{0};
+  Outbox outbox;
+  ChainThread own(p, ids, std::move(resume),
+                  hooks_into([&](Message m) { outbox.push(std::move(m)); }),
+                  RunControl{.stop = &stop, .checkpoint_request = &request});
+  std::vector<Message> pending;
+  std::vector<char> bytes;
+  auto send_pending = [&] {
+    outbox.take(pending);
+    if (pending.empty()) return false;
+    wire::Packer out;
+    out.put(static_cast<std::uint64_t>(pending.size()));
+    for (const Message& m : pending) wire::put_message(out, m);
+    world.send(0, mpi::kTagData, out.bytes());
+    pending.clear();
+    return true;
+  };
+  Status final_status;
+  bool have_final = false;
+  auto take_from_root = [&] {
+    bool any = false;
+    int from = 0, tag = 0;
+    while (world.poll(from, tag, bytes)) {
+      any = true;
+      wire::Unpacker in(bytes.data(), bytes.size());
+      if (tag == mpi::kTagControl) {
+        std::uint8_t stop_now = 0;
+        std::uint64_t generation = 0;
+        if (in.get(stop_now) && in.get(generation)) {
+          if (stop_now) stop.store(true, std::memory_order_relaxed);
+          request.store(generation, std::memory_order_relaxed);
+        }
+      } else if (tag == mpi::kTagFinal) {
+        wire::get_status(in, final_status);
+        have_final = true;
+      }
+    }
+    return any;
+  };
+  for (;;) {
+    // Finished is read before the last drain: every hook call precedes it.
+    const bool finished = own.finished();
+    bool busy = send_pending();
+    busy = take_from_root() || busy;
+    if (signalled.load(std::memory_order_relaxed)) stop.store(true, std::memory_order_relaxed);
+    if (finished) break;
+    if (!busy) sleep_briefly();
+  }
+  own.join();
+  send_pending();
+  wire::Packer done;
+  wire::put_status(done, own.failure());
+  const std::vector<wire::ChainEnding> endings = own.endings();
+  done.put(static_cast<std::uint64_t>(endings.size()));
+  for (const wire::ChainEnding& e : endings) wire::put_ending(done, e);
+  world.send(0, mpi::kTagDone, done.bytes());
+  while (!have_final) {
+    if (!take_from_root()) sleep_briefly();
+  }
+  if (final_status.ok()) return final_status;
+  if (!own.failure().ok()) return Status(own.failure().code(), world.who(world.rank()) + ": " + own.failure().message());
+  // Rank 0 prints why; the workers end with the same exit code.
+  return Status(final_status.code(), world.who(world.rank()) + ": stopped with the run (rank 0 says why)");
+}
+
+Status train_in_world(const TrainRequest& request, const mpi::World& world) {
+  const bool root = world.rank() == 0;
+  std::unique_ptr<RunWriter> writer;
+  Prepared p;
+  std::vector<ChainState> states;
+  std::string data_path, digest;
+  Status mine;
+  if (root) mine = open_on_root(request, writer, p, states, data_path, digest);
+  CREDENCE_RETURN_IF_ERROR(world.agree(mine));
+
+  wire::Packer data_id;
+  data_id.put_string(data_path);
+  data_id.put_string(digest);
+  world.broadcast(data_id.bytes(), 0);
+  wire::Unpacker in(data_id.bytes().data(), data_id.bytes().size());
+  in.get_string(data_path);
+  in.get_string(digest);
+  CREDENCE_RETURN_IF_ERROR(world.agree(check_same_data(world, request, data_path, digest)));
+
+  if (root && request.resume_path.empty()) {
+    mine = [&]() -> Status {
+      Result<Prepared> prepared = prepare_new(request);
+      if (!prepared.ok()) return prepared.status();
+      p = std::move(*prepared);
+      p.header.mpi_ranks = world.size();
+      p.header.mpi_hosts = world.hosts();
+      Result<std::unique_ptr<RunWriter>> created =
+          RunWriter::create(request.out_path, p.header, request.force);
+      if (!created.ok()) return created.status();
+      writer = std::move(*created);
+      log().info("training {} chains of {} over {} ranks on {} hosts ({} parameters, {} "
+                 "training rows) into {}",
+                 p.settings.chains.chains, method_name(p.settings.sampler.method), world.size(),
+                 world.hosts(), p.layout.num_params, p.rows.x.cols(), request.out_path);
+      return Status::ok_status();
+    }();
+  }
+  CREDENCE_RETURN_IF_ERROR(world.agree(mine));
+
+  wire::Packer job;
+  if (root) put_job(job, p, states);
+  world.broadcast(job.bytes(), 0);
+  if (!root) {
+    wire::Unpacker job_in(job.bytes().data(), job.bytes().size());
+    mine = get_job(job_in, p, states);
+  }
+  CREDENCE_RETURN_IF_ERROR(world.agree(mine));
+
+  if (!root) return run_worker(world, p, states);
+  std::vector<ChainCheckpoint> resume;
+  for (const ChainState& state : states) resume.push_back(checkpoint_of(state));
+  const std::string& run_path = request.resume_path.empty() ? request.out_path : request.resume_path;
+  return run_root(world, p, *writer, run_path, std::move(resume), request.quiet);
+}
+
+Status run_train_under_mpi(const TrainRequest& request) {
+  Result<std::unique_ptr<mpi::World>> world = mpi::World::init();
+  if (!world.ok()) return world.status();
+  Status status = train_in_world(request, **world);
+  // Nobody finalizes while rank 0 may still be writing.
+  (*world)->barrier();
+  return status;
+}
+#endif
 
 }  // namespace
 
@@ -477,6 +982,9 @@ Status run_train(const TrainRequest& request) {
   // Chains run in parallel with OpenMP; BLAS threads inside each chain would fight
   // them for the cores (DESIGN.md section 6).
   openblas_set_num_threads(1);
+#endif
+#ifdef CREDENCE_HAVE_MPI
+  if (mpi::launched_by_mpirun()) return run_train_under_mpi(request);
 #endif
   std::unique_ptr<RunWriter> writer;
   std::vector<ChainCheckpoint> resume;

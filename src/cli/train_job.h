@@ -1,11 +1,14 @@
 // `credence train` as one function: data, network, chains, writer thread, run file.
 #pragma once
 
+#include <cstdint>
 #include <string>
+#include <variant>
 #include <vector>
 
 #include "cli/data_options.h"
 #include "cli/run_settings.h"
+#include "credence/ensemble.h"
 #include "credence/net.h"
 #include "credence/status.h"
 
@@ -27,7 +30,20 @@ struct TrainRequest {
   bool quiet = false;
 };
 
-/// Runs the request. kInterrupted after Ctrl-C (the run file is valid and resumable),
+/// A kept sample on its way from a chain to the writer.
+struct SampleMessage {
+  int chain = 0;
+  std::int64_t step = 0;
+  std::int64_t index = 0;
+  Eigen::VectorXf theta;  // (P)
+};
+/// What the chains hand the single writer (in-process through a queue, or from another
+/// MPI rank as bytes): trace rows, kept samples and chain states, in step order per chain.
+using ChainMessage = std::variant<TraceRecord, SampleMessage, ChainState>;
+
+/// Runs the request. Under mpirun (a build with CREDENCE_MPI) the chains are spread
+/// over the ranks: rank r runs chains r, r + R, r + 2R, ... and rank 0 alone writes
+/// the run file; the samples equal those of one process running every chain. kInterrupted after Ctrl-C (the run file is valid and resumable),
 /// kDiverged when every chain diverged, kInvalidInput for bad input (nothing written).
 Status run_train(const TrainRequest& request);
 

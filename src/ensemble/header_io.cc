@@ -106,6 +106,8 @@ void write_header(H5::H5File& file, const RunHeader& header) {
   h5::write_attr(provenance, kToolVersion, header.tool_version);
   h5::write_attr(provenance, kCommandLine, header.command_line);
   h5::write_attr(provenance, kCreatedUtc, header.created_utc);
+  h5::write_attr(provenance, kMpiRanks, std::int64_t{header.mpi_ranks});
+  h5::write_attr(provenance, kMpiHosts, std::int64_t{header.mpi_hosts});
 
   H5::Group data = file.createGroup(kData);
   h5::write_attr(data, kDataFile, header.data_file);
@@ -163,6 +165,12 @@ RunHeader read_header(const H5::H5File& file) {
   header.tool_version = h5::read_attr_string(provenance, kToolVersion);
   header.command_line = h5::read_attr_string(provenance, kCommandLine);
   header.created_utc = h5::read_attr_string(provenance, kCreatedUtc);
+  if (h5::has_attr(provenance, kMpiRanks)) {
+    header.mpi_ranks = static_cast<int>(h5::read_attr_i64(provenance, kMpiRanks));
+  }
+  if (h5::has_attr(provenance, kMpiHosts)) {
+    header.mpi_hosts = static_cast<int>(h5::read_attr_i64(provenance, kMpiHosts));
+  }
 
   H5::Group data = file.openGroup(kData);
   header.data_file = h5::read_attr_string(data, kDataFile);

@@ -19,6 +19,9 @@ inline constexpr const char* kProvenance = "provenance";
 inline constexpr const char* kToolVersion = "tool_version";
 inline constexpr const char* kCommandLine = "command_line";
 inline constexpr const char* kCreatedUtc = "created_utc";
+// Added within format 1 (int64); readers treat absence as 1 rank on 1 host.
+inline constexpr const char* kMpiRanks = "mpi_ranks";
+inline constexpr const char* kMpiHosts = "mpi_hosts";
 
 // /data: attributes file, sha256, rows; datasets of 0-based row indices.
 inline constexpr const char* kData = "data";

@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 #include <omp.h>
 
+#include <algorithm>
 #include <atomic>
 #include <chrono>
 #include <cmath>
@@ -287,6 +288,12 @@ class ChainRunner {
   ChainOutcome outcome_;
 };
 
+// The global index of the chain at position `position` of this call.
+int chain_id(const ChainSettings& chains, int position) {
+  return chains.chain_ids.empty() ? position
+                                  : chains.chain_ids[static_cast<std::size_t>(position)];
+}
+
 }  // namespace
 
 std::string_view chain_end_name(ChainEnd end) {
@@ -315,6 +322,15 @@ Result<RunOutcome> run_chains(const SamplerSettings& settings, const ChainSettin
         "chain settings need chains >= 1, burn_in >= 0, thin >= 1, samples >= 0, "
         "trace_every >= 1 and threads >= 0");
   }
+  if (!chains.chain_ids.empty()) {
+    std::vector<int> ids = chains.chain_ids;
+    std::sort(ids.begin(), ids.end());
+    if (ids.size() != static_cast<std::size_t>(chains.chains) || ids.front() < 0 ||
+        std::adjacent_find(ids.begin(), ids.end()) != ids.end()) {
+      return Status::invalid_input(
+          "chain settings: chain_ids must list `chains` distinct indices >= 0");
+    }
+  }
   if (!factory) return Status::invalid_input("run_chains needs a potential factory");
   if (!resume.empty() && resume.size() != static_cast<std::size_t>(chains.chains)) {
     return Status::invalid_input("resuming needs one checkpoint per chain: got " +
@@ -332,10 +348,11 @@ Result<RunOutcome> run_chains(const SamplerSettings& settings, const ChainSettin
     // would have the first time (its seed depends on the chain index only).
     if (from != nullptr && from->next_step == 0 && from->theta.size() == 0) from = nullptr;
     ChainContext cx{settings, chains, parameters, factory, init, hooks, control, from, hook_mutex};
-    run.chains[static_cast<std::size_t>(c)] = ChainRunner(cx, c).run();
+    run.chains[static_cast<std::size_t>(c)] = ChainRunner(cx, chain_id(chains, c)).run();
   }
-  for (std::size_t c = 0; c < run.chains.size(); ++c) {
-    const ChainOutcome& outcome = run.chains[c];
+  for (std::size_t i = 0; i < run.chains.size(); ++i) {
+    const ChainOutcome& outcome = run.chains[i];
+    const int c = chain_id(chains, static_cast<int>(i));
     if (outcome.end == ChainEnd::kCompleted) continue;
     if (outcome.end == ChainEnd::kStopped) {
       log().info("chain {} stopped at step {}", c, outcome.step);
