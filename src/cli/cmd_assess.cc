@@ -8,6 +8,7 @@
 #include "cli/assess_job.h"
 #include "cli/assess_output.h"
 #include "cli/commands.h"
+#include "cli/memory_option.h"
 #include "credence/ensemble.h"
 #include "util/atomic_file.h"
 #include "util/log.h"
@@ -34,6 +35,7 @@ struct AssessFlags {
   bool save_temperature = false;
   std::optional<double> temperature;
   std::string truth_path;
+  std::string max_memory;  // --max-memory; empty: the default share of physical memory
 };
 
 Result<AssessJobOptions> job_options(const AssessFlags& flags) {
@@ -113,6 +115,9 @@ Status run_assess(const AssessFlags& flags, const GlobalOptions& global) {
     return Status::invalid_input(
         "--save-temperature fits the whole ensemble; drop --samples to store it");
   }
+  // The data table is read whole, then the ensemble evaluated on it.
+  CREDENCE_RETURN_IF_ERROR(check_ensemble_memory(**run, flags.run_path, flags.samples,
+                                                 flags.data_path, flags.max_memory));
   Result<AssessJobResult> result = run_assess_job(**run, flags.data_path, *options);
   if (!result.ok()) return result.status();
   const std::int64_t committed = (*run)->summary().samples;
@@ -188,6 +193,7 @@ void add_assess_command(CLI::App& app, const GlobalOptions& global, CommandList&
                   "Score with this member-wise temperature instead of the run's stored one");
   sub->add_option("--truth", flags->truth_path,
                   "A synth truth file: also score the probabilities against the true ones");
+  add_max_memory_option(*sub, flags->max_memory);
   commands.push_back({sub, [flags, &global] { return run_assess(*flags, global); }});
 }
 

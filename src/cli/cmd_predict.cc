@@ -6,6 +6,7 @@
 #include <optional>
 
 #include "cli/commands.h"
+#include "cli/memory_option.h"
 #include "cli/run_settings.h"
 #include "credence/ensemble.h"
 #include "credence/predict.h"
@@ -27,6 +28,7 @@ struct PredictFlags {
   std::optional<double> flag_above;
   std::string flag_by = "entropy";
   std::optional<double> temperature;
+  std::string max_memory;  // --max-memory; empty: the default share of physical memory
 };
 
 // The delimiter and missing-value tokens the run was trained with.
@@ -78,6 +80,9 @@ Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
                run_status_name(status));
   }
   options.read = stored_read_options(header);
+  // Rows are streamed in blocks, so the ensemble and the block workspaces are the peak.
+  CREDENCE_RETURN_IF_ERROR(
+      check_ensemble_memory(**run, flags.run_path, flags.samples, "", flags.max_memory));
   PredictorOptions predictor_options;
   predictor_options.samples = flags.samples;
   predictor_options.temperature = flags.temperature;
@@ -141,6 +146,7 @@ void add_predict_command(CLI::App& app, const GlobalOptions& global, CommandList
   sub->add_option("--temperature", flags->temperature,
                   "Divide every member's logits by T before averaging (default: the "
                   "temperature stored by assess --save-temperature, else 1)");
+  add_max_memory_option(*sub, flags->max_memory);
   commands.push_back({sub, [flags, &global] { return run_predict(*flags, global); }});
 }
 

@@ -9,6 +9,7 @@
 #include "cli/commands.h"
 #include "cli/data_options.h"
 #include "cli/json.h"
+#include "cli/memory_option.h"
 #include "credence/data.h"
 #include "util/atomic_file.h"
 
@@ -20,6 +21,7 @@ struct SchemaSettings {
   std::string data_path;  // DATA.csv
   std::string json_path;  // --json FILE; empty = none
   DataFlags data;
+  std::string max_memory;  // --max-memory; empty: the default share of physical memory
 };
 
 // Column names are user text of any width; padding by hand keeps the table aligned.
@@ -154,6 +156,12 @@ std::string json_report(const Dataset& data, const DataOptions& options) {
 Status run_schema(const SchemaSettings& settings) {
   Result<DataOptions> options = resolve_data_options(settings.data);
   if (!options.ok()) return options.status();
+  Result<MemoryLimit> limit = memory_limit_from_flag(settings.max_memory);
+  if (!limit.ok()) return limit.status();
+  const std::uint64_t file_bytes = file_bytes_or_zero(settings.data_path);
+  CREDENCE_RETURN_IF_ERROR(check_memory(
+      fmt::format("{}: reading a table of {}", settings.data_path, format_bytes(file_bytes)),
+      estimate_table_bytes(file_bytes), *limit));
   Result<Dataset> data = load_dataset(settings.data_path, *options);
   if (!data.ok()) return data.status();
   const std::string report = text_report(*data, *options);
@@ -175,6 +183,7 @@ void add_schema_command(CLI::App& app, const GlobalOptions&, CommandList& comman
   sub->add_option("DATA.csv", settings->data_path, "The table (CSV with a header row)")->required();
   sub->add_option("--json", settings->json_path, "Also write the facts as JSON to this file");
   add_data_options(*sub, settings->data);
+  add_max_memory_option(*sub, settings->max_memory);
   commands.push_back({sub, [settings] { return run_schema(*settings); }});
 }
 

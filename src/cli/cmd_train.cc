@@ -4,6 +4,7 @@
 #include <sstream>
 
 #include "cli/commands.h"
+#include "cli/memory_option.h"
 #include "cli/train_job.h"
 
 namespace credence::cli {
@@ -145,6 +146,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
       ->capture_default_str();
   chains->add_option("--threads", s.chains.threads, "Threads for chains (0: one per core)")
       ->capture_default_str();
+  add_max_memory_option(*sub, r.max_memory);
   chains->add_option("--flush-seconds", s.flush_seconds,
                      "Longest time a kept sample waits before reaching the disk")
       ->capture_default_str();

@@ -7,6 +7,8 @@
 // checkpoints and redraws the progress line. Nothing else touches HDF5.
 #include "cli/train_job.h"
 
+#include "cli/memory_option.h"
+
 #include <fmt/chrono.h>
 #include <fmt/format.h>
 
@@ -112,6 +114,13 @@ Result<NamedArrays> state_template(const Prepared& p) {
 Result<Prepared> prepare_new(const TrainRequest& request) {
   Prepared p;
   p.settings = request.settings;
+  // DESIGN.md section 7: refuse what would not fit before allocating it.
+  Result<MemoryLimit> limit = memory_limit_from_flag(request.max_memory);
+  if (!limit.ok()) return limit.status();
+  const std::uint64_t file_bytes = file_bytes_or_zero(request.data_path);
+  CREDENCE_RETURN_IF_ERROR(check_memory(
+      fmt::format("{}: reading a table of {} bytes", request.data_path, file_bytes),
+      estimate_table_bytes(file_bytes), *limit));
   Result<Dataset> data = load_dataset(request.data_path, request.data);
   if (!data.ok()) return data.status();
   Result<std::string> digest = file_sha256_hex(request.data_path);
@@ -128,6 +137,26 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
   Result<ParamLayout> layout = resolve_layout(p.spec, data->x.rows(), classes);
   if (!layout.ok()) return layout.status();
   p.layout = *layout;
+  {
+    TrainMemoryInputs in;
+    in.data_file_bytes = file_bytes;
+    in.parameters = static_cast<std::uint64_t>(p.layout.num_params);
+    in.chains = static_cast<std::uint64_t>(std::max(1, p.settings.chains.chains));
+    in.samples_in_memory =
+        in.chains * static_cast<std::uint64_t>(std::min<std::int64_t>(
+                        std::max<std::int64_t>(p.settings.chains.samples, 1), 64));
+    in.batch_rows = static_cast<std::uint64_t>(std::max<std::int64_t>(1, p.settings.batches.batch_rows));
+    Index widest = std::max<Index>(data->x.rows(), classes);
+    for (const HiddenLayerSpec& layer : p.spec.hidden) widest = std::max<Index>(widest, layer.width);
+    in.widest_layer = static_cast<std::uint64_t>(widest);
+    in.layers = static_cast<std::uint64_t>(p.spec.hidden.size() + 1);
+    Result<std::uint64_t> estimate = estimate_train_bytes(in);
+    if (!estimate.ok()) return estimate.status();
+    CREDENCE_RETURN_IF_ERROR(check_memory(
+        fmt::format("training {} parameters x {} chains on {}", p.layout.num_params,
+                    in.chains, request.data_path),
+        *estimate, *limit));
+  }
 
   p.rows = gather_training_rows(data->x, data->labels, data->split.train);
   shape_optimizer_chains(p.settings, p.rows.x.cols());

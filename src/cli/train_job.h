@@ -28,6 +28,7 @@ struct TrainRequest {
   std::string resume_path;      // --resume RUN.h5: continue this run instead
   std::string command_line;     // for provenance
   bool quiet = false;
+  std::string max_memory;       // --max-memory (empty: 80% of physical memory)
 };
 
 /// A kept sample on its way from a chain to the writer.

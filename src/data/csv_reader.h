@@ -2,6 +2,7 @@
 #pragma once
 
 #include <cstdint>
+#include <deque>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -43,7 +44,9 @@ class CsvScanner {
   std::string source_;
   std::size_t pos_ = 0;
   std::int64_t line_ = 1;
-  std::vector<std::string> unescaped_;  // per field slot: text of a field with doubled quotes
+  // Per field slot: text of a field with doubled quotes. A deque, because growing it must
+  // not move the strings that earlier fields of the same record still point into.
+  std::deque<std::string> unescaped_;
 };
 
 /// Parses a finite decimal number (optional sign, digits, point, exponent) that fills

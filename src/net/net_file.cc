@@ -87,8 +87,21 @@ class Parser {
   }
   Status error_at(const Token& token, std::string_view expected) const {
     // Appending (not operator+ on a literal) sidesteps a GCC 12 -Wrestrict false positive.
+    // Binary junk is shown escaped and cut short: a message stays one readable line.
+    constexpr std::size_t kShown = 40;
     std::string found(1, '\'');
-    found.append(token.text).push_back('\'');
+    for (std::size_t i = 0; i < token.text.size() && i < kShown; ++i) {
+      const auto byte = static_cast<unsigned char>(token.text[i]);
+      if (byte >= 0x20 && byte < 0x7F) {
+        found.push_back(static_cast<char>(byte));
+      } else {
+        static constexpr char kHex[] = "0123456789abcdef";
+        found.append("\\x").push_back(kHex[byte >> 4]);
+        found.push_back(kHex[byte & 0xF]);
+      }
+    }
+    if (token.text.size() > kShown) found.append("...");
+    found.push_back('\'');
     return error(token.column, found, expected);
   }
   Status end_of_line(std::string_view expected) const {
