@@ -14,6 +14,7 @@
 #include <string>
 #include <vector>
 
+#include "testing/read_text.h"
 #include "testing/run_command.h"
 #include "testing/temp_dir.h"
 
@@ -30,12 +31,7 @@ const std::string kHelper = std::string(CREDENCE_SOURCE_DIR) + "/tests/tools/skl
 // values) by up to about 1e-9 per value; 1e-6 leaves room for that and nothing more.
 constexpr const char* kTolerance = "1e-6";
 
-std::string read_text(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
+using testing::read_text;
 
 // Files in `dir` whose name starts with `prefix` (an output or its temporary file).
 int files_starting_with(const std::filesystem::path& dir, const std::string& prefix) {

@@ -10,6 +10,7 @@
 #include <fstream>
 #include <sstream>
 
+#include "testing/read_text.h"
 #include "testing/run_command.h"
 #include "testing/temp_dir.h"
 
@@ -18,12 +19,7 @@ namespace {
 
 using testing::run_credence;
 
-std::string read_text(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
+using testing::read_text;
 
 int run_python(const std::string& args, const std::string& log) {
   const int status = std::system((std::string(CREDENCE_PYTHON) + " " + args + " > '" + log +

@@ -13,6 +13,7 @@
 #include <map>
 #include <sstream>
 
+#include "testing/read_text.h"
 #include "testing/run_command.h"
 #include "testing/temp_dir.h"
 
@@ -23,12 +24,7 @@ namespace {
 
 using testing::run_credence;
 
-std::string read_text(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
+using testing::read_text;
 
 std::vector<std::string> split_line(const std::string& line) {
   std::vector<std::string> out;
