@@ -61,8 +61,8 @@ std::string text_report(const std::string& path, const RunHeader& h, const RunSu
   line("created", fmt::format("{} by credence {}", h.created_utc, h.tool_version));
   line("command", h.command_line);
   line("processes", h.mpi_ranks == 1 ? std::string("1 (no MPI)")
-                                      : fmt::format("{} MPI ranks on {} hosts", h.mpi_ranks,
-                                                    h.mpi_hosts));
+                                      : fmt::format("{} MPI ranks on {} host{}", h.mpi_ranks,
+                                                    h.mpi_hosts, h.mpi_hosts == 1 ? "" : "s"));
   line("data", fmt::format("{} ({} rows; sha256 {})", h.data_file, h.data_rows, h.data_sha256));
   line("split", fmt::format("train {}, validation {}, test {}", h.train_rows.size(),
                             h.val_rows.size(), h.test_rows.size()));
