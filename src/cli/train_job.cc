@@ -521,10 +521,7 @@ Status run_chains_into(Prepared& p, RunWriter& writer, const std::string& run_pa
   for (const ChainOutcome& chain : outcome->chains) {
     diverged += chain.end == ChainEnd::kDiverged;
     stopped += chain.end == ChainEnd::kStopped;
-    failed += chain.end == ChainEnd::kFailed;
-    if (chain.end == ChainEnd::kDiverged) {
-      log().warn("chain {} diverged at step {}: {}", chain.checkpoint.chain, chain.step, chain.reason);
-    }
+    failed += chain.end == ChainEnd::kFailed;  // run_chains() has logged each one already
   }
   const Verdict verdict =
       verdict_of(static_cast<int>(outcome->chains.size()), stopped, failed, diverged,
