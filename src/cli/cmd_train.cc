@@ -1,6 +1,7 @@
 // `credence train`: flags to a TrainRequest, then run_train().
 #include <fmt/format.h>
 
+#include <cmath>
 #include <sstream>
 
 #include "cli/commands.h"
@@ -69,6 +70,10 @@ Status resolve(TrainFlags& flags) {
   Result<std::vector<Index>> widths = parse_widths(flags.hidden.empty() ? "32,32" : flags.hidden);
   if (!widths.ok()) return widths.status();
   r.hidden = *widths;
+  if (!(std::isfinite(r.prior_scale) && r.prior_scale > 0)) {
+    return Status::invalid_input(fmt::format(
+        "--prior-scale {} is out of range; give a positive scale such as 1", r.prior_scale));
+  }
   r.settings.chains.seed = r.data.split.seed;
   return validate_train_settings(r.settings);
 }

@@ -3,6 +3,7 @@
 
 #include <fmt/format.h>
 
+#include <cmath>
 #include <type_traits>
 
 namespace credence::cli {
@@ -181,6 +182,33 @@ Status validate_train_settings(const TrainSettings& s) {
   if (s.steps < 0) return refuse("--steps", s.steps, "0 (derive from --epochs) or more");
   if (!(s.epochs > 0)) return refuse("--epochs", s.epochs, "a positive number of passes");
   if (!(s.flush_seconds > 0)) return refuse("--flush-seconds", s.flush_seconds, "a positive time");
+  // The sampler library checks these too, but under its own setting names; refuse them here
+  // first so the message names the flag the user typed.
+  const SamplerSettings& m = s.sampler;
+  const auto finite_at_least = [](double v, double low) { return std::isfinite(v) && v >= low; };
+  if (!finite_at_least(m.step_size, 0)) {
+    return refuse("--step-size", m.step_size, "0 (derive it from --lr) or a positive step");
+  }
+  if (m.step_size == 0 && !(std::isfinite(m.learning_rate) && m.learning_rate > 0)) {
+    return refuse("--lr", m.learning_rate, "a positive learning rate such as 0.01");
+  }
+  if (!finite_at_least(m.temperature, 0)) {
+    return refuse("--temperature", m.temperature, "0 (optimizer limit) or more; 1 is the posterior");
+  }
+  if (m.schedule.cycles < 1) return refuse("--cycles", m.schedule.cycles, "1 or more");
+  if (!(m.sghmc.alpha > 0 && m.sghmc.alpha <= 1)) {
+    return refuse("--friction", m.sghmc.alpha, "a value in (0, 1], such as 0.1");
+  }
+  const RelativisticSettings& rel = m.relativistic;
+  if (!(std::isfinite(rel.max_move) && rel.max_move > 0)) {
+    return refuse("--max-move", rel.max_move, "a positive largest move per step, such as 0.01");
+  }
+  if (!finite_at_least(rel.speed, 0)) return refuse("--speed", rel.speed, "0 (from --max-move) or more");
+  if (!finite_at_least(rel.mass, 0)) return refuse("--mass", rel.mass, "0 (derived) or more");
+  if (m.hmc.leapfrog_steps < 1) return refuse("--leapfrog", m.hmc.leapfrog_steps, "1 or more steps");
+  if (!(m.hmc.target_acceptance > 0 && m.hmc.target_acceptance < 1)) {
+    return refuse("--target-accept", m.hmc.target_acceptance, "a rate in (0, 1), such as 0.8");
+  }
   return Status::ok_status();
 }
 

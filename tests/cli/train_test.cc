@@ -204,8 +204,8 @@ TEST_F(Train, BadSettingsExitTwoAndWriteNothing) {
   const std::vector<std::pair<std::vector<std::string>, std::string>> cases = {
       {{"--samples", "0"}, "--samples"},     {{"--chains", "0"}, "--chains"},
       {{"--thin", "0"}, "--thin"},           {{"--burn-in", "-5"}, "--burn-in"},
-      {{"--batch", "0"}, "--batch"},         {{"--lr", "-1"}, "learning_rate"},
-      {{"--temperature", "-1"}, "temperature"}, {{"--method", "nope"}, "valid methods"},
+      {{"--batch", "0"}, "--batch"},         {{"--lr", "-1"}, "--lr -1"},
+      {{"--temperature", "-1"}, "--temperature -1"}, {{"--method", "nope"}, "valid methods"},
       {{"--hidden", "0,x"}, "--hidden"},     {{"--activation", "gelu"}, "gelu"}};
   for (const auto& [extra, expected] : cases) {
     const std::string run = path("refused.h5");
