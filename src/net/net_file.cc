@@ -1,9 +1,11 @@
 // Net-file parser: line-oriented statements, errors as "file:line:column: found X, expected Y".
 #include <charconv>
 #include <cmath>
+#include <filesystem>
 #include <fstream>
 #include <sstream>
 #include <string>
+#include <system_error>
 #include <vector>
 
 #include "credence/net.h"
@@ -286,10 +288,18 @@ Result<NetSpec> parse_net_text(std::string_view text, std::string_view file_name
 }
 
 Result<NetSpec> read_net_file(const std::filesystem::path& path) {
+  std::error_code error;
+  if (!std::filesystem::exists(path, error)) {
+    return Status::invalid_input("net file " + path.string() + ": no such file; check the path");
+  }
+  if (std::filesystem::is_directory(path, error)) {
+    return Status::invalid_input("net file " + path.string() +
+                                 ": is a directory; give a net file (see nets/README.md)");
+  }
   std::ifstream in(path, std::ios::binary);
   if (!in) {
     return Status::io_error("reading net file " + path.string() +
-                            ": cannot open it; check the path");
+                            ": cannot open it; check its permissions");
   }
   std::ostringstream bytes;
   bytes << in.rdbuf();

@@ -171,7 +171,9 @@ TEST(NetFile, ReadNetFileNamesThePath) {
       << spec.status().message();
   Result<NetSpec> missing = read_net_file(dir.path() / "absent.net");
   ASSERT_FALSE(missing.ok());
-  EXPECT_EQ(missing.status().code(), StatusCode::kIoError);
+  // A wrong path is the user's to fix (exit 2, DESIGN.md section 7), like a missing CSV.
+  EXPECT_EQ(missing.status().code(), StatusCode::kInvalidInput);
+  EXPECT_NE(missing.status().message().find("no such file"), std::string::npos);
 }
 
 TEST(ParamLayout, OffsetsFollowTheDocumentedOrder) {
