@@ -311,14 +311,27 @@ Result<Preprocessing> fit_preprocessing(const Table& table, const Schema& schema
                                         std::span<const std::int64_t> train_rows,
                                         const PreprocessOptions& options);
 
+/// Categories of one column that transform_rows met but the training rows never showed
+/// (UnseenPolicy::kIgnore encodes them as all zeros).
+struct UnseenCategories {
+  std::string column;
+  std::int64_t count = 0;
+  std::string first_at;  // "file:line:column" of the first one
+};
+/// Logs one warning for `unseen`, found in the file named `source`.
+void log_unseen(std::string_view source, const UnseenCategories& unseen);
+
 /// Encodes `rows` of `table` into a (D, rows.size()) matrix. Columns are found by
 /// name, so `table` may be a new file: extra columns are ignored, and a missing
 /// feature column is an error naming it. Errors (kInvalidInput, naming file, line,
 /// column): a missing value when the preprocessing does not impute, a non-number in
 /// a numeric column, an unseen category under UnseenPolicy::kError.
+/// Unseen categories under kIgnore are logged once per column, or, when `unseen` is
+/// given, appended to it instead (a caller encoding a file in pieces reports them once).
 /// Returns the matrix on success.
 Result<Eigen::MatrixXf> transform_rows(const Preprocessing& preprocessing, const Table& table,
-                                       std::span<const std::int64_t> rows);
+                                       std::span<const std::int64_t> rows,
+                                       std::vector<UnseenCategories>* unseen = nullptr);
 /// transform_rows over every row of `table`.
 Result<Eigen::MatrixXf> transform_table(const Preprocessing& preprocessing, const Table& table);
 

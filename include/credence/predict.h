@@ -49,6 +49,9 @@ struct Prediction {
   Eigen::VectorXd confidence;           // (B) pbar of the predicted class
   /// Rows whose H - E H came out negative from rounding and were set to 0.
   std::int64_t clamped = 0;
+  /// Unseen categories encoded as zeros (UnseenPolicy::kIgnore), per column; filled by
+  /// Predictor::predict_rows, which leaves the logging to its caller.
+  std::vector<UnseenCategories> unseen;
 
   Index rows() const { return probabilities.cols(); }
 };
@@ -115,6 +118,8 @@ class Predictor {
                                       Eigen::MatrixXf samples, const PredictorOptions& options);
 
   const Preprocessing& preprocessing() const { return preprocessing_; }
+  /// Overrides the run's policy for categories the training rows never showed.
+  void set_unseen_policy(UnseenPolicy policy) { preprocessing_.unseen = policy; }
   const ParamLayout& layout() const { return network_.layout(); }
   Index num_samples() const { return samples_.cols(); }
   Index num_classes() const { return network_.layout().num_classes; }
@@ -223,6 +228,7 @@ struct PredictCsvSummary {
   std::vector<std::string> id_columns;       // passed through
   bool target_passed = false;                // the target column was passed through
   std::vector<std::string> ignored_columns;  // input columns the model does not use
+  std::vector<UnseenCategories> unseen;      // per column, summed over the file (logged once)
 };
 
 /// Predicts every row of `input_path` and writes `output_path`: the id columns, the

@@ -140,7 +140,8 @@ MeanSd member_mean_sd(const std::vector<MemberScores>& members, double MemberSco
 Result<AssessJobResult> run_assess_job(const RunReader& run, const std::string& data_path,
                                        const AssessJobOptions& options) {
   const RunHeader& header = run.header();
-  const Preprocessing& pre = header.preprocessing;
+  Preprocessing pre = header.preprocessing;
+  if (options.unseen) pre.unseen = *options.unseen;
   AssessJobResult result;
   result.class_names = pre.class_names;
 

@@ -30,6 +30,7 @@ struct AssessJobOptions {
   std::optional<double> temperature;    // member-wise; empty: the run's stored one
   bool fit_temperature = false;         // fit tau on the validation rows and score both
   std::string truth_path;               // synth truth file (p_<class> per data row)
+  std::optional<UnseenPolicy> unseen;   // empty: the run's own policy
 };
 
 /// The true class probabilities of the scored rows, compared with the model's.

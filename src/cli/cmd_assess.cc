@@ -8,6 +8,7 @@
 #include "cli/assess_job.h"
 #include "cli/assess_output.h"
 #include "cli/commands.h"
+#include "cli/data_options.h"
 #include "cli/memory_option.h"
 #include "credence/ensemble.h"
 #include "util/atomic_file.h"
@@ -34,6 +35,7 @@ struct AssessFlags {
   bool temperature_scale = false;
   bool save_temperature = false;
   std::optional<double> temperature;
+  std::optional<std::string> unseen;  // overrides the run's unseen-category policy
   std::string truth_path;
   std::string max_memory;  // --max-memory; empty: the default share of physical memory
 };
@@ -96,6 +98,11 @@ Result<AssessJobOptions> job_options(const AssessFlags& flags) {
   o.temperature = flags.temperature;
   o.fit_temperature = flags.temperature_scale;
   o.truth_path = flags.truth_path;
+  if (flags.unseen) {
+    Result<UnseenPolicy> unseen = parse_unseen_flag(*flags.unseen);
+    if (!unseen.ok()) return unseen.status();
+    o.unseen = *unseen;
+  }
   return o;
 }
 
@@ -191,6 +198,9 @@ void add_assess_command(CLI::App& app, const GlobalOptions& global, CommandList&
                 "Store the fitted temperature in the run file; predict then uses it");
   sub->add_option("--temperature", flags->temperature,
                   "Score with this member-wise temperature instead of the run's stored one");
+  sub->add_option("--unseen", flags->unseen,
+                  "A category the training rows never showed: error, or ignore (all zeros); "
+                  "default: the policy the run was trained with");
   sub->add_option("--truth", flags->truth_path,
                   "A synth truth file: also score the probabilities against the true ones");
   add_max_memory_option(*sub, flags->max_memory);

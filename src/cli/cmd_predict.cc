@@ -6,6 +6,7 @@
 #include <optional>
 
 #include "cli/commands.h"
+#include "cli/data_options.h"
 #include "cli/memory_option.h"
 #include "cli/run_settings.h"
 #include "credence/ensemble.h"
@@ -28,6 +29,7 @@ struct PredictFlags {
   std::optional<double> flag_above;
   std::string flag_by = "entropy";
   std::optional<double> temperature;
+  std::optional<std::string> unseen;  // overrides the run's unseen-category policy
   std::string max_memory;  // --max-memory; empty: the default share of physical memory
 };
 
@@ -91,10 +93,17 @@ Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
         "--temperature {}: give a positive number (1 leaves the members as trained)",
         *flags.temperature));
   }
+  std::optional<UnseenPolicy> unseen;
+  if (flags.unseen) {
+    Result<UnseenPolicy> parsed = parse_unseen_flag(*flags.unseen);
+    if (!parsed.ok()) return parsed.status();
+    unseen = *parsed;
+  }
   Result<Predictor> predictor = Predictor::create(**run, predictor_options);
   if (!predictor.ok()) {
     return Status(predictor.status().code(), flags.run_path + ": " + predictor.status().message());
   }
+  if (unseen) predictor->set_unseen_policy(*unseen);
   run->reset();  // the samples now live in the predictor
   if (predictor->temperature() != 1.0 && !flags.temperature && !global.quiet) {
     std::fprintf(stderr,
@@ -146,6 +155,9 @@ void add_predict_command(CLI::App& app, const GlobalOptions& global, CommandList
   sub->add_option("--temperature", flags->temperature,
                   "Divide every member's logits by T before averaging (default: the "
                   "temperature stored by assess --save-temperature, else 1)");
+  sub->add_option("--unseen", flags->unseen,
+                  "A category the training rows never showed: error, or ignore (all zeros, "
+                  "one warning per column); default: the policy the run was trained with");
   add_max_memory_option(*sub, flags->max_memory);
   commands.push_back({sub, [flags, &global] { return run_predict(*flags, global); }});
 }

@@ -86,15 +86,16 @@ Result<DataOptions> resolve_data_options(const DataFlags& flags) {
     return Status::invalid_input(
         fmt::format("--impute '{}' is not one of: none, median", flags.impute));
   }
-  if (flags.unseen == "error") {
-    o.preprocess.unseen = UnseenPolicy::kError;
-  } else if (flags.unseen == "ignore") {
-    o.preprocess.unseen = UnseenPolicy::kIgnore;
-  } else {
-    return Status::invalid_input(
-        fmt::format("--unseen '{}' is not one of: error, ignore", flags.unseen));
-  }
+  Result<UnseenPolicy> unseen = parse_unseen_flag(flags.unseen);
+  if (!unseen.ok()) return unseen.status();
+  o.preprocess.unseen = *unseen;
   return o;
+}
+
+Result<UnseenPolicy> parse_unseen_flag(const std::string& text) {
+  if (text == "error") return UnseenPolicy::kError;
+  if (text == "ignore") return UnseenPolicy::kIgnore;
+  return Status::invalid_input(fmt::format("--unseen '{}' is not one of: error, ignore", text));
 }
 
 }  // namespace credence::cli

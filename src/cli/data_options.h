@@ -23,6 +23,9 @@ struct DataFlags {
 /// --test-fraction, --val-fraction and --seed to `command`, bound to `flags`.
 void add_data_options(CLI::App& command, DataFlags& flags);
 
+/// --unseen's text: "error" or "ignore"; kInvalidInput otherwise.
+Result<UnseenPolicy> parse_unseen_flag(const std::string& text);
+
 /// Converts the raw flag texts into `flags.options`; kInvalidInput names a bad flag.
 Result<DataOptions> resolve_data_options(const DataFlags& flags);
 

@@ -131,7 +131,8 @@ Status encode_numeric(const FeatureEncoding& f, const Preprocessing& p, const Ta
 }
 
 Status encode_categorical(const FeatureEncoding& f, const Preprocessing& p, const Table& table,
-                          int j, std::span<const std::int64_t> rows, Eigen::MatrixXf& x) {
+                          int j, std::span<const std::int64_t> rows, Eigen::MatrixXf& x,
+                          std::vector<UnseenCategories>* tally) {
   const TableColumn& column = table.columns[static_cast<std::size_t>(j)];
   if (!column.is_text) {
     return Status::internal(fmt::format(
@@ -180,16 +181,21 @@ Status encode_categorical(const FeatureEncoding& f, const Preprocessing& p, cons
     }
     x(static_cast<Eigen::Index>(f.offset + category), static_cast<Eigen::Index>(i)) = 1.0f;
   }
-  if (unseen > 0) {
-    log().warn("{}: column '{}' has {} value{} never seen in the training rows (first at {}); "
-               "encoded as all zeros",
-               table.source, column.name, unseen, unseen == 1 ? "" : "s",
-               table.cell_location(first_unseen, j));
+  if (unseen > 0 && tally != nullptr) {
+    tally->push_back({column.name, unseen, table.cell_location(first_unseen, j)});
+  } else if (unseen > 0) {
+    log_unseen(table.source, {column.name, unseen, table.cell_location(first_unseen, j)});
   }
   return Status::ok_status();
 }
 
 }  // namespace
+
+void log_unseen(std::string_view source, const UnseenCategories& unseen) {
+  log().warn("{}: column '{}' has {} value{} never seen in the training rows (first at {}); "
+             "encoded as all zeros",
+             source, unseen.column, unseen.count, unseen.count == 1 ? "" : "s", unseen.first_at);
+}
 
 Result<Preprocessing> fit_preprocessing(const Table& table, const Schema& schema,
                                         std::span<const std::int64_t> train_rows,
@@ -222,7 +228,8 @@ Result<Preprocessing> fit_preprocessing(const Table& table, const Schema& schema
 }
 
 Result<Eigen::MatrixXf> transform_rows(const Preprocessing& p, const Table& table,
-                                       std::span<const std::int64_t> rows) {
+                                       std::span<const std::int64_t> rows,
+                                       std::vector<UnseenCategories>* unseen) {
   Eigen::MatrixXf x = Eigen::MatrixXf::Zero(static_cast<Eigen::Index>(p.input_width),
                                             static_cast<Eigen::Index>(rows.size()));  // (D, n)
   for (const FeatureEncoding& f : p.features) {
@@ -236,7 +243,7 @@ Result<Eigen::MatrixXf> transform_rows(const Preprocessing& p, const Table& tabl
     if (f.type == ColumnType::kNumeric) {
       CREDENCE_RETURN_IF_ERROR(encode_numeric(f, p, table, j, rows, x));
     } else {
-      CREDENCE_RETURN_IF_ERROR(encode_categorical(f, p, table, j, rows, x));
+      CREDENCE_RETURN_IF_ERROR(encode_categorical(f, p, table, j, rows, x, unseen));
     }
   }
   return x;

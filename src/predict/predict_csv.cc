@@ -94,6 +94,18 @@ void format_block(const Predictor& predictor, const Table& table, const OutputCo
   }
 }
 
+// Sums per column; blocks arrive in input order, so the first location stays the earliest.
+void add_unseen(const std::vector<UnseenCategories>& block, std::vector<UnseenCategories>& total) {
+  for (const UnseenCategories& u : block) {
+    auto same = [&](const UnseenCategories& t) { return t.column == u.column; };
+    if (auto it = std::find_if(total.begin(), total.end(), same); it != total.end()) {
+      it->count += u.count;
+    } else {
+      total.push_back(u);
+    }
+  }
+}
+
 }  // namespace
 
 std::string_view flag_by_name(FlagBy flag_by) {
@@ -209,11 +221,13 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
         summary.rows += static_cast<std::int64_t>(slot.rows.size());
         summary.flagged += slot.flagged;
         summary.clamped += slot.prediction.clamped;
+        add_unseen(slot.prediction.unseen, summary.unseen);
       }
     }
     CREDENCE_RETURN_IF_ERROR(reader->next(piece, got));
   }
   CREDENCE_RETURN_IF_ERROR(output->commit());
+  for (const UnseenCategories& u : summary.unseen) log_unseen(input_path, u);
   return summary;
 }
 

@@ -117,7 +117,8 @@ Status Predictor::predict_encoded(Workspace<float>& ws, EnsembleAverager& averag
 Status Predictor::predict_rows(Workspace<float>& ws, EnsembleAverager& averager, const Table& table,
                                std::span<const std::int64_t> rows, Prediction& out) const {
   assert(static_cast<Index>(rows.size()) <= block_rows_);
-  Result<Eigen::MatrixXf> x = transform_rows(preprocessing_, table, rows);  // (D, B)
+  out.unseen.clear();
+  Result<Eigen::MatrixXf> x = transform_rows(preprocessing_, table, rows, &out.unseen);  // (D, B)
   if (!x.ok()) return x.status();
   return predict_encoded(ws, averager, *x, out);
 }

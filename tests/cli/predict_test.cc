@@ -193,6 +193,37 @@ TEST_F(Predict, UnseenCategoryIsNamedWithItsColumn) {
   EXPECT_EQ(files_starting_with(dir_->path(), "lake_out.csv"), 0);
 }
 
+TEST_F(Predict, UnseenIgnoreEncodesZerosAndWarnsOncePerColumn) {
+  // 90,000 rows (over 4 MiB): several row blocks of 4096 and two pieces of the streamed
+  // file. Three unseen values far apart still give one warning line for the whole file.
+  const std::string big = path("many_pumps.csv");
+  ASSERT_EQ(run_credence("synth --scenario pump-wear --rows 90000 --seed 3 --out '" + big + "'")
+                .exit_code,
+            0);
+  ASSERT_GT(std::filesystem::file_size(big), std::uintmax_t{4} << 20);
+  std::ifstream in(big);
+  std::string line, text;
+  for (int n = 1; std::getline(in, line); ++n) {
+    if (n == 5 || n == 45000 || n == 89990) {
+      auto cells = split_line(line);
+      cells[1] = "lake";
+      line.clear();
+      for (const std::string& c : cells) line += (line.empty() ? "" : ",") + c;
+    }
+    text += line + "\n";
+  }
+  const std::string input = dir_->write("lakes.csv", text);
+  const std::string out = path("lakes_out.csv");
+  auto result = predict(input, out, "--unseen ignore");
+  ASSERT_EQ(result.exit_code, 0) << result.output;
+  const std::string warning = "column 'water_source' has 3 values never seen";
+  const std::size_t first = result.output.find(warning);
+  EXPECT_NE(first, std::string::npos) << result.output;
+  EXPECT_EQ(result.output.find(warning, first + 1), std::string::npos) << result.output;
+  EXPECT_NE(result.output.find("lakes.csv:5:2); encoded as all zeros"), std::string::npos) << result.output;
+  EXPECT_EQ(read_csv(out)["predicted"].size(), 90000u);
+}
+
 TEST_F(Predict, ExtraColumnsAreIgnoredWithOneNote) {
   const std::string input = edited_copy("extra.csv", [](int n, const std::string& line) {
     return line + (n == 1 ? ",inspector" : ",R. Field");
