@@ -100,8 +100,8 @@ struct PredictorOptions {
   /// Kept samples to use, spread evenly over the ensemble ordered by (chain, kept number)
   /// (spread_samples). Default 0: all of them. More than the run holds: all of them.
   std::int64_t samples = 0;
-  /// Rows per forward pass, the width a Workspace is sized for. Default 4096.
-  std::int64_t block_rows = 4096;
+  /// Rows per forward pass, the width a Workspace is sized for. Default 1024.
+  std::int64_t block_rows = 512;
   /// Member-wise temperature (EnsembleAverager::reset). Empty (default): the temperature
   /// stored in the run by `assess --save-temperature`, or 1 when there is none.
   std::optional<double> temperature;

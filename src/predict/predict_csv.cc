@@ -3,6 +3,7 @@
 #include <omp.h>
 
 #include <algorithm>
+#include <array>
 #include <iterator>
 #include <memory>
 
@@ -48,15 +49,21 @@ std::string quoted_list(const std::vector<std::string>& names) {
   return out;
 }
 
-// Everything one block needs; one per concurrently processed block.
-struct BlockSlot {
+// What one thread reuses from block to block.
+struct ThreadSlot {
   std::unique_ptr<Workspace<float>> workspace;
   EnsembleAverager averager;
   Prediction prediction;
   std::vector<std::int64_t> rows;
+};
+
+// One block's output, kept until the blocks before it are written.
+struct BlockResult {
   std::string text;
   Status status;
   std::int64_t flagged = 0;
+  std::int64_t clamped = 0;
+  std::vector<UnseenCategories> unseen;
 };
 
 struct OutputColumns {
@@ -65,32 +72,33 @@ struct OutputColumns {
 };
 
 void format_block(const Predictor& predictor, const Table& table, const OutputColumns& columns,
-                  const PredictCsvOptions& options, BlockSlot& slot) {
+                  const PredictCsvOptions& options, const ThreadSlot& slot, BlockResult& result) {
   const Prediction& p = slot.prediction;
   const std::vector<std::string>& classes = predictor.preprocessing().class_names;
-  slot.text.clear();
-  slot.flagged = 0;
-  auto out = std::back_inserter(slot.text);
+  std::string& text = result.text;
+  text.clear();
+  result.flagged = 0;
+  auto out = std::back_inserter(text);
   for (std::size_t i = 0; i < slot.rows.size(); ++i) {
     const auto b = static_cast<Index>(i);
     for (int j : columns.passed) {
-      append_field(slot.text, cell_text(table.columns[static_cast<std::size_t>(j)], slot.rows[i]));
-      slot.text += ',';
+      append_field(text, cell_text(table.columns[static_cast<std::size_t>(j)], slot.rows[i]));
+      text += ',';
     }
     for (Index k = 0; k < p.probabilities.rows(); ++k) {
       fmt::format_to(out, "{:.9g},", p.probabilities(k, b));
     }
-    append_field(slot.text, classes[static_cast<std::size_t>(p.predicted[i])]);
+    append_field(text, classes[static_cast<std::size_t>(p.predicted[i])]);
     fmt::format_to(out, ",{:.9g},{:.9g},{:.9g},{:.9g}", p.confidence(b), p.entropy(b),
                    p.expected_entropy(b), p.mutual_information(b));
     if (columns.has_refer) {
       const double doubt =
           options.flag_by == FlagBy::kEntropy ? p.entropy(b) : p.mutual_information(b);
       const bool refer = doubt > *options.flag_above;
-      slot.flagged += refer ? 1 : 0;
-      slot.text += refer ? ",1" : ",0";
+      result.flagged += refer ? 1 : 0;
+      text += refer ? ",1" : ",0";
     }
-    slot.text += '\n';
+    text += '\n';
   }
 }
 
@@ -133,14 +141,16 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
   // one block per thread) whatever the number of rows.
   Result<CsvChunkReader> reader = CsvChunkReader::open(input_path, read, options.chunk_bytes);
   if (!reader.ok()) return reader.status();
-  Table piece;
+  // Two pieces: the threads predict one while the next is read.
+  std::array<Table, 2> pieces;
+  int current = 0;
   bool got = false;
-  CREDENCE_RETURN_IF_ERROR(reader->next(piece, got));
+  CREDENCE_RETURN_IF_ERROR(reader->next(pieces[0], got));
   if (!got) {
     return Status::invalid_input(fmt::format(
         "{}: the header has no data rows below it; add the rows to predict", input_path));
   }
-  const Table* table = &piece;
+  const Table* table = &pieces[0];
 
   OutputColumns columns;
   columns.has_refer = options.flag_above.has_value();
@@ -188,43 +198,62 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
   CREDENCE_RETURN_IF_ERROR(output->write(header));
 
   // Blocks are cut the same way whatever the thread count, and each row's numbers depend
-  // only on its own block, so the output is byte-identical for any OMP_NUM_THREADS.
-  // Memory holds one block per thread: the encoded rows, its workspace and its text.
-  const std::int64_t block_rows = predictor.block_rows();
-  std::vector<BlockSlot> slots(static_cast<std::size_t>(std::max(1, omp_get_max_threads())));
+  // only on its own block, so the output is byte-identical for any OMP_NUM_THREADS. A
+  // piece is cut into an even number of equal blocks (so two threads finish together),
+  // which the threads take as tasks while one of them reads the next piece. Memory holds
+  // two pieces, one workspace per thread and one piece's output text.
+  const int threads = std::max(1, omp_get_max_threads());
+  std::vector<ThreadSlot> slots(static_cast<std::size_t>(threads));
+  std::vector<BlockResult> results;
   while (got) {
     const std::int64_t n = table->rows();
-    const std::int64_t blocks = (n + block_rows - 1) / block_rows;
-    const int slot_count =
-        static_cast<int>(std::min<std::int64_t>(static_cast<std::int64_t>(slots.size()), blocks));
-    for (std::int64_t first = 0; first < blocks; first += slot_count) {
-      const int active = static_cast<int>(std::min<std::int64_t>(slot_count, blocks - first));
-#pragma omp parallel for schedule(static, 1) num_threads(active)
-      for (int s = 0; s < active; ++s) {
-        BlockSlot& slot = slots[static_cast<std::size_t>(s)];
-        if (!slot.workspace)
-          slot.workspace = std::make_unique<Workspace<float>>(predictor.make_workspace());
-        const std::int64_t begin = (first + s) * block_rows;
-        const std::int64_t end = std::min(n, begin + block_rows);
-        slot.rows.resize(static_cast<std::size_t>(end - begin));
-        for (std::int64_t r = begin; r < end; ++r)
-          slot.rows[static_cast<std::size_t>(r - begin)] = r;
-        slot.status = predictor.predict_rows(*slot.workspace, slot.averager, *table, slot.rows,
-                                             slot.prediction);
-        if (slot.status.ok()) format_block(predictor, *table, columns, options, slot);
+    std::int64_t blocks = (n + predictor.block_rows() - 1) / predictor.block_rows();
+    if (blocks > 1 && blocks % 2 == 1) ++blocks;
+    const std::int64_t block_rows = (n + blocks - 1) / blocks;
+    blocks = (n + block_rows - 1) / block_rows;
+    results.resize(static_cast<std::size_t>(blocks));
+    auto predict_block = [&](std::int64_t block) {
+      ThreadSlot& slot = slots[static_cast<std::size_t>(omp_get_thread_num())];
+      BlockResult& result = results[static_cast<std::size_t>(block)];
+      if (!slot.workspace)
+        slot.workspace = std::make_unique<Workspace<float>>(predictor.make_workspace());
+      const std::int64_t begin = block * block_rows;
+      const std::int64_t end = std::min(n, begin + block_rows);
+      slot.rows.resize(static_cast<std::size_t>(end - begin));
+      for (std::int64_t r = begin; r < end; ++r) slot.rows[static_cast<std::size_t>(r - begin)] = r;
+      result.status =
+          predictor.predict_rows(*slot.workspace, slot.averager, *table, slot.rows, slot.prediction);
+      if (!result.status.ok()) return;
+      format_block(predictor, *table, columns, options, slot, result);
+      result.clamped = slot.prediction.clamped;
+      result.unseen = slot.prediction.unseen;
+    };
+    Status read_status;
+    bool next_got = false;
+    Table& next = pieces[static_cast<std::size_t>(1 - current)];
+#pragma omp parallel num_threads(threads)
+#pragma omp single
+    {
+      for (std::int64_t block = 0; block < blocks; ++block) {
+#pragma omp task firstprivate(block)
+        predict_block(block);
       }
-      // In block order, so the error reported is from the earliest bad block.
-      for (int s = 0; s < active; ++s) {
-        BlockSlot& slot = slots[static_cast<std::size_t>(s)];
-        CREDENCE_RETURN_IF_ERROR(slot.status);
-        CREDENCE_RETURN_IF_ERROR(output->write(slot.text));
-        summary.rows += static_cast<std::int64_t>(slot.rows.size());
-        summary.flagged += slot.flagged;
-        summary.clamped += slot.prediction.clamped;
-        add_unseen(slot.prediction.unseen, summary.unseen);
-      }
+      read_status = reader->next(next, next_got);
+    }  // the barrier here waits for every task
+    // In block order, so the error reported is from the earliest bad block.
+    for (std::int64_t block = 0; block < blocks; ++block) {
+      const BlockResult& result = results[static_cast<std::size_t>(block)];
+      CREDENCE_RETURN_IF_ERROR(result.status);
+      CREDENCE_RETURN_IF_ERROR(output->write(result.text));
+      summary.rows += std::min(block_rows, n - block * block_rows);
+      summary.flagged += result.flagged;
+      summary.clamped += result.clamped;
+      add_unseen(result.unseen, summary.unseen);
     }
-    CREDENCE_RETURN_IF_ERROR(reader->next(piece, got));
+    CREDENCE_RETURN_IF_ERROR(read_status);
+    got = next_got;
+    current = 1 - current;
+    table = &next;
   }
   CREDENCE_RETURN_IF_ERROR(output->commit());
   for (const UnseenCategories& u : summary.unseen) log_unseen(input_path, u);
