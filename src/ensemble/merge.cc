@@ -7,6 +7,7 @@
 #include <system_error>
 
 #include "credence/ensemble.h"
+#include "util/atomic_file.h"
 #include "util/log.h"
 
 namespace credence {
@@ -181,7 +182,8 @@ Status merge_runs(std::span<const std::string> inputs, const std::string& output
     add_names(header.state_template.doubles, h.state_template.doubles);
     add_names(header.state_template.words, h.state_template.words);
   }
-  const std::string temp = output + ".partial-" + std::to_string(::getpid());
+  remove_stale_temporaries(output, "partial");  // left by a merge or train that was killed
+  const std::string temp = temporary_path(output, "partial");
   Status status = merge_into(runs, header, temp);
   if (status.ok()) {
     std::filesystem::rename(temp, output, error);

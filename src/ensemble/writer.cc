@@ -7,6 +7,7 @@
 #include "ensemble/h5_util.h"
 #include "ensemble/layout.h"
 #include "ensemble/run_file.h"
+#include "util/atomic_file.h"
 #include "util/log.h"
 
 namespace credence {
@@ -166,7 +167,8 @@ Result<std::unique_ptr<RunWriter>> RunWriter::create(const std::string& path,
   // The file is built under a temporary name and renamed into place only once it is
   // in SWMR mode, so `path` never names a half-created file, even after kill -9 (and
   // with --force the old run stays intact until the new one can replace it).
-  const std::string building = path + ".partial-" + std::to_string(::getpid());
+  remove_stale_temporaries(path, "partial");  // left by a train or merge that was killed
+  const std::string building = temporary_path(path, "partial");
   auto impl = std::make_unique<Impl>();
   impl->path = path;
   impl->header = header;

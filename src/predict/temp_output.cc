@@ -8,6 +8,8 @@
 #include <cstring>
 #include <utility>
 
+#include "util/atomic_file.h"
+
 namespace credence::predict {
 
 TempOutput::TempOutput(std::string path, std::string temp, std::FILE* file)
@@ -30,7 +32,8 @@ void TempOutput::discard() {
 }
 
 Result<TempOutput> TempOutput::create(const std::string& path) {
-  std::string temp = fmt::format("{}.tmp-{}", path, ::getpid());
+  remove_stale_temporaries(path, "tmp");  // left by a predict that was killed
+  std::string temp = temporary_path(path, "tmp");
   std::FILE* file = std::fopen(temp.c_str(), "wb");
   if (file == nullptr) {
     return Status::io_error(
