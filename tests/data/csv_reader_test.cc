@@ -6,6 +6,10 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <cstring>
+#include <random>
 
 #include "testing/temp_dir.h"
 #include "data/test_tables.h"
@@ -149,6 +153,36 @@ TEST(CsvReader, NumbersParseWithoutLocaleAndExactly) {
   auto t = parse("x\n1e3\n-0.5\n+2\n  3.25 \n.5\n6.02214076e23\n");
   ASSERT_TRUE(t.ok()) << t.status().to_string();
   EXPECT_EQ(column(*t, "x").numbers, (std::vector<double>{1e3, -0.5, 2, 3.25, .5, 6.02214076e23}));
+}
+
+// Reference: the C library's strtod, which rounds correctly (IEEE 754 round to nearest);
+// every spelling of 20,000 random doubles must give the same bits through our fast path.
+TEST(CsvReader, NumbersMatchStrtodBitForBit) {
+  std::mt19937_64 random(20261202);
+  std::uniform_real_distribution<double> unit(-1.0, 1.0);
+  std::uniform_int_distribution<int> power(-30, 30);
+  const char* formats[] = {"%g", "%.17g", "%.6e", "%.3f", "%.10f", "%.15g", "%.16g"};
+  char text[64];
+  for (int i = 0; i < 20000; ++i) {
+    const double x = unit(random) * std::pow(10.0, power(random));
+    for (const char* format : formats) {
+      std::snprintf(text, sizeof text, format, x);
+      double ours = 0;
+      ASSERT_TRUE(data::parse_number(text, ours)) << text;
+      const double reference = std::strtod(text, nullptr);
+      ASSERT_EQ(std::memcmp(&ours, &reference, sizeof ours), 0) << text;
+    }
+  }
+  for (const char* edge : {"00012.50", "1.", "-.5", "0.000", "100000000000000000000", "7e-22",
+                           "123456789012345", "1234567890123456", "0.1234567890123456789"}) {
+    double ours = 0;
+    ASSERT_TRUE(data::parse_number(edge, ours)) << edge;
+    EXPECT_EQ(ours, std::strtod(edge, nullptr)) << edge;
+  }
+  double v = 0;
+  for (const char* bad : {".", "1.2.3", "-.", "1e", "1e+", "..5"}) {
+    EXPECT_FALSE(data::parse_number(bad, v)) << bad;
+  }
 }
 
 TEST(CsvReader, NonFiniteAndPartialNumbersAreText) {
