@@ -1016,6 +1016,16 @@ Status run_train(const TrainRequest& request) {
   std::vector<ChainCheckpoint> resume;
   Prepared prepared;
   if (!request.resume_path.empty()) {
+    // Resuming a finished run does nothing and succeeds, so a script or scheduler that
+    // resumes after every interruption needs no special case for a kill that landed
+    // after the last commit. (Under MPI, where only rank 0 may see the file, it is still
+    // refused by RunWriter::reopen.)
+    if (Result<std::unique_ptr<RunReader>> done = RunReader::open(request.resume_path);
+        done.ok() && (*done)->summary().status == RunStatus::kComplete) {
+      log().info("{} is already complete ({} samples kept); nothing to resume",
+                 request.resume_path, (*done)->summary().samples);
+      return Status::ok_status();
+    }
     std::vector<ChainState> states;
     Result<std::unique_ptr<RunWriter>> reopened = RunWriter::reopen(request.resume_path, states);
     if (!reopened.ok()) return reopened.status();

@@ -16,6 +16,7 @@
 #include "credence/ensemble.h"
 #include "credence/net.h"
 #include "testing/process.h"
+#include "testing/read_text.h"
 #include "testing/run_command.h"
 #include "testing/seed.h"
 #include "testing/temp_dir.h"
@@ -239,6 +240,19 @@ TEST_F(Train, ExistingRunIsNotOverwrittenWithoutForce) {
   auto forced = base;
   forced.push_back("--force");
   EXPECT_EQ(run_credence(joined(forced)).exit_code, 0);
+}
+
+// A kill can land after the last commit; resuming then must succeed and change nothing.
+TEST_F(Train, ResumingACompleteRunSucceedsAndChangesNothing) {
+  const std::string run = path("done.h5");
+  ASSERT_EQ(run_credence(joined(args(run, {"--burn-in", "10", "--thin", "1", "--samples", "2"})))
+                .exit_code,
+            0);
+  const std::string before = testing::read_text(run);
+  auto resumed = run_credence("train --resume '" + run + "'");
+  EXPECT_EQ(resumed.exit_code, 0) << resumed.output;
+  EXPECT_NE(resumed.output.find("already complete"), std::string::npos) << resumed.output;
+  EXPECT_EQ(testing::read_text(run), before);
 }
 
 TEST_F(Train, EveryChainDivergingExitsOneAndSuggestsASmallerStep) {
