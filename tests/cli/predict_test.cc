@@ -295,12 +295,15 @@ TEST_F(Predict, SameBytesForOneAndTwoThreadsAndBoundedMemory) {
   EXPECT_TRUE(text == read_text(two)) << "outputs differ between 1 and 2 threads";
   EXPECT_EQ(std::count(text.begin(), text.end(), '\n'), 1000001) << "header + one line per row";
   // Issue 5 asks for under 300 MB at a million rows. The file streams through in 4 MiB
-  // pieces: a process baseline of about 25 MB (measured with 400 rows), one piece as bytes
-  // and as a parsed table (about ten times its bytes), and one block's buffers per thread,
-  // whatever the row count; measured 76 MB, bound 150 MB.
+  // pieces: a process baseline of about 25 MB (measured with 400 rows), two pieces (one
+  // predicted while the next is read) as bytes and as parsed tables (about ten times their
+  // bytes), and one block's buffers per thread, whatever the row count; measured 97 MB
+  // (1 thread) and 142 MB (2), bound 200 MB.
   std::printf("peak resident set: %ld kB (1 thread), %ld kB (2 threads)\n", rss_one, rss_two);
-  EXPECT_LT(rss_one, 150 * 1024);
-  EXPECT_LT(rss_two, 150 * 1024);
+#ifndef __SANITIZE_ADDRESS__  // AddressSanitizer's shadow memory and quarantine multiply it
+  EXPECT_LT(rss_one, 200 * 1024);
+  EXPECT_LT(rss_two, 200 * 1024);
+#endif
   std::filesystem::remove(big);
   std::filesystem::remove(one);
   std::filesystem::remove(two);
