@@ -100,7 +100,9 @@ struct PredictorOptions {
   /// Kept samples to use, spread evenly over the ensemble ordered by (chain, kept number)
   /// (spread_samples). Default 0: all of them. More than the run holds: all of them.
   std::int64_t samples = 0;
-  /// Rows per forward pass, the width a Workspace is sized for. Default 1024.
+  /// Rows per forward pass at most, the width a Workspace is sized for. Default 512: small
+  /// enough that a 4 MiB piece of wide rows still splits into several blocks for the
+  /// threads, large enough that each product stays near the sgemm rate.
   std::int64_t block_rows = 512;
   /// Member-wise temperature (EnsembleAverager::reset). Empty (default): the temperature
   /// stored in the run by `assess --save-temperature`, or 1 when there is none.
@@ -234,7 +236,8 @@ struct PredictCsvSummary {
 /// Predicts every row of `input_path` and writes `output_path`: the id columns, the
 /// target if present, `p_<class>` per class, `predicted` (class name), `confidence`,
 /// `entropy`, `expected_entropy`, `mutual_information` and, with flag_above, `refer`.
-/// Rows are processed in blocks of predictor.block_rows(), in parallel, and written in
+/// Rows are processed in blocks of at most predictor.block_rows() (each streamed piece cut
+/// into an even number of equal blocks), in parallel, and written in
 /// input order to a temporary file renamed over `output_path` at the end, so a failure
 /// leaves no output. Returns kInvalidInput (naming file, line, column) for bad input
 /// and kIoError when the output cannot be written. The output is byte-identical for

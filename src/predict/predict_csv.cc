@@ -137,7 +137,7 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
   ReadOptions read = options.read;
   for (const std::string& name : text_columns_of(pre)) read.text_columns.push_back(name);
   for (const std::string& name : ids) read.text_columns.push_back(name);
-  // The file streams through in pieces of whole records, so memory holds one piece (and
+  // The file streams through in pieces of whole records, so memory holds two pieces (and
   // one block per thread) whatever the number of rows.
   Result<CsvChunkReader> reader = CsvChunkReader::open(input_path, read, options.chunk_bytes);
   if (!reader.ok()) return reader.status();
