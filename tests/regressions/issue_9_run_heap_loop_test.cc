@@ -7,22 +7,15 @@
 
 #include <cstdint>
 #include <fstream>
-#include <sstream>
 #include <string>
 
 #include "credence/ensemble.h"
+#include "testing/read_text.h"
 #include "testing/run_command.h"
 #include "testing/temp_dir.h"
 
 namespace credence {
 namespace {
-
-std::string read_bytes(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream bytes;
-  bytes << in.rdbuf();
-  return bytes.str();
-}
 
 std::uint64_t little_u64(const std::string& b, std::size_t at) {
   std::uint64_t v = 0;
@@ -44,7 +37,7 @@ TEST(Issue9RunHeapLoop, ZeroSizedFreeSpaceIsRefusedNotLoopedOn) {
   ASSERT_TRUE(RunReader::open(run).ok()) << "the intact run must open";
 
   // Find the first collection and its free-space object (index 0).
-  std::string bytes = read_bytes(run);
+  std::string bytes = testing::read_text(run);
   const std::size_t gcol = bytes.find("GCOL\x01\x00\x00\x00", 0, 8);
   ASSERT_NE(gcol, std::string::npos) << "a run file keeps its strings in a global heap";
   const std::uint64_t size = little_u64(bytes, gcol + 8);
