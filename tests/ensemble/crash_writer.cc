@@ -12,6 +12,12 @@
 
 using namespace credence;
 
+// The test only sees the exit code; the reason goes to stderr, which it shows.
+int fail(const Status& status) {
+  std::fprintf(stderr, "crash writer: %s\n", status.to_string().c_str());
+  return 1;
+}
+
 int main(int argc, char** argv) {
   if (argc != 3) {
     std::fprintf(stderr, "usage: ensemble_crash_writer RUN.h5 create|resume|finish\n");
@@ -48,14 +54,21 @@ int main(int argc, char** argv) {
       // Chains advance unevenly so per-chain counts differ.
       if (c == 2 && round % 3 == 1) continue;
       const auto k = kept[static_cast<std::size_t>(c)];
-      if (!credence::testing::append_rows(*writer, c, k).ok() ||
-          !writer->set_chain_state(credence::testing::state_after(header, c, k)).ok()) {
-        return 1;
+      Status appended = credence::testing::append_rows(*writer, c, k);
+      if (appended.ok()) {
+        appended = writer->set_chain_state(credence::testing::state_after(header, c, k));
       }
+      if (!appended.ok()) return fail(appended);
       ++kept[static_cast<std::size_t>(c)];
     }
-    if (mode == "finish") return writer->finish(RunStatus::kComplete).ok() ? 0 : 1;
-    if (round % 2 == 1 && !writer->commit().ok()) return 1;
+    if (mode == "finish") {
+      const Status finished = writer->finish(RunStatus::kComplete);
+      return finished.ok() ? 0 : fail(finished);
+    }
+    if (round % 2 == 1) {
+      const Status committed = writer->commit();
+      if (!committed.ok()) return fail(committed);
+    }
   }
   return 0;
 }
