@@ -7,6 +7,7 @@
 #include <system_error>
 
 #include "credence/ensemble.h"
+#include "ensemble/copy_committed.h"
 #include "util/atomic_file.h"
 #include "util/log.h"
 
@@ -52,21 +53,6 @@ void add_names(Map& into, const Map& from) {
   for (const auto& [name, values] : from) into.try_emplace(name, values.size());
 }
 
-// Gives `state` exactly the template's names and sizes (zeros where it had none).
-template <typename Map>
-void conform(Map& state, const Map& templ) {
-  Map out;
-  for (const auto& [name, values] : templ) {
-    auto found = state.find(name);
-    if (found != state.end() && found->second.size() == values.size()) {
-      out[name] = found->second;
-    } else {
-      out[name].assign(values.size(), {});
-    }
-  }
-  state = std::move(out);
-}
-
 Status merge_into(const std::vector<std::unique_ptr<RunReader>>& runs, const RunHeader& header,
                   const std::string& temp) {
   Result<std::unique_ptr<RunWriter>> writer = RunWriter::create(temp, header, true);
@@ -74,55 +60,9 @@ Status merge_into(const std::vector<std::unique_ptr<RunReader>>& runs, const Run
   RunStatus final_status = RunStatus::kComplete;
   int chain_base = 0;
   for (const auto& run : runs) {
-    const RunHeader& h = run->header();
-    Result<Eigen::MatrixXf> theta = run->samples();  // (P, S)
-    Result<std::vector<std::int32_t>> chains = run->sample_chains();
-    Result<std::vector<std::int64_t>> steps = run->sample_steps();
-    Result<std::vector<std::int64_t>> indices = run->sample_indices();
-    Result<std::vector<double>> log_lik = run->probe_log_lik();
-    Result<Eigen::MatrixXf> probe = run->probe_prob();         // (R, S)
-    Result<Eigen::MatrixXf> projections = run->projections();  // (J, S)
-    Result<Eigen::MatrixXf> norms = run->layer_sq_norms();     // (L, S)
-    Result<std::vector<ChainState>> states = run->chain_states();
-    for (const Status& s :
-         {theta.status(), chains.status(), steps.status(), indices.status(), log_lik.status(),
-          probe.status(), projections.status(), norms.status(), states.status()}) {
-      CREDENCE_RETURN_IF_ERROR(s);
-    }
-    for (Eigen::Index j = 0; j < theta->cols(); ++j) {
-      const auto k = static_cast<std::size_t>(j);
-      SampleRecord record;
-      record.chain = chain_base + (*chains)[k];
-      record.step = (*steps)[k];
-      record.index = (*indices)[k];
-      record.theta = {theta->col(j).data(), static_cast<std::size_t>(theta->rows())};
-      record.probe_log_lik = (*log_lik)[k];
-      record.probe_prob = {probe->col(j).data(), static_cast<std::size_t>(probe->rows())};
-      record.projections = {projections->col(j).data(),
-                            static_cast<std::size_t>(projections->rows())};
-      record.layer_sq_norms = {norms->col(j).data(), static_cast<std::size_t>(norms->rows())};
-      CREDENCE_RETURN_IF_ERROR((*writer)->append_sample(record));
-    }
-    for (int c = 0; c < h.chains; ++c) {
-      Result<std::vector<TraceRecord>> traces = run->traces(c);
-      if (!traces.ok()) return traces.status();
-      for (TraceRecord trace : *traces) {
-        trace.chain = chain_base + c;
-        CREDENCE_RETURN_IF_ERROR((*writer)->append_trace(trace));
-      }
-    }
-    for (ChainState state : *states) {
-      if (static_cast<std::int64_t>(state.theta.size()) != header.parameters)
-        continue;  // never checkpointed
-      state.chain += chain_base;
-      conform(state.state.floats, header.state_template.floats);
-      conform(state.state.doubles, header.state_template.doubles);
-      conform(state.state.words, header.state_template.words);
-      CREDENCE_RETURN_IF_ERROR((*writer)->set_chain_state(std::move(state)));
-    }
-    CREDENCE_RETURN_IF_ERROR((*writer)->commit());
+    CREDENCE_RETURN_IF_ERROR(run_file::copy_committed(*run, **writer, chain_base));
     if (final_status == RunStatus::kComplete) final_status = run->summary().status;
-    chain_base += h.chains;
+    chain_base += run->header().chains;
   }
   return (*writer)->finish(final_status);
 }
