@@ -120,6 +120,8 @@ struct ChainState {
   std::string reason;                    // empty unless diverged/stopped/failed
 };
 
+class RunReader;
+
 /// Creates, appends to and finishes a run file. See the file comment.
 class RunWriter {
  public:
@@ -129,8 +131,10 @@ class RunWriter {
   static Result<std::unique_ptr<RunWriter>> create(const std::string& path,
                                                    const RunHeader& header, bool overwrite);
 
-  /// Reopens a run for --resume: clears the crash flags HDF5 leaves after a kill,
-  /// drops uncommitted rows, and returns the writer; `states` receives every chain's
+  /// Reopens a run for --resume, dropping uncommitted rows, and returns the writer. A
+  /// file whose writer was killed is rebuilt: its committed rows are copied into a fresh
+  /// file that replaces it, because HDF5's on-disk bookkeeping after a kill (the end of
+  /// allocated space, say) can lag what its indexes name. `states` receives every chain's
   /// last committed state (next_step 0 and empty arrays for a chain never
   /// checkpointed). kCorrupt for a damaged file or another format version;
   /// kInvalidInput for a run that is already complete.
@@ -159,6 +163,9 @@ class RunWriter {
  private:
   struct Impl;
   explicit RunWriter(std::unique_ptr<Impl> impl);
+  static Result<std::unique_ptr<RunWriter>> rebuild(std::unique_ptr<RunReader> run,
+                                                    const std::string& path,
+                                                    std::vector<ChainState>& states);
   std::unique_ptr<Impl> impl_;
 };
 

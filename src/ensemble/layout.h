@@ -4,6 +4,7 @@
 // and bump kRunFormatVersion (include/credence/ensemble.h) when a reader would break.
 #pragma once
 
+#include <array>
 #include <cstdint>
 #include <string>
 
@@ -81,6 +82,8 @@ inline constexpr const char* kProbeLogLik = "probe_log_lik";    // float64 (S)
 inline constexpr const char* kProbeProb = "probe_prob";         // float32 (S, R)
 inline constexpr const char* kProjections = "projections";      // float32 (S, J)
 inline constexpr const char* kLayerSqNorms = "layer_sq_norms";  // float32 (S, L)
+inline constexpr std::array<const char*, 8> kSampleTables = {
+    kTheta, kChain, kStep, kIndex, kProbeLogLik, kProbeProb, kProjections, kLayerSqNorms};
 
 // /traces/chain_<c>: extendable, one row per trace record of chain c.
 inline constexpr const char* kTraces = "traces";
@@ -89,6 +92,8 @@ inline constexpr const char* kAccuracy = "accuracy";
 inline constexpr const char* kStepSize = "step_size";
 inline constexpr const char* kSpeedRatio = "speed_ratio";
 inline constexpr const char* kAcceptance = "acceptance";
+inline constexpr std::array<const char*, 6> kTraceTables = {
+    kStep, kPotential, kAccuracy, kStepSize, kSpeedRatio, kAcceptance};
 inline std::string trace_group(int chain) { return "chain_" + std::to_string(chain); }
 
 // /checkpoint/slot_0 and slot_1: committed counts and chain states.

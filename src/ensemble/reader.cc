@@ -49,6 +49,47 @@ struct RunReader::Impl {
     return out;
   }
 
+  // Every chunk holding committed rows of `set` lies within the file's `bytes`.
+  bool chunks_on_disk(const H5::DataSet& set, std::int64_t rows, std::uint64_t bytes) const {
+    hsize_t chunk[2] = {1, 1};
+    if (set.getCreatePlist().getChunk(2, chunk) < 1 || chunk[0] == 0) return false;
+    for (hsize_t start = 0; start < static_cast<hsize_t>(rows); start += chunk[0]) {
+      const hsize_t offset[2] = {start, 0};
+      unsigned filters = 0;
+      haddr_t address = HADDR_UNDEF;
+      hsize_t size = 0;
+      if (H5Dget_chunk_info_by_coord(set.getId(), offset, &filters, &address, &size) < 0 ||
+          address == HADDR_UNDEF || address + size > bytes) {
+        return false;
+      }
+    }
+    return true;
+  }
+
+  // A killed writer's file may end short of its allocated space (HDF5 extends the file
+  // to it only at a flush), which is harmless as long as every committed row was written
+  // before the kill; a copy cut short is not. Returns the first table that reaches past
+  // the end, or "" when none does.
+  std::string table_past_end(std::uint64_t bytes) const {
+    H5::Group samples = file.openGroup(kSamples);
+    for (const char* name : kSampleTables) {
+      if (!chunks_on_disk(samples.openDataSet(name), committed.samples, bytes)) {
+        return std::string(kSamples) + "/" + name;
+      }
+    }
+    H5::Group traces = file.openGroup(kTraces);
+    for (int c = 0; c < header.chains; ++c) {
+      H5::Group chain = traces.openGroup(trace_group(c));
+      const std::int64_t rows = committed.traces[static_cast<std::size_t>(c)];
+      for (const char* name : kTraceTables) {
+        if (!chunks_on_disk(chain.openDataSet(name), rows, bytes)) {
+          return std::string(kTraces) + "/" + trace_group(c) + "/" + name;
+        }
+      }
+    }
+    return "";
+  }
+
   // Reads one value at each table's last committed row, so a file cut short fails here
   // rather than later.
   void probe_last_rows() const {
@@ -118,19 +159,27 @@ Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
   }
   impl->file = h5::adopt<H5::H5File>(id);
   // A SWMR-read open skips HDF5's end-of-file check and reads past the end as zeros,
-  // so compare the allocated end with the bytes on disk here.
+  // so compare the allocated end (a cleanly closed file) or the committed rows' chunks
+  // (a killed writer's file) with the bytes on disk here.
   haddr_t eoa = 0;
   const auto bytes = std::filesystem::file_size(path, error);
-  if (!error && H5Fget_eoa(id, &eoa) >= 0 && eoa > static_cast<haddr_t>(bytes)) {
+  const auto truncated = [&](const std::string& expected) {
     return Status::corrupt(context + ": the file is truncated (" + std::to_string(bytes) +
-                           " bytes on disk, " + std::to_string(eoa) +
-                           " expected); use an intact copy or train the run again");
+                           " bytes on disk, " + expected +
+                           "); use an intact copy or train the run again");
+  };
+  if (!recovered && !error && H5Fget_eoa(id, &eoa) >= 0 && eoa > static_cast<haddr_t>(bytes)) {
+    return truncated(std::to_string(eoa) + " expected");
   }
   Status status =
       h5::guard(context + ": the file is damaged or truncated", StatusCode::kCorrupt, [&]() {
         CREDENCE_RETURN_IF_ERROR(run_file::check_format(impl->file, path));
         impl->header = run_file::read_header(impl->file);
         impl->committed = run_file::read_committed(impl->file, impl->header);
+        if (recovered && !error) {
+          const std::string table = impl->table_past_end(bytes);
+          if (!table.empty()) return truncated("committed rows of " + table + " lie beyond");
+        }
         impl->probe_last_rows();
         RunSummary& s = impl->summary;
         s.status = run_file::read_run_status(impl->file);
@@ -236,9 +285,10 @@ Result<std::optional<StoredTemperature>> RunReader::stored_temperature() const {
       return Status::corrupt(m.context() + ": the stored temperature is not a positive number");
     }
     if (t.samples != m.committed.samples) {
-      log().warn("{}: ignoring the stored temperature {:.4g}: it was fitted for {} samples and "
-                 "the run now holds {}; fit it again with assess --temperature-scale",
-                 m.path, t.temperature, t.samples, m.committed.samples);
+      log().warn(
+          "{}: ignoring the stored temperature {:.4g}: it was fitted for {} samples and "
+          "the run now holds {}; fit it again with assess --temperature-scale",
+          m.path, t.temperature, t.samples, m.committed.samples);
       return Status::ok_status();
     }
     out = std::move(t);

@@ -1,9 +1,11 @@
 // RunWriter: creates a run file, appends rows in SWMR mode, commits through two slots.
-#include <filesystem>
 #include <unistd.h>
+
+#include <filesystem>
 #include <system_error>
 
 #include "credence/ensemble.h"
+#include "ensemble/copy_committed.h"
 #include "ensemble/h5_util.h"
 #include "ensemble/layout.h"
 #include "ensemble/run_file.h"
@@ -55,6 +57,21 @@ H5::FileAccPropList swmr_access() {
   H5::FileAccPropList fapl;
   fapl.setLibverBounds(H5F_LIBVER_LATEST, H5F_LIBVER_LATEST);
   return fapl;
+}
+
+// Paged file-space allocation, so that no metadata block smaller than a page straddles
+// a 4 KiB boundary. kill -9 can cut a write() short only between the kernel's page-cache
+// pages (which are 4 KiB-aligned), so such a block is either wholly old or wholly new
+// on disk; with the default allocator a block across a boundary could be left half
+// rewritten, its checksum stale, and the dataset unreadable (issue 9's kill tests).
+H5::FileCreatPropList page_aligned_creation() {
+  H5::FileCreatPropList fcpl;
+  constexpr hsize_t kPageBytes = 4096;
+  if (H5Pset_file_space_strategy(fcpl.getId(), H5F_FSPACE_STRATEGY_PAGE, 0, 1) < 0 ||
+      H5Pset_file_space_page_size(fcpl.getId(), kPageBytes) < 0) {
+    throw H5::PropListIException("page_aligned_creation", "cannot set paged allocation");
+  }
+  return fcpl;
 }
 
 }  // namespace
@@ -177,8 +194,7 @@ Result<std::unique_ptr<RunWriter>> RunWriter::create(const std::string& path,
   const std::string context =
       "creating run file " + path + " (check that its folder exists and is writable)";
   Status status = h5::guard(context, StatusCode::kIoError, [&]() {
-    impl->file =
-        H5::H5File(building, H5F_ACC_TRUNC, H5::FileCreatPropList::DEFAULT, swmr_access());
+    impl->file = H5::H5File(building, H5F_ACC_TRUNC, page_aligned_creation(), swmr_access());
     impl->open = true;
     run_file::write_header(impl->file, header);
     run_file::create_tables(impl->file, header);
@@ -212,20 +228,17 @@ Result<std::unique_ptr<RunWriter>> RunWriter::reopen(const std::string& path,
   {
     Result<std::unique_ptr<RunReader>> check = RunReader::open(path);
     if (!check.ok()) return check.status();
+    if ((*check)->summary().recovered) return rebuild(std::move(*check), path, states);
   }
   auto impl = std::make_unique<Impl>();
   impl->path = path;
   Status status =
       h5::guard("resuming run file " + path + ": the file is damaged", StatusCode::kCorrupt, [&]() {
-        H5::FileAccPropList fapl = swmr_access();
-        // A kill leaves the superblock marked "open for SWMR writing"; clearing the mark is
-        // safe because the active checkpoint slot, not the file's end, says what is valid.
-        // The file is opened straight into SWMR writing, so there is no moment in which
-        // a kill could catch it open for plain writing.
-        hbool_t clear = 1;
-        H5Pset(fapl.getId(), "clear_status_flags", &clear);
+        // The file was closed cleanly (a killed writer's file is rebuilt instead). It is
+        // opened straight into SWMR writing, so there is no moment in which a kill could
+        // catch it open for plain writing.
         impl->file = H5::H5File(path, H5F_ACC_RDWR | H5F_ACC_SWMR_WRITE,
-                                H5::FileCreatPropList::DEFAULT, fapl);
+                                H5::FileCreatPropList::DEFAULT, swmr_access());
         impl->open = true;
         CREDENCE_RETURN_IF_ERROR(run_file::check_format(impl->file, path));
         impl->header = run_file::read_header(impl->file);
@@ -238,8 +251,7 @@ Result<std::unique_ptr<RunWriter>> RunWriter::reopen(const std::string& path,
         // Rows past the committed counts are left in place: appends overwrite them from
         // the counts on (tables only ever grow, as SWMR requires).
         H5::Group group = impl->file.openGroup(kSamples);
-        for (const char* name : {kTheta, kChain, kStep, kIndex, kProbeLogLik, kProbeProb,
-                                 kProjections, kLayerSqNorms}) {
+        for (const char* name : kSampleTables) {
           H5::DataSet set = group.openDataSet(name);
           if (h5::table_rows(set) < impl->committed.samples) {
             return Status::corrupt("resuming run file " + path + ": samples/" + name +
@@ -250,8 +262,7 @@ Result<std::unique_ptr<RunWriter>> RunWriter::reopen(const std::string& path,
         for (int c = 0; c < impl->header.chains; ++c) {
           H5::Group chain = traces.openGroup(trace_group(c));
           const std::int64_t rows = impl->committed.traces[static_cast<std::size_t>(c)];
-          for (const char* name :
-               {kStep, kPotential, kAccuracy, kStepSize, kSpeedRatio, kAcceptance}) {
+          for (const char* name : kTraceTables) {
             H5::DataSet set = chain.openDataSet(name);
             if (h5::table_rows(set) < rows) {
               return Status::corrupt("resuming run file " + path + ": trace rows are missing");
@@ -266,6 +277,43 @@ Result<std::unique_ptr<RunWriter>> RunWriter::reopen(const std::string& path,
   impl->traces.resize(static_cast<std::size_t>(impl->header.chains));
   states = impl->committed.states;
   return std::unique_ptr<RunWriter>(new RunWriter(std::move(impl)));
+}
+
+// A killed writer's file is only ever read: after a kill, the superblock's end of
+// allocated space can lag chunks that the flushed indexes already name, so writing in
+// place could fail on them or allocate over them. The committed rows go into a fresh
+// file, built under a temporary name and renamed over the old one once committed; a
+// kill during the rebuild leaves the old file as it was.
+Result<std::unique_ptr<RunWriter>> RunWriter::rebuild(std::unique_ptr<RunReader> run,
+                                                      const std::string& path,
+                                                      std::vector<ChainState>& states) {
+  if (run->summary().status == RunStatus::kComplete) {
+    return Status::invalid_input("run file " + path +
+                                 " is already complete; there is nothing to resume");
+  }
+  remove_stale_temporaries(path, "rebuild");  // left by a resume that was killed
+  const std::string temp = temporary_path(path, "rebuild");
+  Result<std::unique_ptr<RunWriter>> writer = RunWriter::create(temp, run->header(), true);
+  if (!writer.ok()) return writer.status();
+  Status status = run_file::copy_committed(*run, **writer, 0);
+  run.reset();
+  std::error_code error;
+  if (status.ok()) {
+    std::filesystem::rename(temp, path, error);
+    if (error) {
+      status = Status::io_error("resuming run file " + path + ": cannot move " + temp +
+                                " into its place: " + error.message());
+    }
+  }
+  if (!status.ok()) {
+    writer->reset();
+    std::filesystem::remove(temp, error);
+    return status;
+  }
+  Impl& m = *(*writer)->impl_;
+  m.path = path;
+  states = m.committed.states;
+  return std::move(*writer);
 }
 
 Status RunWriter::append_sample(const SampleRecord& sample) {
