@@ -56,6 +56,9 @@ struct ReadOptions {
   /// When > 0, the physical line the first byte after the header stands on, for parsing
   /// a piece of a larger file behind a copy of its header (CsvChunkReader). Default 0.
   std::int64_t data_first_line = 0;
+  /// Data larger than this many bytes, with no quote in it, is read by two threads when
+  /// OpenMP allows two (not inside a parallel region). Default 1 MiB.
+  std::size_t parallel_above_bytes = std::size_t{1} << 20;
 };
 
 /// One column as read: numbers, or text interned as sorted levels.

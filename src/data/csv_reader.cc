@@ -252,12 +252,4 @@ bool parse_number(std::string_view text, double& value) {
   return error == std::errc() && end == last && std::isfinite(value);
 }
 
-std::string_view trim_blanks(std::string_view text) {
-  std::size_t begin = 0;
-  std::size_t end = text.size();
-  while (begin < end && (text[begin] == ' ' || text[begin] == '\t')) ++begin;
-  while (end > begin && (text[end - 1] == ' ' || text[end - 1] == '\t')) --end;
-  return text.substr(begin, end - begin);
-}
-
 }  // namespace credence::data

@@ -36,6 +36,17 @@ class CsvScanner {
   /// whose header was prepended).
   void set_line(std::int64_t line) { line_ = line; }
 
+  /// Continues from byte `pos`, the start of a record on physical line `line` (for a
+  /// second thread that reads from the middle of an unquoted table).
+  void seek(std::size_t pos, std::int64_t line) {
+    pos_ = pos;
+    line_ = line;
+  }
+
+  /// The next byte to read and its physical line.
+  std::size_t position() const { return pos_; }
+  std::int64_t line() const { return line_; }
+
  private:
   Status read_quoted(CsvRecord& record, std::size_t field_index);
 
@@ -53,7 +64,13 @@ class CsvScanner {
 /// the whole of `text`, without locale or allocation. Returns false otherwise.
 bool parse_number(std::string_view text, double& value);
 
-/// `text` without leading and trailing spaces and tabs.
-std::string_view trim_blanks(std::string_view text);
+/// `text` without leading and trailing spaces and tabs. Inline: it runs on every cell.
+inline std::string_view trim_blanks(std::string_view text) {
+  std::size_t begin = 0;
+  std::size_t end = text.size();
+  while (begin < end && (text[begin] == ' ' || text[begin] == '\t')) ++begin;
+  while (end > begin && (text[end - 1] == ' ' || text[end - 1] == '\t')) --end;
+  return text.substr(begin, end - begin);
+}
 
 }  // namespace credence::data

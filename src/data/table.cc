@@ -1,19 +1,19 @@
 // read_table: CSV bytes -> columns of numbers or interned text, with header checks.
 #include <algorithm>
-#include <array>
 #include <cerrno>
 #include <cmath>
 #include <cstring>
 #include <cstdio>
 #include <fmt/format.h>
-#include <limits>
 #include <memory>
 #include <numeric>
 #include <string>
 #include <unordered_map>
 
 #include "credence/data.h"
+#include "data/cells.h"
 #include "data/csv_reader.h"
+#include "data/row_pass.h"
 
 namespace credence {
 
@@ -41,10 +41,10 @@ std::string Table::column_list() const {
 
 namespace {
 
+using data::cell_text;
 using data::CsvRecord;
 using data::CsvScanner;
-
-constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+using data::NaMatcher;
 
 // UTF-16/32 text and binary files hold NUL bytes (or open with a UTF-16 byte-order mark);
 // without this check they surface as a confusing ragged row far into the file.
@@ -78,35 +78,6 @@ struct TransparentHash {
 };
 using LevelIndex = std::unordered_map<std::string, std::int32_t, TransparentHash, std::equal_to<>>;
 
-// Missing-value tokens, checked with a length filter first since most cells are not missing.
-class NaMatcher {
- public:
-  explicit NaMatcher(const std::vector<std::string>& tokens) : tokens_(tokens) {
-    for (const std::string& token : tokens_) {
-      max_length_ = std::max(max_length_, token.size());
-      if (!token.empty()) first_chars_[static_cast<unsigned char>(token[0])] = true;
-    }
-  }
-  bool matches(std::string_view cell) const {
-    // Most cells are numbers longer than any token, or start with a digit no token has.
-    if (cell.size() > max_length_) return false;
-    if (!cell.empty() && !first_chars_[static_cast<unsigned char>(cell[0])]) return false;
-    for (const std::string& token : tokens_) {
-      if (cell == token) return true;
-    }
-    return false;
-  }
-
- private:
-  const std::vector<std::string>& tokens_;
-  std::size_t max_length_ = 0;
-  std::array<bool, 256> first_chars_{};
-};
-
-std::string_view cell_text(const CsvRecord& record, std::size_t j) {
-  return record.quoted[j] ? record.fields[j] : data::trim_blanks(record.fields[j]);
-}
-
 Status check_header(const CsvRecord& header, const std::string& source, Table& table) {
   bool all_numbers = true;
   double ignored = 0.0;
@@ -135,16 +106,6 @@ Status check_header(const CsvRecord& header, const std::string& source, Table& t
         source, header.line));
   }
   return Status::ok_status();
-}
-
-Status ragged_row(const std::string& source, const CsvRecord& record, std::int64_t row,
-                  std::size_t expected) {
-  const std::size_t got = record.fields.size();
-  return Status::invalid_input(fmt::format(
-      "{}:{}:{}: row {} has {} field{} but the header has {}; {}", source, record.line,
-      std::min(got, expected) + 1, row + 1, got, got == 1 ? "" : "s", expected,
-      got > expected ? "quote any field that contains the delimiter, or remove the extra field"
-                     : "add the missing field (leave it empty if the value is unknown)"));
 }
 
 // Second pass: the text of every cell of the text columns, interned as sorted levels.
@@ -231,40 +192,18 @@ Result<Table> parse_table(std::string_view bytes, const std::string& source,
     if (int j = table.find_column(name); j >= 0) forced_text[static_cast<std::size_t>(j)] = 1;
   }
 
-  // Line count as the row estimate (exact without quoted line breaks or blank lines):
-  // growing 50 columns of doubles row by row would copy each about twice.
-  const auto lines = static_cast<std::size_t>(std::count(bytes.begin(), bytes.end(), '\n'));
-  table.row_lines.reserve(lines);
-  for (std::size_t j = 0; j < width; ++j) {
-    if (!forced_text[j]) table.columns[j].numbers.reserve(lines);
-  }
-
-  // First pass: numbers, missing cells and the first non-number of every column.
-  NaMatcher na(options.na_tokens);
-  std::int64_t row = 0;
-  while (true) {
-    CREDENCE_RETURN_IF_ERROR(scanner.next(record, got));
-    if (!got) break;
-    if (record.fields.size() != width) return ragged_row(source, record, row, width);
-    table.row_lines.push_back(record.line);
-    for (std::size_t j = 0; j < width; ++j) {
-      TableColumn& column = table.columns[j];
-      std::string_view cell = cell_text(record, j);
-      double value = kNaN;
-      if (na.matches(cell)) {
-        if (column.missing++ == 0) column.first_missing_row = row;
-      } else if (data::parse_number(cell, value)) {
-        ++column.numeric_cells;
-      } else if (column.first_text_row < 0) {
-        column.first_text_row = row;
-        column.first_text = std::string(cell);
-        value = kNaN;
-      }
-      if (!forced_text[j] && column.first_text_row < 0) column.numbers.push_back(value);
-    }
-    ++row;
-  }
-  if (row == 0) {
+  const data::NaMatcher na(options.na_tokens);
+  data::RowPassInput rows_in;
+  rows_in.bytes = bytes;
+  rows_in.data_start = scanner.position();
+  rows_in.data_line = scanner.line();
+  rows_in.source = &source;
+  rows_in.delimiter = options.delimiter;
+  rows_in.na = &na;
+  rows_in.forced_text = &forced_text;
+  rows_in.parallel_above_bytes = options.parallel_above_bytes;
+  CREDENCE_RETURN_IF_ERROR(data::read_rows(rows_in, table));
+  if (table.rows() == 0) {
     return Status::invalid_input(fmt::format(
         "{}: the file has a header row but no data rows; add one row per case", source));
   }
