@@ -41,7 +41,8 @@
 namespace credence {
 
 /// Version of the layout written by this build; readers refuse other versions.
-inline constexpr int kRunFormatVersion = 1;
+/// Version 2: every string is fixed-width (version 1 wrote variable-length ones).
+inline constexpr int kRunFormatVersion = 2;
 
 /// Where a run stands. kRunning is also what a crashed run shows until resumed.
 enum class RunStatus { kRunning, kComplete, kInterrupted, kDiverged, kFailed };

@@ -34,10 +34,41 @@ namespace {
 
 H5::DataSpace scalar_space() { return H5::DataSpace(H5S_SCALAR); }
 
-H5::StrType vlen_string_type() {
-  H5::StrType type(H5::PredType::C_S1, H5T_VARIABLE);
-  type.setCset(H5T_CSET_UTF8);
+// Variable-length strings keep their text in the file's global heap, and HDF5 1.10 follows
+// a damaged heap reference without a bounds check (a crash, not an error) and loops on a
+// damaged collection. So run files hold fixed-width strings only, and a variable-length
+// one is refused before HDF5 reads it.
+void refuse_variable_length(hid_t type, const std::string& what) {
+  if (H5Tis_variable_str(type) != 0) {
+    throw H5::DataTypeIException("refuse_variable_length",
+                                 what + " is a variable-length string; run files hold "
+                                        "fixed-width strings only");
+  }
+}
+
+// Width of a fixed string type holding every one of `values`: HDF5 forbids width 0.
+std::size_t widest(const std::vector<std::string>& values) {
+  std::size_t bytes = 1;
+  for (const std::string& value : values) bytes = std::max(bytes, value.size());
+  return bytes;
+}
+
+// The file's width and character set (ASCII from h5py's bytes, UTF-8 from credence), so
+// HDF5 converts only the padding.
+H5::StrType memory_string_type(const H5::StrType& file_type) {
+  H5::StrType type = fixed_string_type(file_type.getSize());
+  type.setCset(file_type.getCset());
   return type;
+}
+
+std::vector<std::string> from_fixed(const std::vector<char>& buffer, std::size_t bytes,
+                                    std::size_t count) {
+  std::vector<std::string> values(count);
+  for (std::size_t i = 0; i < count; ++i) {
+    const char* start = buffer.data() + i * bytes;
+    values[i].assign(start, strnlen(start, bytes));
+  }
+  return values;
 }
 
 H5::Attribute replace_attr(H5::H5Object& object, const char* name, const H5::DataType& type) {
@@ -56,8 +87,11 @@ void write_attr(H5::H5Object& object, const char* name, double value) {
 }
 
 void write_attr(H5::H5Object& object, const char* name, const std::string& value) {
-  H5::StrType type = vlen_string_type();
-  replace_attr(object, name, type).write(type, value);
+  const std::size_t bytes = std::max<std::size_t>(1, value.size());
+  std::vector<char> buffer(bytes, '\0');
+  std::memcpy(buffer.data(), value.data(), value.size());
+  H5::StrType type = fixed_string_type(bytes);
+  replace_attr(object, name, type).write(type, buffer.data());
 }
 
 bool has_attr(const H5::H5Object& object, const char* name) { return object.attrExists(name); }
@@ -75,13 +109,21 @@ double read_attr_f64(const H5::H5Object& object, const char* name) {
 }
 
 std::string read_attr_string(const H5::H5Object& object, const char* name) {
-  H5::Attribute attr = object.openAttribute(name);
+  return read_string(object.openAttribute(name), name);
+}
+
+std::string read_string(const H5::Attribute& attr, const std::string& name) {
   if (attr.getTypeClass() != H5T_STRING)
-    throw H5::AttributeIException("read_attr_string",
-                                  std::string("attribute '") + name + "' is not a string");
-  std::string value;
-  attr.read(attr.getStrType(), value);
-  return value;
+    throw H5::AttributeIException("read_attr_string", "attribute '" + name + "' is not a string");
+  const H5::StrType file_type = attr.getStrType();
+  refuse_variable_length(file_type.getId(), "attribute '" + name + "'");
+  const std::size_t bytes = file_type.getSize();
+  const auto count = static_cast<std::size_t>(attr.getSpace().getSimpleExtentNpoints());
+  if (count != 1)
+    throw H5::AttributeIException("read_attr_string", "attribute '" + name + "' is not one string");
+  std::vector<char> buffer(bytes, '\0');
+  attr.read(memory_string_type(file_type), buffer.data());
+  return from_fixed(buffer, bytes, 1)[0];
 }
 
 H5::Group create_ordered_group(H5::Group& parent, const char* name) {
@@ -104,32 +146,18 @@ H5::DataSet create_fixed(H5::Group& group, const char* name, const H5::DataType&
 }
 
 void write_strings(H5::Group& group, const char* name, const std::vector<std::string>& values) {
-  H5::StrType type = vlen_string_type();
-  H5::DataSet set = create_fixed(group, name, type, static_cast<std::int64_t>(values.size()));
-  if (values.empty()) return;
-  std::vector<const char*> pointers;
-  pointers.reserve(values.size());
-  for (const std::string& value : values) pointers.push_back(value.c_str());
-  set.write(pointers.data(), type);
+  const std::size_t bytes = widest(values);
+  H5::DataSet set = create_fixed(group, name, fixed_string_type(bytes),
+                                 static_cast<std::int64_t>(values.size()));
+  if (!values.empty()) write_fixed_strings(set, bytes, values);
 }
 
 std::vector<std::string> read_strings(const H5::Group& group, const char* name) {
   H5::DataSet set = group.openDataSet(name);
-  H5::DataSpace space = set.getSpace();
-  const auto count = static_cast<std::size_t>(space.getSimpleExtentNpoints());
-  std::vector<std::string> values(count);
-  if (count == 0) return values;
   if (set.getTypeClass() != H5T_STRING)
     throw H5::DataSetIException("read_strings",
                                 std::string("dataset '") + name + "' does not hold strings");
-  H5::StrType type = vlen_string_type();
-  std::vector<char*> pointers(count, nullptr);
-  set.read(pointers.data(), type);
-  for (std::size_t i = 0; i < count; ++i) {
-    if (pointers[i] != nullptr) values[i] = pointers[i];
-  }
-  H5Dvlen_reclaim(type.getId(), space.getId(), H5P_DEFAULT, pointers.data());
-  return values;
+  return read_fixed_strings(set);
 }
 
 H5::StrType fixed_string_type(std::size_t bytes) {
@@ -149,16 +177,13 @@ void write_fixed_strings(H5::DataSet& set, std::size_t bytes,
 }
 
 std::vector<std::string> read_fixed_strings(const H5::DataSet& set) {
-  const std::size_t bytes = set.getStrType().getSize();
+  const H5::StrType file_type = set.getStrType();
+  refuse_variable_length(file_type.getId(), "dataset '" + set.getObjName() + "'");
+  const std::size_t bytes = file_type.getSize();
   const auto count = static_cast<std::size_t>(set.getSpace().getSimpleExtentNpoints());
   std::vector<char> buffer(count * bytes, '\0');
-  if (count > 0) set.read(buffer.data(), fixed_string_type(bytes));
-  std::vector<std::string> values(count);
-  for (std::size_t i = 0; i < count; ++i) {
-    const char* start = buffer.data() + i * bytes;
-    values[i].assign(start, strnlen(start, bytes));
-  }
-  return values;
+  if (count > 0) set.read(buffer.data(), memory_string_type(file_type));
+  return from_fixed(buffer, bytes, count);
 }
 
 H5::DataSet create_table(H5::Group& group, const char* name, const H5::DataType& type,

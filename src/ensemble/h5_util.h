@@ -64,7 +64,9 @@ void write_attr(H5::H5Object& object, const char* name, const std::string& value
 bool has_attr(const H5::H5Object& object, const char* name);
 std::int64_t read_attr_i64(const H5::H5Object& object, const char* name);
 double read_attr_f64(const H5::H5Object& object, const char* name);
+/// A fixed-width string attribute's text; throws for a variable-length one (see h5_util.cc).
 std::string read_attr_string(const H5::H5Object& object, const char* name);
+std::string read_string(const H5::Attribute& attr, const std::string& name);
 
 /// Wraps a C API id in its C++ object, which then owns the only reference (some
 /// C++ constructors from an id add a reference of their own).
@@ -96,7 +98,7 @@ std::vector<T> read_array(const H5::Group& group, const char* name) {
   if (count > 0) set.read(values.data(), Type<T>::mem());
   return values;
 }
-/// Variable-length UTF-8 strings (numpy sees object arrays of bytes).
+/// Strings of any length, stored fixed-width (the longest one's width), null-padded UTF-8.
 void write_strings(H5::Group& group, const char* name, const std::vector<std::string>& values);
 std::vector<std::string> read_strings(const H5::Group& group, const char* name);
 

@@ -50,12 +50,9 @@ Settings read_settings(const H5::Group& group) {
         settings.emplace_back(name, value);
         break;
       }
-      case H5T_STRING: {
-        std::string value;
-        attr.read(attr.getStrType(), value);
-        settings.emplace_back(name, value);
+      case H5T_STRING:
+        settings.emplace_back(name, h5::read_string(attr, name));
         break;
-      }
       default:
         throw H5::AttributeIException("read_settings",
                                       "setting '" + name + "' has an unsupported type");
@@ -135,8 +132,27 @@ void write_header(H5::H5File& file, const RunHeader& header) {
   write_vec(sampling, kProbeRows, header.probe_rows);
 }
 
+namespace {
+
+Status check_version(std::int64_t version, const std::string& path) {
+  if (version == kRunFormatVersion) return Status::ok_status();
+  const std::string what = version > kRunFormatVersion
+                               ? "it was written by a newer credence; upgrade credence to read it"
+                               : "it was written by an older credence; read it with that "
+                                 "version or train the run again";
+  return Status::corrupt("reading run file " + path + ": format version " +
+                         std::to_string(version) + " found, this build reads version " +
+                         std::to_string(kRunFormatVersion) + "; " + what);
+}
+
+}  // namespace
+
 Status check_format(const H5::H5File& file, const std::string& path) {
   H5::Group root = file.openGroup("/");
+  // The version first: an older credence's strings are of a kind this build does not read.
+  if (h5::has_attr(root, kFormatAttr) && h5::has_attr(root, kFormatVersionAttr)) {
+    CREDENCE_RETURN_IF_ERROR(check_version(h5::read_attr_i64(root, kFormatVersionAttr), path));
+  }
   if (!h5::has_attr(root, kFormatAttr) || h5::read_attr_string(root, kFormatAttr) != kFormatName) {
     return Status::corrupt("reading run file " + path +
                            ": this HDF5 file is not a credence run file (no '" +
@@ -146,17 +162,7 @@ Status check_format(const H5::H5File& file, const std::string& path) {
   if (!h5::has_attr(root, kFormatVersionAttr)) {
     return Status::corrupt("reading run file " + path + ": the format version is missing");
   }
-  const std::int64_t version = h5::read_attr_i64(root, kFormatVersionAttr);
-  if (version != kRunFormatVersion) {
-    const std::string what = version > kRunFormatVersion
-                                 ? "it was written by a newer credence; upgrade credence to read it"
-                                 : "it was written by an older credence; read it with that "
-                                   "version or train the run again";
-    return Status::corrupt("reading run file " + path + ": format version " +
-                           std::to_string(version) + " found, this build reads version " +
-                           std::to_string(kRunFormatVersion) + "; " + what);
-  }
-  return Status::ok_status();
+  return check_version(h5::read_attr_i64(root, kFormatVersionAttr), path);
 }
 
 RunHeader read_header(const H5::H5File& file) {

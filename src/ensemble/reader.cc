@@ -5,7 +5,6 @@
 
 #include "credence/ensemble.h"
 #include "ensemble/h5_util.h"
-#include "ensemble/heap_check.h"
 #include "ensemble/layout.h"
 #include "ensemble/run_file.h"
 #include "util/log.h"
@@ -134,7 +133,6 @@ Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
                            ": not an HDF5 file; give the .h5 file written by "
                            "'credence train'");
   }
-  CREDENCE_RETURN_IF_ERROR(run_file::check_global_heaps(path));
   auto impl = std::make_unique<Impl>();
   impl->path = path;
   // A plain open fails on a file whose writer was killed (its superblock still says

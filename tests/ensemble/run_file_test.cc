@@ -191,7 +191,7 @@ TEST(RunFile, H5pyReaderFollowingTheDocsAgrees) {
   ASSERT_TRUE(reader.ok());
   const RunHeader& h = (*reader)->header();
 
-  EXPECT_EQ(facts["format"], (std::vector<std::string>{"credence-run", "1"}));
+  EXPECT_EQ(facts["format"], (std::vector<std::string>{"credence-run", "2"}));
   EXPECT_EQ(facts["status"], std::vector<std::string>{"complete"});
   EXPECT_EQ(facts["samples"], std::vector<std::string>{std::to_string(kChains * kPerChain)});
   EXPECT_EQ(facts["per_chain"], std::vector<std::string>(kChains, std::to_string(kPerChain)));
@@ -304,28 +304,35 @@ TEST(RunFile, TruncatedFileIsCorrupt) {
   }
 }
 
-// Files made with h5py (the reference HDF5 binding): a foreign HDF5 file, and our
-// file with its format version raised.
-TEST(RunFile, ForeignHdf5AndFutureVersionAreRefused) {
+// Files made with h5py (the reference HDF5 binding): a foreign HDF5 file, and our file
+// with its format version raised, and lowered to version 1 (whose strings were
+// variable-length) with its `format` string rewritten as h5py writes str: variable-length.
+TEST(RunFile, ForeignHdf5AndOtherVersionsAreRefused) {
   TempDir dir;
   const std::string foreign = (dir.path() / "foreign.h5").string();
   const std::string future = write_run(dir, "future.h5");
+  const std::string older = write_run(dir, "older.h5");
   int code = 0;
   const std::string script =
       "import h5py, sys\n"
       "with h5py.File(sys.argv[1], 'w') as f: f['x'] = [1, 2, 3]\n"
-      "with h5py.File(sys.argv[2], 'r+') as f: f.attrs['format_version'] = 2\n";
+      "with h5py.File(sys.argv[2], 'r+') as f: f.attrs['format_version'] = 3\n"
+      "with h5py.File(sys.argv[3], 'r+') as f:\n"
+      "    f.attrs['format_version'] = 1\n"
+      "    f.attrs['format'] = 'credence-run'\n";
   const std::string script_path = dir.write("make.py", script);
-  const std::string output =
-      testing::run_python("'" + script_path + "' '" + foreign + "' '" + future + "'", code);
+  const std::string output = testing::run_python(
+      "'" + script_path + "' '" + foreign + "' '" + future + "' '" + older + "'", code);
   ASSERT_EQ(code, 0) << output;
   expect_failure(RunReader::open(foreign).status(), StatusCode::kCorrupt,
                  {foreign, "not a credence run file"});
   expect_failure(RunReader::open(future).status(), StatusCode::kCorrupt,
-                 {future, "format version 2 found", "reads version 1", "upgrade credence"});
+                 {future, "format version 3 found", "reads version 2", "upgrade credence"});
+  expect_failure(RunReader::open(older).status(), StatusCode::kCorrupt,
+                 {older, "format version 1 found", "reads version 2", "older credence"});
   std::vector<ChainState> states;
   expect_failure(RunWriter::reopen(future, states).status(), StatusCode::kCorrupt,
-                 {future, "format version 2 found"});
+                 {future, "format version 3 found"});
 }
 
 }  // namespace

@@ -21,10 +21,15 @@ def open_run(path):
         return h5py.File(path, "r", swmr=True)  # a writer was killed: read-only SWMR open
 
 
+def text(value):
+    """A run file's string attribute: fixed-width, so h5py returns bytes."""
+    return value.decode() if isinstance(value, bytes) else str(value)
+
+
 def encode(f, rows):
     """Standardise numeric columns, one-hot categorical ones, fill missing cells."""
     pre, feats = f["preprocessing"], f["preprocessing/features"]
-    na = set(f["settings"].attrs["csv_na_tokens"].split("\x1f"))
+    na = set(text(f["settings"].attrs["csv_na_tokens"]).split("\x1f"))
     cats = [c.decode() for c in feats["categories"][:]]
     x = np.zeros((len(rows), int(pre.attrs["input_width"])), np.float64)
     for i, raw in enumerate(feats["name"][:]):
@@ -45,7 +50,7 @@ def encode(f, rows):
 
 def hidden_layers(net_text):
     layers = []
-    for line in net_text.splitlines():
+    for line in text(net_text).splitlines():
         words = line.split("#")[0].split()
         if words and words[0] == "hidden":
             layers.append((int(words[1]), words[2]))
