@@ -30,6 +30,7 @@ class NaMatcher {
     }
     return false;
   }
+  const std::vector<std::string>& tokens() const { return tokens_; }
 
  private:
   const std::vector<std::string>& tokens_;

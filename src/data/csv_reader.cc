@@ -191,9 +191,10 @@ namespace {
 
 // Clinger's fast path ("How to read floating point numbers accurately", PLDI 1990): when the
 // decimal significand fits in 53 bits and |exponent| <= 22, both it and the power of ten are
-// exact doubles, so one IEEE multiply or divide gives the correctly rounded value. Returns
-// false when the text is not of that simple form; the caller then uses std::from_chars.
-bool parse_simple_decimal(const char* p, const char* end, double& value) {
+// exact doubles, so one IEEE multiply or divide gives the correctly rounded value.
+// Reads from `p` as far as the number goes and returns where it stopped; nullptr when
+// the text there is not of that simple form (the caller then uses std::from_chars).
+const char* scan_simple_decimal(const char* p, const char* end, double& value) {
   static constexpr double kPowers[] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
                                        1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
                                        1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
@@ -211,29 +212,27 @@ bool parse_simple_decimal(const char* p, const char* end, double& value) {
     point = p;
     p = take_digits(p + 1, end, mantissa, digits);
   }
-  if (digits > 15) return false;  // more than a double holds exactly: from_chars
+  if (digits > 15) return nullptr;  // more than a double holds exactly: from_chars
   const auto length = static_cast<int>(p - first_digit);
-  if (length == (point != nullptr ? 1 : 0)) return false;  // no digit at all
+  if (length == (point != nullptr ? 1 : 0)) return nullptr;  // no digit at all
   int exponent = point != nullptr ? -static_cast<int>(p - point - 1) : 0;
-  if (p != end) {
-    if (*p != 'e' && *p != 'E') return false;
+  if (p != end && (*p == 'e' || *p == 'E')) {
     ++p;
     bool exp_negative = false;
     if (p != end && (*p == '-' || *p == '+')) exp_negative = *p++ == '-';
-    if (p == end) return false;
+    if (p == end || *p < '0' || *p > '9') return nullptr;  // an exponent needs a digit
     int e = 0;
     for (; p != end && *p >= '0' && *p <= '9'; ++p) {
-      if (e > 1000) return false;
+      if (e > 1000) return nullptr;
       e = e * 10 + (*p - '0');
     }
-    if (p != end) return false;
     exponent += exp_negative ? -e : e;
   }
-  if (exponent < -22 || exponent > 22) return false;
+  if (exponent < -22 || exponent > 22) return nullptr;
   double v = static_cast<double>(mantissa);  // exact: mantissa < 10^15 < 2^53
   v = exponent < 0 ? v / kPowers[-exponent] : v * kPowers[exponent];
   value = negative ? -v : v;
-  return true;
+  return p;
 }
 
 }  // namespace
@@ -247,9 +246,14 @@ bool parse_number(std::string_view text, double& value) {
   // from_chars would accept "inf" and "nan"; a table cell like that is not a measurement.
   const char* lead = *first == '-' ? first + 1 : first;
   if (lead == last || !((*lead >= '0' && *lead <= '9') || *lead == '.')) return false;
-  if (parse_simple_decimal(first, last, value)) return true;
+  if (scan_simple_decimal(first, last, value) == last) return true;
   auto [end, error] = std::from_chars(first, last, value, std::chars_format::general);
   return error == std::errc() && end == last && std::isfinite(value);
+}
+
+const char* parse_plain_number(const char* p, const char* end, double& value) {
+  if (p == end || !((*p >= '0' && *p <= '9') || *p == '.' || *p == '-')) return nullptr;
+  return scan_simple_decimal(p, end, value);
 }
 
 }  // namespace credence::data

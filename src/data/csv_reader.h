@@ -64,6 +64,13 @@ class CsvScanner {
 /// the whole of `text`, without locale or allocation. Returns false otherwise.
 bool parse_number(std::string_view text, double& value);
 
+/// The number that starts at `p` (optional '-', digits, optional point and digits,
+/// optional exponent), read as far as it goes; returns the first byte after it. nullptr
+/// when no such number starts there or it needs more than the fast path (over 15
+/// significant digits, or a power of ten past 1e22): parse_number then decides. A number
+/// it reads gets the same bits from parse_number.
+const char* parse_plain_number(const char* p, const char* end, double& value);
+
 /// `text` without leading and trailing spaces and tabs. Inline: it runs on every cell.
 inline std::string_view trim_blanks(std::string_view text) {
   std::size_t begin = 0;

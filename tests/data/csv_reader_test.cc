@@ -185,6 +185,60 @@ TEST(CsvReader, NumbersMatchStrtodBitForBit) {
   }
 }
 
+// parse_table reads rows of plain numbers on a fast path and every other row through the
+// scanner; both must give strtod's bits. Cells are spelled so that rows of each kind mix:
+// plain, 17 significant digits and powers past 1e22 (past the fast path), a '+' sign and
+// blanks around a cell (the scanner's rows); CRLF and LF line ends. Reference: strtod.
+TEST(CsvReader, TableCellsMatchStrtodOnEveryRowPath) {
+  std::mt19937_64 random(20261203);
+  std::uniform_real_distribution<double> unit(-1.0, 1.0);
+  std::uniform_int_distribution<int> power(-30, 30);
+  std::uniform_int_distribution<int> pick(0, 7);
+  const char* formats[] = {"%g", "%.6g", "%.17g", "%.3e", "%.9f", "%+.4g", " %g", "%.2e "};
+  std::vector<std::string> cells;
+  std::string csv = "a,b,c\n";
+  char text[64];
+  for (int r = 0; r < 3000; ++r) {
+    for (int j = 0; j < 3; ++j) {
+      const double x = unit(random) * std::pow(10.0, power(random));
+      std::snprintf(text, sizeof text, formats[r % 4 == 0 ? pick(random) : pick(random) % 2], x);
+      cells.emplace_back(text);
+      csv += text;
+      csv += j < 2 ? "," : (r % 3 == 0 ? "\r\n" : "\n");
+    }
+  }
+  auto t = parse(csv);
+  ASSERT_TRUE(t.ok()) << t.status().to_string();
+  ASSERT_EQ(t->rows(), 3000);
+  for (std::size_t k = 0; k < cells.size(); ++k) {
+    const double ours = t->columns[k % 3].numbers[k / 3];
+    const double reference = std::strtod(cells[k].c_str(), nullptr);
+    ASSERT_EQ(std::memcmp(&ours, &reference, sizeof ours), 0) << "'" << cells[k] << "'";
+  }
+}
+
+TEST(CsvReader, NumericMissingTokenIsMissingInRowsOfNumbers) {
+  ReadOptions options;
+  options.na_tokens = {"-999"};
+  auto t = parse("x,y\n1,-999\n-999,2\n3,4\n", options);
+  ASSERT_TRUE(t.ok()) << t.status().to_string();
+  EXPECT_EQ(column(*t, "x").missing, 1);
+  EXPECT_EQ(column(*t, "y").missing, 1);
+  EXPECT_TRUE(std::isnan(column(*t, "x").numbers[1]));
+  EXPECT_EQ(column(*t, "x").numbers[2], 3.0);
+}
+
+TEST(CsvReader, DelimiterThatCouldBelongToANumberSplitsFirst) {
+  ReadOptions options;
+  options.delimiter = '.';
+  auto t = parse("a.b\n1.2\n3.4\n", options);
+  ASSERT_TRUE(t.ok()) << t.status().to_string();
+  EXPECT_EQ(column(*t, "a").numbers, (std::vector<double>{1, 3}));
+  EXPECT_EQ(column(*t, "b").numbers, (std::vector<double>{2, 4}));
+  // Three fields, not the number 1.5 and then 2.
+  expect_invalid(parse("a.b\n1.5.2\n", options).status(), {"data.csv:2:3", "row 1 has 3 fields"});
+}
+
 TEST(CsvReader, NonFiniteAndPartialNumbersAreText) {
   double v = 0;
   EXPECT_FALSE(data::parse_number("inf", v));
