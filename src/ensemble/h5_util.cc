@@ -15,18 +15,21 @@ void silence_errors() {
   });
 }
 
-Status guard(const std::string& context, StatusCode code, const std::function<Status()>& body) {
+Status guard(const std::string& context, StatusCode code, const std::function<Status()>& body,
+             std::string_view what_to_do) {
   silence_errors();
+  const std::string advice = what_to_do.empty() ? "" : "; " + std::string(what_to_do);
   try {
     return body();
   } catch (const H5::Exception& error) {
     std::string detail = error.getDetailMsg();
     if (detail.empty()) detail = error.getFuncName();
-    return Status(code, context + ": HDF5 reported '" + detail + "' in " + error.getFuncName());
+    return Status(code, context + ": HDF5 reported '" + detail + "' in " + error.getFuncName() +
+                            advice);
   } catch (const std::bad_alloc&) {
-    return Status(code, context + ": out of memory (a size in the file is implausible)");
+    return Status(code, context + ": out of memory (a size in the file is implausible)" + advice);
   } catch (const std::length_error&) {
-    return Status(code, context + ": a size in the file is implausible");
+    return Status(code, context + ": a size in the file is implausible" + advice);
   }
 }
 

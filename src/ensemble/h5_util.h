@@ -10,6 +10,7 @@
 #include <functional>
 #include <span>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "credence/status.h"
@@ -20,8 +21,11 @@ namespace credence::h5 {
 void silence_errors();
 
 /// Runs `body`, turning an H5::Exception into kCorrupt (reading) or kIoError
-/// (writing) with `context` and the HDF5 function that failed.
-Status guard(const std::string& context, StatusCode code, const std::function<Status()>& body);
+/// (writing) with `context` and the HDF5 function that failed, then `what_to_do` when
+/// given (an error caught from HDF5 says what broke, not what to do about it). A Status
+/// that `body` returns passes through unchanged.
+Status guard(const std::string& context, StatusCode code, const std::function<Status()>& body,
+             std::string_view what_to_do = {});
 
 /// File and memory types of the element types we store.
 template <typename T>

@@ -194,16 +194,9 @@ Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
           }
         }
         return Status::ok_status();
-      });
-  if (!status.ok()) {
-    // An error caught from HDF5 says what broke, not what to do about it.
-    constexpr std::string_view kWhatToDo = "; use an intact copy or train the run again";
-    if (status.code() == StatusCode::kCorrupt &&
-        status.message().find(kWhatToDo) == std::string::npos) {
-      return Status::corrupt(status.message() + std::string(kWhatToDo));
-    }
-    return status;
-  }
+      },
+      "use an intact copy or train the run again");
+  if (!status.ok()) return status;
   impl->summary.file_bytes = static_cast<std::int64_t>(std::filesystem::file_size(path, error));
   return std::unique_ptr<RunReader>(new RunReader(std::move(impl)));
 }
