@@ -4,6 +4,7 @@
 #include <system_error>
 
 #include "credence/ensemble.h"
+#include "ensemble/bounded_read_driver.h"
 #include "ensemble/h5_util.h"
 #include "ensemble/layout.h"
 #include "ensemble/run_file.h"
@@ -146,7 +147,11 @@ Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
     // mid-flush), by default 100 times with growing pauses: minutes on a damaged
     // file. A live writer's flush settles within a few attempts.
     H5Pset_metadata_read_attempts(fapl, 10);
-    id = H5Fopen(path.c_str(), H5F_ACC_RDONLY | H5F_ACC_SWMR_READ, fapl);
+    // Such an open reads past the allocated end; the bounded driver keeps a damaged
+    // length from zero-filling gigabytes there (bounded_read_driver.h).
+    if (h5::use_bounded_read_driver(fapl) >= 0) {
+      id = H5Fopen(path.c_str(), H5F_ACC_RDONLY | H5F_ACC_SWMR_READ, fapl);
+    }
     H5Pclose(fapl);
     recovered = true;
   }
