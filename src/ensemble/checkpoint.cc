@@ -54,8 +54,8 @@ template <typename T>
 std::vector<T> read_exact(const H5::Group& group, const char* name, std::size_t count) {
   std::vector<T> values = h5::read_array<T>(group, name);
   if (values.size() != count) {
-    throw H5::DataSetIException("read_committed",
-                                std::string("checkpoint array '") + name + "' has the wrong size");
+    throw h5::FileDamage("read_committed",
+                         std::string("checkpoint array '") + name + "' has the wrong size");
   }
   return values;
 }
@@ -247,7 +247,7 @@ Committed read_committed(const H5::H5File& file, const RunHeader& header) {
   std::vector<std::int32_t> active = read_exact<std::int32_t>(run, kActiveSlot, 1);
   if (active[0] == -1) return committed;
   if (active[0] != 0 && active[0] != 1) {
-    throw H5::DataSetIException("read_committed", "the active slot marker is neither -1, 0 nor 1");
+    throw h5::FileDamage("read_committed", "the active slot marker is neither -1, 0 nor 1");
   }
   committed.active_slot = active[0];
   H5::Group group = file.openGroup(kCheckpoint).openGroup(slot_group(active[0]));
@@ -269,19 +269,18 @@ Committed read_committed(const H5::H5File& file, const RunHeader& header) {
   const auto p = static_cast<std::size_t>(header.parameters);
   std::vector<float> theta = read_exact<float>(group, kTheta, chains * p);
   if (status.size() != chains || reason.size() != chains) {
-    throw H5::DataSetIException("read_committed", "chain status arrays have the wrong size");
+    throw h5::FileDamage("read_committed", "chain status arrays have the wrong size");
   }
   std::int64_t total = 0;
   for (std::size_t c = 0; c < chains; ++c) {
     ChainState& state = committed.states[c];
     committed.has_state[c] = has_state[c] != 0;
     std::optional<ChainStatus> parsed = parse_chain_status(status[c]);
-    if (!parsed)
-      throw H5::DataSetIException("read_committed", "unknown chain status '" + status[c] + "'");
+    if (!parsed) throw h5::FileDamage("read_committed", "unknown chain status '" + status[c] + "'");
     state.status = *parsed;
     state.reason = reason[c];
     if (committed.samples_per_chain[c] < 0 || committed.traces[c] < 0) {
-      throw H5::DataSetIException("read_committed", "negative committed row count");
+      throw h5::FileDamage("read_committed", "negative committed row count");
     }
     total += committed.samples_per_chain[c];
     if (!committed.has_state[c]) continue;
@@ -293,7 +292,7 @@ Committed read_committed(const H5::H5File& file, const RunHeader& header) {
                        theta.begin() + static_cast<std::ptrdiff_t>((c + 1) * p));
   }
   if (total != committed.samples) {
-    throw H5::DataSetIException("read_committed", "per-chain sample counts do not add up");
+    throw h5::FileDamage("read_committed", "per-chain sample counts do not add up");
   }
   H5::Group state = group.openGroup(kState);
   const NamedArrays& t = header.state_template;
@@ -315,7 +314,7 @@ RunStatus read_run_status(const H5::H5File& file) {
   std::vector<std::string> names =
       h5::read_fixed_strings(file.openGroup(kRun).openDataSet(kRunStatus));
   std::optional<RunStatus> status = names.size() == 1 ? parse_run_status(names[0]) : std::nullopt;
-  if (!status) throw H5::DataSetIException("read_run_status", "unknown run status");
+  if (!status) throw h5::FileDamage("read_run_status", "unknown run status");
   return *status;
 }
 

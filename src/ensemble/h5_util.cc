@@ -21,6 +21,8 @@ Status guard(const std::string& context, StatusCode code, const std::function<St
   const std::string advice = what_to_do.empty() ? "" : "; " + std::string(what_to_do);
   try {
     return body();
+  } catch (const FileDamage& damage) {
+    return Status(code, context + ": " + damage.getDetailMsg() + advice);
   } catch (const H5::Exception& error) {
     std::string detail = error.getDetailMsg();
     if (detail.empty()) detail = error.getFuncName();
@@ -43,9 +45,9 @@ H5::DataSpace scalar_space() { return H5::DataSpace(H5S_SCALAR); }
 // one is refused before HDF5 reads it.
 void refuse_variable_length(hid_t type, const std::string& what) {
   if (H5Tis_variable_str(type) != 0) {
-    throw H5::DataTypeIException("refuse_variable_length",
-                                 what + " is a variable-length string; run files hold "
-                                        "fixed-width strings only");
+    throw FileDamage("refuse_variable_length", what +
+                                                   " is a variable-length string; run files hold "
+                                                   "fixed-width strings only");
   }
 }
 
@@ -117,13 +119,13 @@ std::string read_attr_string(const H5::H5Object& object, const char* name) {
 
 std::string read_string(const H5::Attribute& attr, const std::string& name) {
   if (attr.getTypeClass() != H5T_STRING)
-    throw H5::AttributeIException("read_attr_string", "attribute '" + name + "' is not a string");
+    throw FileDamage("read_attr_string", "attribute '" + name + "' is not a string");
   const H5::StrType file_type = attr.getStrType();
   refuse_variable_length(file_type.getId(), "attribute '" + name + "'");
   const std::size_t bytes = file_type.getSize();
   const auto count = static_cast<std::size_t>(attr.getSpace().getSimpleExtentNpoints());
   if (count != 1)
-    throw H5::AttributeIException("read_attr_string", "attribute '" + name + "' is not one string");
+    throw FileDamage("read_attr_string", "attribute '" + name + "' is not one string");
   std::vector<char> buffer(bytes, '\0');
   attr.read(memory_string_type(file_type), buffer.data());
   return from_fixed(buffer, bytes, 1)[0];
@@ -158,8 +160,7 @@ void write_strings(H5::Group& group, const char* name, const std::vector<std::st
 std::vector<std::string> read_strings(const H5::Group& group, const char* name) {
   H5::DataSet set = group.openDataSet(name);
   if (set.getTypeClass() != H5T_STRING)
-    throw H5::DataSetIException("read_strings",
-                                std::string("dataset '") + name + "' does not hold strings");
+    throw FileDamage("read_strings", std::string("dataset '") + name + "' does not hold strings");
   return read_fixed_strings(set);
 }
 

@@ -20,6 +20,14 @@ namespace credence::h5 {
 /// Turns off HDF5's automatic error printing (C and C++ APIs); idempotent.
 void silence_errors();
 
+/// Damage credence finds itself in a file HDF5 read without complaint (a count out of
+/// range, an unknown name, a variable-length string). guard() reports it in these words,
+/// not as an error HDF5 reported. `where` names the reading function, for debugging.
+class FileDamage : public H5::Exception {
+ public:
+  FileDamage(const std::string& where, const std::string& what) : H5::Exception(where, what) {}
+};
+
 /// Runs `body`, turning an H5::Exception into kCorrupt (reading) or kIoError
 /// (writing) with `context` and the HDF5 function that failed, then `what_to_do` when
 /// given (an error caught from HDF5 says what broke, not what to do about it). A Status

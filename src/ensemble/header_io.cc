@@ -54,8 +54,7 @@ Settings read_settings(const H5::Group& group) {
         settings.emplace_back(name, h5::read_string(attr, name));
         break;
       default:
-        throw H5::AttributeIException("read_settings",
-                                      "setting '" + name + "' has an unsupported type");
+        throw h5::FileDamage("read_settings", "setting '" + name + "' has an unsupported type");
     }
   }
   return settings;
@@ -202,7 +201,7 @@ RunHeader read_header(const H5::H5File& file) {
   header.probe_rows = h5::read_array<std::int64_t>(sampling, kProbeRows);
   if (header.chains <= 0 || header.chains > 1000000 || header.parameters <= 0 ||
       header.projections < 0 || header.layers < 0) {
-    throw H5::GroupIException("read_header", "implausible chain, parameter or summary counts");
+    throw h5::FileDamage("read_header", "implausible chain, parameter or summary counts");
   }
 
   // The state template: names and sizes of slot 0's state arrays.

@@ -18,8 +18,7 @@ Enum parse_enum(const std::string& text, std::initializer_list<Enum> values, Nam
   for (Enum value : values) {
     if (name(value) == text) return value;
   }
-  throw H5::DataSetIException("read_preprocessing",
-                              std::string("unknown ") + what + " '" + text + "'");
+  throw h5::FileDamage("read_preprocessing", std::string("unknown ") + what + " '" + text + "'");
 }
 
 ColumnRole parse_role(const std::string& text) {
@@ -39,10 +38,10 @@ void write_vec(H5::Group& group, const char* name, const std::vector<T>& values)
 
 void check_length(std::size_t found, std::size_t expected, const char* name) {
   if (found != expected) {
-    throw H5::DataSetIException("read_preprocessing", std::string("preprocessing array '") + name +
-                                                          "' has " + std::to_string(found) +
-                                                          " entries, expected " +
-                                                          std::to_string(expected));
+    throw h5::FileDamage("read_preprocessing", std::string("preprocessing array '") + name +
+                                                   "' has " + std::to_string(found) +
+                                                   " entries, expected " +
+                                                   std::to_string(expected));
   }
 }
 
@@ -154,8 +153,8 @@ Preprocessing read_preprocessing(const H5::Group& group) {
     f.impute_value = impute_values[i];
     if (starts[i] < 0 || counts[i] < 0 ||
         starts[i] + counts[i] > static_cast<std::int64_t>(categories.size())) {
-      throw H5::DataSetIException("read_preprocessing",
-                                  "category range of feature '" + f.name + "' is out of bounds");
+      throw h5::FileDamage("read_preprocessing",
+                           "category range of feature '" + f.name + "' is out of bounds");
     }
     f.categories.assign(categories.begin() + starts[i], categories.begin() + starts[i] + counts[i]);
     p.features.push_back(std::move(f));
