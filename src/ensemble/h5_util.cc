@@ -195,7 +195,12 @@ H5::DataSet create_table(H5::Group& group, const char* name, const H5::DataType&
   const int rank = cols >= 0 ? 2 : 1;
   // A zero-width table still needs a chunk of width 1, which a fixed width 0 forbids.
   hsize_t dims[2] = {0, static_cast<hsize_t>(std::max<std::int64_t>(cols, 0))};
-  hsize_t max_dims[2] = {H5S_UNLIMITED, cols == 0 ? H5S_UNLIMITED : dims[1]};
+  // Both dimensions unlimited, so HDF5 indexes the chunks with a version-2 B-tree: its
+  // nodes (2048 bytes) never cross a 4 KiB page of the paged file, while an extensible
+  // array's data blocks outgrow a page after about 8,000 chunks and kill -9 could tear
+  // one (tests/ensemble/chunk_index_test.cc). 1-D tables keep the extensible array; at
+  // 4096 rows per chunk they reach that size after 33 million rows.
+  hsize_t max_dims[2] = {H5S_UNLIMITED, H5S_UNLIMITED};
   hsize_t chunk[2] = {static_cast<hsize_t>(std::max<std::int64_t>(1, chunk_rows)),
                       std::max<hsize_t>(1, dims[1])};
   H5::DataSpace space(rank, dims, max_dims);
