@@ -17,7 +17,7 @@ const std::atomic<bool>& install_interrupt_handlers() {
   struct sigaction action {};
   action.sa_handler = on_stop_signal;
   sigemptyset(&action.sa_mask);
-  action.sa_flags = SA_RESETHAND;
+  action.sa_flags = static_cast<int>(SA_RESETHAND);  // glibc spells it as an unsigned
   sigaction(SIGINT, &action, nullptr);
   sigaction(SIGTERM, &action, nullptr);
   return g_stop_requested;

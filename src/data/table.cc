@@ -147,8 +147,10 @@ Status intern_text_columns(std::string_view bytes, const std::string& source,
     TableColumn& column = table.columns[j];
     std::vector<std::int32_t> order(column.levels.size());
     std::iota(order.begin(), order.end(), 0);
-    std::sort(order.begin(), order.end(),
-              [&](std::int32_t a, std::int32_t b) { return column.levels[a] < column.levels[b]; });
+    std::sort(order.begin(), order.end(), [&](std::int32_t a, std::int32_t b) {
+      return column.levels[static_cast<std::size_t>(a)] <
+             column.levels[static_cast<std::size_t>(b)];
+    });
     std::vector<std::int32_t> new_code(order.size());
     std::vector<std::string> sorted(order.size());
     for (std::size_t k = 0; k < order.size(); ++k) {

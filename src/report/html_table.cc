@@ -14,7 +14,7 @@ namespace {
 // Characters, not bytes, so names with accents line up.
 std::size_t display_width(std::string_view text) {
   std::size_t n = 0;
-  for (unsigned char c : text) n += (c & 0xC0u) != 0x80u ? 1 : 0;
+  for (const char c : text) n += (static_cast<unsigned char>(c) & 0xC0u) != 0x80u ? 1 : 0;
   return n;
 }
 

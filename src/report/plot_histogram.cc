@@ -41,7 +41,8 @@ std::string render_histogram(const HistogramChart& chart) {
   const double bin_width = (hi - lo) / bins;
 
   // Heights per series and bin; values outside a fixed range are left out.
-  std::vector<std::vector<double>> heights(chart.series.size(), std::vector<double>(bins, 0.0));
+  std::vector<std::vector<double>> heights(
+      chart.series.size(), std::vector<double>(static_cast<std::size_t>(bins), 0.0));
   std::vector<report::LegendEntry> legend;
   double top_height = 0;
   for (std::size_t s = 0; s < chart.series.size(); ++s) {

@@ -70,7 +70,8 @@ namespace report {
 
 double text_width(std::string_view text, double size) {
   double units = 0;
-  for (unsigned char c : text) {
+  for (const char byte : text) {
+    const auto c = static_cast<unsigned char>(byte);
     if ((c & 0xC0u) == 0x80u) continue;  // continuation byte: counted with its lead
     if (c == ' ' || c == '.' || c == ',' || c == 'i' || c == 'l' || c == '1') units += 0.34;
     else if (c >= 'A' && c <= 'Z') units += 0.68;
@@ -109,8 +110,8 @@ void SvgDocument::line(double x1, double y1, double x2, double y2, std::string_v
 std::string SvgDocument::finish() const {
   // FNV-1a of the content names the clip path: the same chart gives the same bytes.
   std::uint64_t hash = 1469598103934665603ull;
-  for (unsigned char c : body_) hash = (hash ^ c) * 1099511628211ull;
-  for (unsigned char c : title_) hash = (hash ^ c) * 1099511628211ull;
+  for (const char c : body_) hash = (hash ^ static_cast<unsigned char>(c)) * 1099511628211ull;
+  for (const char c : title_) hash = (hash ^ static_cast<unsigned char>(c)) * 1099511628211ull;
   std::string id = fmt::format("cr{:012x}", hash & 0xFFFFFFFFFFFFull);
   std::string body = body_;
   for (std::size_t at = body.find("@CLIP@"); at != std::string::npos;
