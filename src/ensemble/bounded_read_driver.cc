@@ -13,6 +13,7 @@
 #include <cerrno>
 #include <cstring>
 #include <limits>
+#include <new>
 
 namespace credence::h5 {
 namespace {
@@ -54,7 +55,12 @@ H5FD_t* open_file(const char* name, unsigned flags, hid_t /*fapl*/, haddr_t maxa
     ::close(fd);
     return nullptr;
   }
-  auto* file = new BoundedFile{};
+  // No exception may cross HDF5's C frames: a failed allocation is a failed open.
+  auto* file = new (std::nothrow) BoundedFile{};
+  if (file == nullptr) {
+    ::close(fd);
+    return nullptr;
+  }
   file->fd = fd;
   file->device = info.st_dev;
   file->inode = info.st_ino;

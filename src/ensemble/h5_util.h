@@ -29,7 +29,8 @@ class FileDamage : public H5::Exception {
 };
 
 /// Runs `body`, turning an H5::Exception into kCorrupt (reading) or kIoError
-/// (writing) with `context` and the HDF5 function that failed, then `what_to_do` when
+/// (writing) with `context` and the HDF5 function that failed (a FileDamage: with
+/// credence's finding in its own words), then `what_to_do` when
 /// given (an error caught from HDF5 says what broke, not what to do about it). A Status
 /// that `body` returns passes through unchanged.
 Status guard(const std::string& context, StatusCode code, const std::function<Status()>& body,
