@@ -6,8 +6,14 @@
 // The JSON is read back with Python's json module.
 #include <gtest/gtest.h>
 
+#include <chrono>
 #include <cstdio>
 #include <string>
+#include <thread>
+#include <vector>
+
+#include "credence/ensemble.h"
+#include "testing/process.h"
 
 #include "testing/read_text.h"
 #include "testing/run_command.h"
@@ -113,6 +119,75 @@ TEST_F(Budget, DefaultStepSizesDoNotDivergeOnStandardisedInputs) {
               "['completed', 'completed']")
         << method;
   }
+}
+
+// What a run file kept, sorted: (chain, step, theta), and each chain's reason.
+struct Kept {
+  std::vector<std::tuple<int, std::int64_t, std::vector<float>>> rows;
+  std::vector<std::string> reasons;
+};
+
+Kept read_kept(const std::string& run) {
+  Kept out;
+  auto reader = RunReader::open(run);
+  EXPECT_TRUE(reader.ok()) << reader.status().message();
+  if (!reader.ok()) return out;
+  auto theta = (*reader)->samples();
+  auto chains = (*reader)->sample_chains();
+  auto steps = (*reader)->sample_steps();
+  EXPECT_TRUE(theta.ok() && chains.ok() && steps.ok());
+  if (!theta.ok() || !chains.ok() || !steps.ok()) return out;
+  for (Eigen::Index s = 0; s < theta->cols(); ++s) {
+    out.rows.emplace_back((*chains)[static_cast<std::size_t>(s)],
+                          (*steps)[static_cast<std::size_t>(s)],
+                          std::vector<float>(theta->col(s).data(),
+                                             theta->col(s).data() + theta->rows()));
+  }
+  std::sort(out.rows.begin(), out.rows.end());
+  out.reasons = (*reader)->summary().chain_reason;
+  return out;
+}
+
+TEST_F(Budget, AnEarlyStoppedRunKilledAndResumedKeepsWhatAWholeRunKeeps) {
+  // A 3000-row table and a long budget, so kill -9 lands mid-run; the patience is long
+  // enough that the chains stop (early, or at the end of the budget) only after the kill.
+  const std::string big = path("big.csv");
+  ASSERT_EQ(run_credence("--quiet synth --scenario cold-store --rows 3000 --seed 5 --out '" +
+                         big + "'").exit_code, 0);
+  auto args = [&](const std::string& out) {
+    return std::vector<std::string>{
+        "--quiet", "train", big, "--target", "fault_14d", "--id", "unit_id", "--impute",
+        "median", "--hidden", "64,64", "--batch", "32", "--method", "adam", "--chains", "2",
+        "--steps", "40000", "--check-every", "20", "--patience", "1000", "--min-steps", "100",
+        "--flush-seconds", "0.05", "--out", out};
+  };
+  const std::string whole = path("es_whole.h5"), cut = path("es_cut.h5");
+  {
+    testing::ChildProcess child(args(whole), path("es_whole.log"));
+    ASSERT_EQ(child.wait(), 0) << "see " << path("es_whole.log");
+  }
+  const Kept a = read_kept(whole);
+  ASSERT_EQ(a.rows.size(), 2u);
+  for (const std::string& reason : a.reasons) {
+    EXPECT_NE(reason.find("kept the best"), std::string::npos) << reason;
+  }
+  testing::ChildProcess child(args(cut), path("es_cut.log"));
+  std::this_thread::sleep_for(std::chrono::milliseconds(400));
+  child.signal(SIGKILL);
+  const int code = child.wait();
+  if (code == 0) GTEST_SKIP() << "the run finished before the kill; nothing to resume";
+  ASSERT_EQ(code, 128 + SIGKILL);
+  if (!RunReader::open(cut).ok()) GTEST_SKIP() << "killed before the run file existed";
+  auto resumed = run_credence("--quiet train --resume '" + cut + "'");
+  ASSERT_EQ(resumed.exit_code, 0) << resumed.output;
+  const Kept b = read_kept(cut);
+  ASSERT_EQ(b.rows.size(), a.rows.size());
+  for (std::size_t i = 0; i < a.rows.size(); ++i) {
+    EXPECT_EQ(std::get<0>(a.rows[i]), std::get<0>(b.rows[i]));
+    EXPECT_EQ(std::get<1>(a.rows[i]), std::get<1>(b.rows[i]));
+    EXPECT_TRUE(std::get<2>(a.rows[i]) == std::get<2>(b.rows[i])) << "chain " << i << " differs";
+  }
+  EXPECT_EQ(a.reasons, b.reasons);
 }
 
 TEST_F(Budget, EarlyStoppingFlagsAreRefusedForSamplers) {
