@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "credence/ensemble.h"
+#include "testing/kept_samples.h"
 #include "testing/process.h"
 
 #include "testing/read_text.h"
@@ -121,32 +122,8 @@ TEST_F(Budget, DefaultStepSizesDoNotDivergeOnStandardisedInputs) {
   }
 }
 
-// What a run file kept, sorted: (chain, step, theta), and each chain's reason.
-struct Kept {
-  std::vector<std::tuple<int, std::int64_t, std::vector<float>>> rows;
-  std::vector<std::string> reasons;
-};
-
-Kept read_kept(const std::string& run) {
-  Kept out;
-  auto reader = RunReader::open(run);
-  EXPECT_TRUE(reader.ok()) << reader.status().message();
-  if (!reader.ok()) return out;
-  auto theta = (*reader)->samples();
-  auto chains = (*reader)->sample_chains();
-  auto steps = (*reader)->sample_steps();
-  EXPECT_TRUE(theta.ok() && chains.ok() && steps.ok());
-  if (!theta.ok() || !chains.ok() || !steps.ok()) return out;
-  for (Eigen::Index s = 0; s < theta->cols(); ++s) {
-    out.rows.emplace_back((*chains)[static_cast<std::size_t>(s)],
-                          (*steps)[static_cast<std::size_t>(s)],
-                          std::vector<float>(theta->col(s).data(),
-                                             theta->col(s).data() + theta->rows()));
-  }
-  std::sort(out.rows.begin(), out.rows.end());
-  out.reasons = (*reader)->summary().chain_reason;
-  return out;
-}
+using Kept = testing::KeptSamples;
+Kept read_kept(const std::string& run) { return testing::read_kept_samples(run); }
 
 TEST_F(Budget, AnEarlyStoppedRunKilledAndResumedKeepsWhatAWholeRunKeeps) {
   // A 3000-row table and a long budget, so kill -9 lands mid-run; the patience is long
