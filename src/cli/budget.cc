@@ -42,6 +42,19 @@ std::string size_budget(TrainSettings& s, std::int64_t train_rows, const BudgetG
         D::kOptimizerPasses, D::kOptimizerCap);
   }
   ChainSettings& c = s.chains;
+  if (is_full_batch(s.sampler.method)) {
+    // hmc and rhmc read every row in each of their L leapfrog steps, and their
+    // Metropolis-corrected iterations mix far faster than minibatch steps: one
+    // iteration is already L passes, so their budget is iterations, not passes.
+    if (!given.burn_in) c.burn_in = D::kFullBatchBurnIn;
+    if (!given.thin) {
+      const std::int64_t samples = std::max<std::int64_t>(1, c.samples);
+      c.thin = std::max<std::int64_t>(1, (D::kFullBatchSampling + samples - 1) / samples);
+    }
+    if (given.burn_in && given.thin) return {};
+    return fmt::format("budget for {}: burn-in {} iterations, then {} samples thinned 1 in {}",
+                       method_name(s.sampler.method), c.burn_in, c.samples, c.thin);
+  }
   if (!given.burn_in) {
     c.burn_in = in_passes(D::kSamplerBurnInPasses, per_pass, D::kSamplerBurnInFloor,
                           D::kSamplerPhaseCap);

@@ -173,15 +173,16 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
       "--burn-in", s.chains.burn_in,
       fmt::format("Samplers: steps before the first kept sample [default: max({} steps, {:g} "
                   "passes over the training rows), at most {}: long enough to forget the "
-                  "start on small and large tables]",
-                  D::kSamplerBurnInFloor, D::kSamplerBurnInPasses, D::kSamplerPhaseCap));
+                  "start on small and large tables; hmc, rhmc: {} iterations]",
+                  D::kSamplerBurnInFloor, D::kSamplerBurnInPasses, D::kSamplerPhaseCap,
+                  D::kFullBatchBurnIn));
   flags->thin = chains->add_option(
       "--thin", s.chains.thin,
       fmt::format("Samplers: keep every N-th step after burn-in [default: the sampling phase "
                   "max({} steps, {:g} passes), at most {}, divided by --samples, and at least "
-                  "{}]",
+                  "{}; hmc, rhmc: {} iterations divided by --samples]",
                   D::kSamplerSamplingFloor, D::kSamplerSamplingPasses, D::kSamplerPhaseCap,
-                  D::kSamplerThinFloor));
+                  D::kSamplerThinFloor, D::kFullBatchSampling));
   flags->samples = chains->add_option("--samples", s.chains.samples, "Kept samples per chain")
                        ->capture_default_str();
   chains->add_option("--batch", s.batches.batch_rows, "Minibatch rows")->capture_default_str();
