@@ -93,6 +93,39 @@ class Sampler {
   virtual double base_step_size() const = 0;
 };
 
+/// Scores theta on rows the chain does not train on (lower is better; for example the
+/// mean NLL of the validation rows). Called from the chain's own thread only.
+using HeldOutScore = std::function<Result<double>(ConstThetaRef theta)>;
+
+/// Optimizers: end a chain when its held-out score stops improving, and keep its best
+/// iterate instead of its last (early stopping; "Early Stopping - But When?", Neural
+/// Networks: Tricks of the Trade, 1998). Only for an optimizer's layout of one kept
+/// sample (thin 1, samples 1); the kept sample is the best iterate, its step the step
+/// after which it was scored, and the chain's final checkpoint says why it ended.
+struct EarlyStopSettings {
+  /// Score theta after every this many steps (and after the last); 0 = off: the chain
+  /// runs its whole budget and keeps its last iterate. Default 0.
+  std::int64_t every = 0;
+  /// Scores in a row without an improvement of at least min_improvement that end the
+  /// chain. Default 10.
+  std::int64_t patience = 10;
+  /// Never end before this many steps. Default 0.
+  std::int64_t min_steps = 0;
+  /// The smallest decrease of the score that counts as an improvement. Default 1e-4
+  /// (in mean NLL per row: well below any difference that shows in a score table).
+  double min_improvement = 1e-4;
+  /// One scorer per chain (given the chain's global index); required when every > 0.
+  std::function<HeldOutScore(int chain)> scorer;
+};
+
+/// Prefix of early stopping's arrays inside ChainCheckpoint::state (best iterate, best
+/// score, checks without improvement).
+inline constexpr std::string_view kEarlyStopStatePrefix = "early.";
+
+/// The names and sizes of early stopping's checkpoint arrays for P parameters (for a
+/// writer that creates its checkpoint layout up front).
+NamedArrays early_stop_state_template(std::int64_t parameters);
+
 /// Layout of one run of chains.
 struct ChainSettings {
   int chains = 4;               // C. Default 4 (METHODS.md 1: C >= 4 for R-hat).
@@ -110,6 +143,8 @@ struct ChainSettings {
   /// these indices, and `resume` follows their order. Empty = chains 0 .. chains - 1.
   /// REQUIRES: empty, or `chains` entries, each >= 0 and distinct.
   std::vector<int> chain_ids;
+  /// Optimizers: stop on a held-out score and keep the best iterate. Default off.
+  EarlyStopSettings early_stop;
 };
 
 /// A kept sample, valid only during the hook call.
@@ -158,7 +193,7 @@ struct ChainCheckpoint {
   /// Empty while the chain runs; how it ended in the checkpoint of CheckpointCause::kEnded.
   std::optional<ChainEnd> end;
   Status status;       // ok unless the chain ended otherwise than completed
-  std::string reason;  // empty unless diverged, stopped or failed
+  std::string reason;  // empty unless diverged, stopped or failed, or early stopping ended it
 };
 
 /// Hooks at fixed points of each chain. run_chains() serialises them with one
@@ -197,7 +232,7 @@ struct ChainOutcome {
   /// or the sampler returned (its own code and message).
   Status status;
   std::int64_t step = 0;  // steps run (for kDiverged: the step that diverged)
-  std::string reason;     // empty when completed; otherwise what happened
+  std::string reason;     // what happened; empty when completed without early stopping
   std::int64_t kept = 0;
   double mean_acceptance = 0.0;  // hmc, rhmc: mean after burn-in; else 0
   ChainCheckpoint checkpoint;    // the final checkpoint (as on_checkpoint saw it last)

@@ -35,6 +35,9 @@ Status run_compare_command(const CompareFlags& flags, const GlobalOptions& globa
   std::string text = fmt::format("compare on {} (test rows: {})\n\n{}", flags.data_path,
                                  runs.front().assessment.rows.size(), render_text(table));
   if (!failures.empty()) text += "\n" + failures;
+  for (const CompareOutcome& o : *outcomes) {
+    if (!o.budget_note.empty()) text += fmt::format("\nnote, {}: {}\n", o.entry.label, o.budget_note);
+  }
   text += fmt::format("\n{}\n", cautions_text());
   CREDENCE_RETURN_IF_ERROR(write_output(request->out_dir, "summary.txt", text));
   CREDENCE_RETURN_IF_ERROR(write_output(request->out_dir, "summary.csv", render_csv(table)));

@@ -4,7 +4,9 @@
 #include <cmath>
 #include <sstream>
 
+#include "cli/budget.h"
 #include "cli/commands.h"
+#include "cli/held_out.h"
 #include "cli/memory_option.h"
 #include "cli/train_job.h"
 
@@ -19,6 +21,15 @@ struct TrainFlags {
   std::string schedule = "constant";
   std::string tempering = "posterior";
   bool fixed_mass = false;
+  // The budget flags, to tell a value given from a default sized to the table.
+  CLI::Option* burn_in = nullptr;
+  CLI::Option* thin = nullptr;
+  CLI::Option* samples = nullptr;
+  CLI::Option* steps = nullptr;
+  CLI::Option* epochs = nullptr;
+  CLI::Option* check_every = nullptr;
+  CLI::Option* patience = nullptr;
+  CLI::Option* min_steps = nullptr;
 };
 
 Result<std::vector<Index>> parse_widths(const std::string& text) {
@@ -75,6 +86,24 @@ Status resolve(TrainFlags& flags) {
         "--prior-scale {} is out of range; give a positive scale such as 1", r.prior_scale));
   }
   r.settings.chains.seed = r.data.split.seed;
+  r.budget_given = BudgetGiven{.burn_in = flags.burn_in->count() > 0,
+                               .thin = flags.thin->count() > 0,
+                               .samples = flags.samples->count() > 0,
+                               .steps = flags.steps->count() > 0,
+                               .epochs = flags.epochs->count() > 0,
+                               .check_every = flags.check_every->count() > 0,
+                               .patience = flags.patience->count() > 0,
+                               .min_steps = flags.min_steps->count() > 0};
+  if (is_sampler(*method)) {
+    for (const CLI::Option* option : {flags.check_every, flags.patience, flags.min_steps}) {
+      if (option->count() > 0) {
+        return Status::invalid_input(fmt::format(
+            "{} stops an optimizer early; {} is a sampler, whose kept samples all count: "
+            "leave it out, or choose sgd, momentum, rsgd or adam",
+            option->get_name(), flags.method));
+      }
+    }
+  }
   return validate_train_settings(r.settings);
 }
 
@@ -139,16 +168,48 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   auto* chains = sub->add_option_group("chains");
   chains->add_option("--chains", s.chains.chains, "Independent chains, run in parallel")
       ->capture_default_str();
-  chains->add_option("--burn-in", s.chains.burn_in, "Steps before the first kept sample")
-      ->capture_default_str();
-  chains->add_option("--thin", s.chains.thin, "Keep every N-th step after burn-in")
-      ->capture_default_str();
-  chains->add_option("--samples", s.chains.samples, "Kept samples per chain")
-      ->capture_default_str();
+  using D = BudgetDefaults;
+  flags->burn_in = chains->add_option(
+      "--burn-in", s.chains.burn_in,
+      fmt::format("Samplers: steps before the first kept sample [default: max({} steps, {:g} "
+                  "passes over the training rows), at most {}: long enough to forget the "
+                  "start on small and large tables; hmc, rhmc: {} iterations]",
+                  D::kSamplerBurnInFloor, D::kSamplerBurnInPasses, D::kSamplerPhaseCap,
+                  D::kFullBatchBurnIn));
+  flags->thin = chains->add_option(
+      "--thin", s.chains.thin,
+      fmt::format("Samplers: keep every N-th step after burn-in [default: the sampling phase "
+                  "max({} steps, {:g} passes), at most {}, divided by --samples, and at least "
+                  "{}; hmc, rhmc: {} iterations divided by --samples]",
+                  D::kSamplerSamplingFloor, D::kSamplerSamplingPasses, D::kSamplerPhaseCap,
+                  D::kSamplerThinFloor, D::kFullBatchSampling));
+  flags->samples = chains->add_option("--samples", s.chains.samples, "Kept samples per chain")
+                       ->capture_default_str();
   chains->add_option("--batch", s.batches.batch_rows, "Minibatch rows")->capture_default_str();
-  chains->add_option("--steps", s.steps, "Optimizers: steps per chain (default from --epochs)");
-  chains->add_option("--epochs", s.epochs, "Optimizers: passes over the training rows")
-      ->capture_default_str();
+  flags->steps = chains->add_option(
+      "--steps", s.steps,
+      fmt::format("Optimizers: most steps per chain [default: max({} steps, {:g} passes), at "
+                  "most {}: enough for adam to settle on 100 rows and several passes over "
+                  "1,000,000]",
+                  D::kOptimizerFloor, D::kOptimizerPasses, D::kOptimizerCap));
+  flags->epochs = chains->add_option(
+      "--epochs", s.epochs, "Optimizers: passes over the training rows instead of --steps");
+  using E = EarlyStopDefaults;
+  flags->check_every = chains->add_option(
+      "--check-every", s.chains.early_stop.every,
+      fmt::format("Optimizers: score the validation rows (NLL, up to {}) every N steps, keep "
+                  "the best iterate [default: one pass, between {} and {} steps]",
+                  kHeldOutRowsMax, E::kEveryMin, E::kEveryMax));
+  flags->patience = chains->add_option(
+      "--patience", s.chains.early_stop.patience,
+      fmt::format("Optimizers: stop after N checks without a gain of {:g} in validation NLL "
+                  "(0: run the whole budget, keep the last iterate) [default: {}]",
+                  EarlyStopSettings{}.min_improvement, E::kPatience));
+  flags->min_steps = chains->add_option(
+      "--min-steps", s.chains.early_stop.min_steps,
+      fmt::format("Optimizers: never stop early before N steps [default: max({} steps, {:g} "
+                  "passes), at most the budget]",
+                  E::kMinStepsFloor, E::kMinStepsPasses));
   chains->add_option("--threads", s.chains.threads, "Threads for chains (0: one per core)")
       ->capture_default_str();
   add_max_memory_option(*sub, r.max_memory);

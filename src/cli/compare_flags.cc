@@ -23,9 +23,13 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
       ->capture_default_str();
   command.add_option("--net", flags.net_path, "Net file instead of --hidden/--activation");
   command.add_option("--epochs", flags.epochs,
-                     "Gradient budget per chain, in passes over the training rows (the same "
-                     "for every method)")
-      ->capture_default_str();
+                     fmt::format("Gradient budget per chain, in passes over the training rows "
+                                 "(the same for every method) [default: sized to the table, as a "
+                                 "sampler's train defaults: burn-in max({} steps, {:g} passes) "
+                                 "plus as much again to sample, each at most {}]",
+                                 BudgetDefaults::kSamplerBurnInFloor,
+                                 BudgetDefaults::kSamplerBurnInPasses,
+                                 BudgetDefaults::kSamplerPhaseCap));
   command.add_option("--chains", flags.chains,
                      "Chains per method (optimizers: independent restarts, averaged)")
       ->capture_default_str();
@@ -85,6 +89,7 @@ Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Me
   r.out_dir = flags.out_dir;
   r.truth_path = flags.truth_path;
   r.bootstrap = flags.bootstrap;
+  if (r.epochs < 0) return Status::invalid_input("--epochs: give a positive number of passes");
   if (r.chains < 1 || r.batch_rows < 1 || r.samples < 1 || r.bootstrap < 0) {
     return Status::invalid_input(
         "--chains, --batch and --samples need at least 1, and --bootstrap at least 0");

@@ -16,7 +16,7 @@ struct CompareFlags {
   std::string hidden = "32,32";
   std::string activation = "relu";
   std::string net_path;
-  double epochs = 30;
+  double epochs = 0;  // 0: sized to the table (compare_budget)
   int chains = 4;
   std::int64_t batch = 128;
   std::int64_t samples = 100;

@@ -31,21 +31,38 @@ TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
   s.chains.seed = c.data.split.seed;
   s.batches.batch_rows = c.batch_rows;
   if (is_sampler(entry.method)) {
-    // Half the budget (at least) burns in; the rest is thinned to `samples` per chain.
-    const std::int64_t samples = std::max<std::int64_t>(1, std::min(c.samples, budget.steps / 2));
-    s.chains.samples = samples;
-    s.chains.thin = std::max<std::int64_t>(1, (budget.steps / 2) / samples);
-    s.chains.burn_in = budget.steps - s.chains.thin * samples;
+    const SamplerShare share = sampler_share(budget.steps, c.samples);
+    s.chains.samples = share.samples;
+    s.chains.thin = share.thin;
+    s.chains.burn_in = share.burn_in;
   } else {
     s.steps = budget.steps;
   }
+  // The budget is compare's; train adds only the optimizers' early stopping.
+  r.budget_given = BudgetGiven{.burn_in = true, .thin = true, .samples = true, .steps = true,
+                               .epochs = true};
   return r;
 }
 
 }  // namespace
 
+SamplerShare sampler_share(std::int64_t steps, std::int64_t samples) {
+  SamplerShare share;
+  const std::int64_t after_burn_in = std::max<std::int64_t>(1, steps / 2);
+  share.samples = std::max<std::int64_t>(1, std::min(samples, after_burn_in));
+  share.thin = std::max<std::int64_t>(1, after_burn_in / share.samples);
+  share.burn_in = std::max<std::int64_t>(0, steps - share.thin * share.samples);
+  if (share.samples < samples) {
+    share.note = fmt::format(
+        "--samples {} cut to {}: a budget of {} steps leaves {} after burn-in, one sample per "
+        "step at most; give more --epochs (or fewer --samples)",
+        samples, share.samples, steps, after_burn_in);
+  }
+  return share;
+}
+
 Result<Budget> compare_budget(const CompareRequest& request) {
-  if (!(request.epochs > 0) || !std::isfinite(request.epochs)) {
+  if (request.epochs < 0 || !std::isfinite(request.epochs)) {
     return Status::invalid_input(
         fmt::format("--epochs {}: give a positive number of passes", request.epochs));
   }
@@ -53,11 +70,19 @@ Result<Budget> compare_budget(const CompareRequest& request) {
   if (!data.ok()) return data.status();
   Budget budget;
   budget.train_rows = static_cast<std::int64_t>(data->split.train.size());
-  const std::int64_t batch = std::min(request.batch_rows, budget.train_rows);
-  budget.steps = static_cast<std::int64_t>(
-      std::ceil(request.epochs * static_cast<double>(budget.train_rows) /
-                static_cast<double>(std::max<std::int64_t>(1, batch))));
-  budget.steps = std::max<std::int64_t>(budget.steps, 2);
+  const std::int64_t per_pass = steps_per_pass(budget.train_rows, request.batch_rows);
+  if (request.epochs > 0) {
+    budget.steps = static_cast<std::int64_t>(std::ceil(request.epochs * static_cast<double>(per_pass)));
+    budget.steps = std::max<std::int64_t>(budget.steps, 2);
+    return budget;
+  }
+  // A sampler's default budget in `credence train`, so every method gets what a sampler
+  // needs: burn-in plus a sampling phase, each in passes with floors and caps.
+  TrainSettings sampler;
+  sampler.batches.batch_rows = request.batch_rows;
+  sampler.chains.samples = request.samples;
+  (void)size_budget(sampler, budget.train_rows, BudgetGiven{.samples = true});
+  budget.steps = sampler.chains.burn_in + sampler.chains.thin * sampler.chains.samples;
   return budget;
 }
 
@@ -73,13 +98,21 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
                                         request.out_dir, error.message()));
   }
   if (!request.quiet) {
+    const std::int64_t per_pass = steps_per_pass(budget->train_rows, request.batch_rows);
     std::fprintf(stderr,
-                 "every method: %lld steps per chain x %d chains (%.3g epochs of %lld training "
-                 "rows, batch %lld)\n",
-                 static_cast<long long>(budget->steps), request.chains, request.epochs,
+                 "every method: %lld steps per chain x %d chains (%.3g passes over %lld training "
+                 "rows, batch %lld%s)\n",
+                 static_cast<long long>(budget->steps), request.chains,
+                 static_cast<double>(budget->steps) / static_cast<double>(per_pass),
                  static_cast<long long>(budget->train_rows),
-                 static_cast<long long>(request.batch_rows));
+                 static_cast<long long>(request.batch_rows),
+                 request.epochs > 0 ? "" : "; sized to the table, --epochs sets it");
   }
+  // Said once, before any training, and again in the summary of each sampler it touches.
+  const std::string cut = sampler_share(budget->steps, request.samples).note;
+  bool any_sampler = false;
+  for (const CompareEntry& entry : request.entries) any_sampler = any_sampler || is_sampler(entry.method);
+  if (any_sampler && !cut.empty()) log().warn("{}", cut);
   AssessJobOptions assess;
   assess.split = AssessSplit::kTest;
   assess.truth_path = request.truth_path;
@@ -91,6 +124,7 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
     outcome.entry = entry;
     TrainRequest train = request_for(request, entry, *budget);
     outcome.run_path = train.out_path;
+    if (is_sampler(entry.method)) outcome.budget_note = sampler_share(budget->steps, request.samples).note;
     Status trained = run_train(train);
     if (trained.code() == StatusCode::kInterrupted || trained.code() == StatusCode::kInvalidInput) {
       return trained;  // Ctrl-C stops the whole comparison; bad input is the user's to fix
@@ -107,6 +141,7 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
     for (ChainStatus status : run->summary.chain_status) {
       outcome.diverged = outcome.diverged || status == ChainStatus::kDiverged;
     }
+    run->budget_note = outcome.budget_note;
     outcome.run = std::move(*run);
     outcomes.push_back(std::move(outcome));
   }

@@ -26,7 +26,9 @@ struct CompareRequest {
   std::string activation = "relu";
   std::string net_path;
   std::vector<CompareEntry> entries;
-  double epochs = 30;            // gradient budget: passes over the training rows per chain
+  /// Gradient budget: passes over the training rows per chain; 0 = sized to the table
+  /// (compare_budget). Default 0.
+  double epochs = 0;
   int chains = 4;                // every method runs this many chains (optimizers: restarts)
   std::int64_t batch_rows = 128;
   std::int64_t samples = 100;    // kept samples per chain for samplers
@@ -44,13 +46,28 @@ struct CompareOutcome {
   std::string failure;           // why, when run is empty
   bool diverged = false;         // some or all chains diverged
   std::string run_path;
+  std::string budget_note;       // why this entry got less than asked (empty: nothing cut)
 };
 
-/// The steps per chain every method gets: ceil(epochs * train rows / batch).
+/// The steps per chain every method gets: ceil(epochs * train rows / batch) when epochs
+/// is given; by default the budget a sampler gets from `credence train` (budget.h), at
+/// least kCompareFloor steps, so samplers burn in and keep --samples samples at
+/// thin >= 10 on tables of a few hundred rows.
 struct Budget {
   std::int64_t train_rows = 0;
   std::int64_t steps = 0;
 };
+
+/// How a sampler spends a budget of `steps`: half (at least) burns in, the rest is
+/// thinned to `samples`; when fewer than `samples` steps remain, it keeps one sample per
+/// remaining step and says so in `note`.
+struct SamplerShare {
+  std::int64_t burn_in = 0;
+  std::int64_t thin = 1;
+  std::int64_t samples = 0;
+  std::string note;  // empty unless samples were cut
+};
+SamplerShare sampler_share(std::int64_t steps, std::int64_t samples);
 Result<Budget> compare_budget(const CompareRequest& request);
 
 /// Trains every entry into out_dir/<file_stem>.h5 (overwriting), then assesses each on

@@ -390,6 +390,7 @@ std::string score_json(const std::vector<MethodRun>& runs) {
           .numbers(std::vector<double>{a.intervals->brier.lo, a.intervals->brier.hi});
       j.key("ece_interval").numbers(std::vector<double>{a.intervals->ece.lo, a.intervals->ece.hi});
     }
+    j.key("budget_note").value(run.budget_note);
     j.key("wall_seconds").value(run.seconds);
     j.key("gradient_evals").value(run.gradient_evals);
     j.key("bulk_ess_per_second").value(bulk_ess_per_second(run));

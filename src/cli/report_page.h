@@ -24,6 +24,7 @@ struct MethodRun {
   std::vector<std::vector<TraceRecord>> traces;  // per chain
   double seconds = 0;                            // wall seconds of sampling, all chains
   std::int64_t gradient_evals = 0;               // all chains
+  std::string budget_note;  // compare: why this method got less than asked (empty: nothing cut)
 };
 
 /// Opens `run_path`, assesses it on `data_path` and diagnoses it. Errors as

@@ -58,6 +58,10 @@ void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
   visit("seed", s.chains.seed);
   visit("max_potential", s.chains.max_potential);
   visit("trace_every", s.chains.trace_every);
+  visit("early_stop_every", s.chains.early_stop.every);
+  visit("early_stop_patience", s.chains.early_stop.patience);
+  visit("early_stop_min_steps", s.chains.early_stop.min_steps);
+  visit("early_stop_min_improvement", s.chains.early_stop.min_improvement);
   visit("batch_rows", s.batches.batch_rows);
   visit("drop_last", s.batches.drop_last);
   visit("optimizer_steps", s.steps);
@@ -181,6 +185,10 @@ Status validate_train_settings(const TrainSettings& s) {
   if (s.batches.batch_rows < 1) return refuse("--batch", s.batches.batch_rows, "1 or more rows");
   if (s.steps < 0) return refuse("--steps", s.steps, "0 (derive from --epochs) or more");
   if (!(s.epochs > 0)) return refuse("--epochs", s.epochs, "a positive number of passes");
+  const EarlyStopSettings& e = s.chains.early_stop;
+  if (e.every < 0) return refuse("--check-every", e.every, "0 (off) or more steps");
+  if (e.patience < 0) return refuse("--patience", e.patience, "0 (no early stopping) or more checks");
+  if (e.min_steps < 0) return refuse("--min-steps", e.min_steps, "0 or more steps");
   if (!(s.flush_seconds > 0)) return refuse("--flush-seconds", s.flush_seconds, "a positive time");
   // The sampler library checks these too, but under its own setting names; refuse them here
   // first so the message names the flag the user typed.

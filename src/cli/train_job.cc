@@ -7,6 +7,7 @@
 // checkpoints and redraws the progress line. Nothing else touches HDF5.
 #include "cli/train_job.h"
 
+#include "cli/held_out.h"
 #include "cli/memory_option.h"
 
 #include <fmt/chrono.h>
@@ -45,6 +46,7 @@ struct Prepared {
   NetSpec spec;
   ParamLayout layout;
   TrainingRows rows;
+  TrainingRows held_out;  // validation rows early stopping scores (empty when it is off)
   ProbeSet probe;
   TrainSettings settings;
 };
@@ -103,6 +105,12 @@ Result<NamedArrays> state_template(const Prepared& p) {
   Result<std::unique_ptr<TablePotential>> potential = TablePotential::create(
       p.rows, p.layout, p.spec.prior, potential_settings_of(p.settings), p.settings.batches, 0);
   if (!potential.ok()) return potential.status();
+  if (p.settings.chains.early_stop.every > 0) {
+    NamedArrays early = early_stop_state_template(p.layout.num_params);
+    state.floats.merge(early.floats);
+    state.doubles.merge(early.doubles);
+    state.words.merge(early.words);
+  }
   NamedArrays model;
   (*potential)->save_state(model);
   for (auto& [name, values] : model.floats) state.floats[std::string(kModelStatePrefix) + name] = values;
@@ -159,7 +167,18 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
   }
 
   p.rows = gather_training_rows(data->x, data->labels, data->split.train);
+  if (request.budget_given) {
+    const std::string chosen = size_budget(p.settings, p.rows.x.cols(), *request.budget_given);
+    if (!chosen.empty()) log().info("{}", chosen);
+  }
   shape_optimizer_chains(p.settings, p.rows.x.cols());
+  if (request.budget_given) {
+    size_early_stop(p.settings, p.rows.x.cols(),
+                    static_cast<std::int64_t>(data->split.validation.size()), *request.budget_given);
+  }
+  if (p.settings.chains.early_stop.every > 0) {
+    p.held_out = gather_training_rows(data->x, data->labels, held_out_rows(data->split.validation));
+  }
   if (p.settings.init_seed == 0) p.settings.init_seed = p.settings.chains.seed + 1;
 
   RunHeader& h = p.header;
@@ -219,6 +238,9 @@ Result<Prepared> prepare_resume(const RunHeader& header, const std::string& data
   if (!layout.ok()) return layout.status();
   p.layout = *layout;
   p.rows = gather_training_rows(*x, *labels, header.train_rows);
+  if (p.settings.chains.early_stop.every > 0) {
+    p.held_out = gather_training_rows(*x, *labels, held_out_rows(header.val_rows));
+  }
   p.probe = gather_probe(*x, *labels, header.probe_rows);
   return p;
 }
@@ -419,6 +441,13 @@ PotentialFactory factory_of(const Prepared& p) {
   };
 }
 
+// The chain layout with early stopping's scorer attached (it reads p.held_out).
+ChainSettings chain_settings_of(const Prepared& p) {
+  ChainSettings chains = p.settings.chains;
+  if (chains.early_stop.every > 0) chains.early_stop.scorer = held_out_nll(p.layout, p.held_out);
+  return chains;
+}
+
 InitFn init_of(const Prepared& p) {
   return [&p](int chain, ThetaRef theta) {
     Eigen::VectorXf start(theta.size());
@@ -507,7 +536,7 @@ Status run_chains_into(Prepared& p, RunWriter& writer, const std::string& run_pa
 
   const std::atomic<bool>& stop = install_interrupt_handlers();
   RunControl control{.stop = &stop, .checkpoint_request = &writer_thread.checkpoint_request()};
-  Result<RunOutcome> outcome = run_chains(s.sampler, s.chains, p.layout.num_params,
+  Result<RunOutcome> outcome = run_chains(s.sampler, chain_settings_of(p), p.layout.num_params,
                                           factory_of(p), init_of(p), hooks, control, resume);
   Status written = writer_thread.stop();
   progress.finish(writer_thread.steps_done(), writer_thread.kept());
@@ -569,7 +598,7 @@ class ChainThread {
   ChainThread(const Prepared& p, const std::vector<int>& ids, std::vector<ChainCheckpoint> resume,
               ChainHooks hooks, RunControl control)
       : p_(p), hooks_(std::move(hooks)), control_(control), resume_(std::move(resume)) {
-    chains_ = p.settings.chains;
+    chains_ = chain_settings_of(p);
     chains_.chains = static_cast<int>(ids.size());
     chains_.chain_ids = ids;
     if (ids.empty()) {
@@ -631,6 +660,11 @@ void put_job(wire::Packer& out, const Prepared& p, const std::vector<ChainState>
   out.bytes().insert(out.bytes().end(), bytes,
                      bytes + static_cast<std::size_t>(p.rows.x.size()) * sizeof(float));
   out.put_vector(p.rows.labels);
+  out.put(static_cast<std::int64_t>(p.held_out.x.cols()));
+  const auto* held = reinterpret_cast<const char*>(p.held_out.x.data());
+  out.bytes().insert(out.bytes().end(), held,
+                     held + static_cast<std::size_t>(p.held_out.x.size()) * sizeof(float));
+  out.put_vector(p.held_out.labels);
   out.put(static_cast<std::uint64_t>(states.size()));
   for (const ChainState& state : states) wire::put_chain_state(out, state);
 }
@@ -648,8 +682,15 @@ Status get_job(wire::Unpacker& in, Prepared& p, std::vector<ChainState>& states)
     if (!in.get(v)) return garbled;
   }
   p.rows.x = Eigen::Map<const Eigen::MatrixXf>(x.data(), rows, cols);
+  std::int64_t held_cols = 0;
+  if (!in.get_vector(p.rows.labels) || !in.get(held_cols) || held_cols < 0) return garbled;
+  std::vector<float> held(static_cast<std::size_t>(rows * held_cols));
+  for (float& v : held) {
+    if (!in.get(v)) return garbled;
+  }
+  p.held_out.x = Eigen::Map<const Eigen::MatrixXf>(held.data(), rows, held_cols);
   std::uint64_t count = 0;
-  if (!in.get_vector(p.rows.labels) || !in.get(count)) return garbled;
+  if (!in.get_vector(p.held_out.labels) || !in.get(count)) return garbled;
   states.resize(static_cast<std::size_t>(count));
   for (ChainState& state : states) {
     if (!wire::get_chain_state(in, state)) return garbled;

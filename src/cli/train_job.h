@@ -2,10 +2,12 @@
 #pragma once
 
 #include <cstdint>
+#include <optional>
 #include <string>
 #include <variant>
 #include <vector>
 
+#include "cli/budget.h"
 #include "cli/data_options.h"
 #include "cli/run_settings.h"
 #include "credence/ensemble.h"
@@ -23,6 +25,9 @@ struct TrainRequest {
   std::string activation = "relu";
   double prior_scale = 1.0;     // --prior-scale (global weight scale s)
   TrainSettings settings;
+  /// Set (by `credence train`): size the budget flags not given from the table
+  /// (budget.h). Empty: use settings' budget as it is.
+  std::optional<BudgetGiven> budget_given;
   std::string out_path;         // --out RUN.h5
   bool force = false;           // overwrite an existing run file
   std::string resume_path;      // --resume RUN.h5: continue this run instead

@@ -11,6 +11,7 @@
 #include <string>
 
 #include "credence/samplers.h"
+#include "samplers/early_stop.h"
 #include "util/log.h"
 #include "util/rng.h"
 
@@ -106,6 +107,10 @@ class ChainRunner {
                         mix_seed(cx_.layout.seed, static_cast<std::uint64_t>(chain_)));
     if (!made.ok()) return made.status();
     sampler_ = std::move(*made);
+    if (cx_.layout.early_stop.every > 0) {
+      stopper_ = std::make_unique<samplers::EarlyStopper>(
+          cx_.layout.early_stop, cx_.parameters, cx_.layout.early_stop.scorer(chain_));
+    }
     theta_.resize(cx_.parameters);
     if (cx_.resume) {
       const std::string which = "resuming chain " + std::to_string(chain_);
@@ -114,10 +119,12 @@ class ChainRunner {
                                std::to_string(cx_.resume->theta.size()) +
                                " parameters; the network has " + std::to_string(cx_.parameters));
       }
-      NamedArrays sampler_state, model_state;
-      split_state(cx_.resume->state, sampler_state, model_state);
+      NamedArrays all_state = cx_.resume->state, early_state, sampler_state, model_state;
+      samplers::take_early_stop_state(all_state, early_state);
+      split_state(all_state, sampler_state, model_state);
       CREDENCE_RETURN_IF_ERROR(sampler_->restore_state(sampler_state).with_context(which));
       CREDENCE_RETURN_IF_ERROR(potential_->restore_state(model_state).with_context(which));
+      if (stopper_) CREDENCE_RETURN_IF_ERROR(stopper_->restore(early_state).with_context(which));
       theta_ = cx_.resume->theta;
       step_ = cx_.resume->next_step;
       kept_ = cx_.resume->kept;
@@ -168,6 +175,10 @@ class ChainRunner {
         std::lock_guard<std::mutex> lock(cx_.hook_mutex);
         cx_.hooks.on_trace(TraceRow{chain_, step_, report});
       }
+      if (stopper_) {
+        if (!check_early_stop(total)) return;
+        continue;
+      }
       // A cyclical schedule's exploration steps run at T = 0 and are never kept.
       const bool keep = step_ >= layout.burn_in &&
                         (step_ - layout.burn_in + 1) % layout.thin == 0 && !context.explore;
@@ -185,6 +196,30 @@ class ChainRunner {
       ++kept_;
       if (checkpoints) send(CheckpointCause::kKeptSample, step_ + 1);
     }
+  }
+
+  // Early stopping replaces the keep rule: score theta when due; when the chain should
+  // end, keep the best iterate and jump to the end of the budget, so the checkpoints
+  // that follow say the chain is done. False when the chain ends here.
+  bool check_early_stop(std::int64_t total) {
+    Result<bool> end = stopper_->after_step(step_, total, theta_);
+    if (!end.ok()) {
+      outcome_.end =
+          end.status().code() == StatusCode::kDiverged ? ChainEnd::kDiverged : ChainEnd::kFailed;
+      outcome_.reason = end.status().message();
+      outcome_.status = end.status();
+      return false;
+    }
+    if (!*end) return true;
+    if (cx_.hooks.on_sample) {
+      std::lock_guard<std::mutex> lock(cx_.hook_mutex);
+      cx_.hooks.on_sample(KeptSample{chain_, stopper_->best_step(), kept_, stopper_->best_theta()});
+    }
+    ++kept_;
+    outcome_.reason = stopper_->reason();
+    step_ = total;
+    if (cx_.hooks.on_checkpoint) send(CheckpointCause::kKeptSample, step_);
+    return false;
   }
 
   ChainOutcome finish() {
@@ -248,6 +283,7 @@ class ChainRunner {
     checkpoint_.gradient_evals = potential_->count();
     checkpoint_.theta = theta_;
     checkpoint_.state = sampler_->save_state();
+    if (stopper_) stopper_->save(checkpoint_.state);
     model_state_ = NamedArrays();
     potential_->save_state(model_state_);
     add_model_state(model_state_, checkpoint_.state);
@@ -275,6 +311,7 @@ class ChainRunner {
   const int chain_;
   std::unique_ptr<CountingPotential> potential_;
   std::unique_ptr<Sampler> sampler_;
+  std::unique_ptr<samplers::EarlyStopper> stopper_;  // optimizers with early stopping only
   const std::chrono::steady_clock::time_point started_ = std::chrono::steady_clock::now();
   double seconds_before_ = 0;  // run time of earlier sessions of a resumed chain
   Eigen::VectorXf theta_;  // (P)
@@ -332,6 +369,14 @@ Result<RunOutcome> run_chains(const SamplerSettings& settings, const ChainSettin
     }
   }
   if (!factory) return Status::invalid_input("run_chains needs a potential factory");
+  const EarlyStopSettings& early = chains.early_stop;
+  if (early.every < 0 || (early.every > 0 && (!early.scorer || early.patience < 1 ||
+                                              chains.thin != 1 || chains.samples != 1 ||
+                                              !(early.min_improvement >= 0)))) {
+    return Status::invalid_input(
+        "early stopping needs a scorer, patience >= 1, min_improvement >= 0 and the "
+        "optimizer layout of one kept sample (thin 1, samples 1)");
+  }
   if (!resume.empty() && resume.size() != static_cast<std::size_t>(chains.chains)) {
     return Status::invalid_input("resuming needs one checkpoint per chain: got " +
                                  std::to_string(resume.size()) + " for " +

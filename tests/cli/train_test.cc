@@ -16,6 +16,7 @@
 #include "credence/ensemble.h"
 #include "credence/net.h"
 #include "testing/process.h"
+#include "testing/kept_samples.h"
 #include "testing/read_text.h"
 #include "testing/run_command.h"
 #include "testing/seed.h"
@@ -62,29 +63,8 @@ class Train : public ::testing::Test {
 testing::TempDir* Train::dir_ = nullptr;
 std::string Train::data_;
 
-// Samples sorted by (chain, index), so runs can be compared whatever order the
-// writer saw them in.
-struct Samples {
-  std::vector<std::tuple<int, std::int64_t, std::vector<float>>> rows;
-};
-
-Samples read_samples(const std::string& run) {
-  Samples out;
-  auto reader = RunReader::open(run);
-  EXPECT_TRUE(reader.ok()) << reader.status().message();
-  if (!reader.ok()) return out;
-  auto theta = (*reader)->samples();
-  auto chains = (*reader)->sample_chains();
-  auto steps = (*reader)->sample_steps();
-  EXPECT_TRUE(theta.ok() && chains.ok() && steps.ok());
-  for (Eigen::Index s = 0; s < theta->cols(); ++s) {
-    std::vector<float> column(theta->col(s).data(), theta->col(s).data() + theta->rows());
-    out.rows.emplace_back((*chains)[static_cast<std::size_t>(s)],
-                          (*steps)[static_cast<std::size_t>(s)], std::move(column));
-  }
-  std::sort(out.rows.begin(), out.rows.end());
-  return out;
-}
+using Samples = testing::KeptSamples;
+Samples read_samples(const std::string& run) { return testing::read_kept_samples(run); }
 
 TEST_F(Train, WritesARunThatInspectReads) {
   const std::string run = path("basic.h5");

@@ -1,0 +1,76 @@
+// Table-sized default budgets (budget.h).
+#include "cli/budget.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+
+namespace credence::cli {
+namespace {
+
+using D = BudgetDefaults;
+
+// max(floor, passes * per_pass), capped; the cap never goes below the floor.
+std::int64_t in_passes(double passes, std::int64_t per_pass, std::int64_t floor, std::int64_t cap) {
+  const auto steps = static_cast<std::int64_t>(std::ceil(passes * static_cast<double>(per_pass)));
+  return std::min(std::max(floor, steps), std::max(floor, cap));
+}
+
+std::string passes_text(std::int64_t steps, std::int64_t per_pass) {
+  return fmt::format("{} steps = {:.3g} passes", steps,
+                     static_cast<double>(steps) / static_cast<double>(per_pass));
+}
+
+}  // namespace
+
+std::int64_t steps_per_pass(std::int64_t train_rows, std::int64_t batch_rows) {
+  const std::int64_t rows = std::max<std::int64_t>(1, train_rows);
+  const std::int64_t batch = std::clamp<std::int64_t>(batch_rows, 1, rows);
+  return (rows + batch - 1) / batch;
+}
+
+std::string size_budget(TrainSettings& s, std::int64_t train_rows, const BudgetGiven& given) {
+  const std::int64_t per_pass = steps_per_pass(train_rows, s.batches.batch_rows);
+  if (!is_sampler(s.sampler.method)) {
+    if (given.steps || given.epochs) return {};
+    s.steps = in_passes(D::kOptimizerPasses, per_pass, D::kOptimizerFloor, D::kOptimizerCap);
+    return fmt::format(
+        "budget sized to {} training rows ({} steps per pass): at most {} (default: "
+        "max({} steps, {:g} passes), at most {})",
+        train_rows, per_pass, passes_text(s.steps, per_pass), D::kOptimizerFloor,
+        D::kOptimizerPasses, D::kOptimizerCap);
+  }
+  ChainSettings& c = s.chains;
+  if (is_full_batch(s.sampler.method)) {
+    // hmc and rhmc read every row in each of their L leapfrog steps, and their
+    // Metropolis-corrected iterations mix far faster than minibatch steps: one
+    // iteration is already L passes, so their budget is iterations, not passes.
+    if (!given.burn_in) c.burn_in = D::kFullBatchBurnIn;
+    if (!given.thin) {
+      const std::int64_t samples = std::max<std::int64_t>(1, c.samples);
+      c.thin = std::max<std::int64_t>(1, (D::kFullBatchSampling + samples - 1) / samples);
+    }
+    if (given.burn_in && given.thin) return {};
+    return fmt::format("budget for {}: burn-in {} iterations, then {} samples thinned 1 in {}",
+                       method_name(s.sampler.method), c.burn_in, c.samples, c.thin);
+  }
+  if (!given.burn_in) {
+    c.burn_in = in_passes(D::kSamplerBurnInPasses, per_pass, D::kSamplerBurnInFloor,
+                          D::kSamplerPhaseCap);
+  }
+  if (!given.thin) {
+    const std::int64_t sampling = in_passes(D::kSamplerSamplingPasses, per_pass,
+                                            D::kSamplerSamplingFloor, D::kSamplerPhaseCap);
+    const std::int64_t samples = std::max<std::int64_t>(1, c.samples);
+    c.thin = std::max(D::kSamplerThinFloor, (sampling + samples - 1) / samples);
+  }
+  if (given.burn_in && given.thin) return {};
+  return fmt::format(
+      "budget sized to {} training rows ({} steps per pass): burn-in {}, then {} samples "
+      "thinned 1 in {} ({})",
+      train_rows, per_pass, passes_text(c.burn_in, per_pass), c.samples, c.thin,
+      passes_text(c.thin * c.samples, per_pass));
+}
+
+}  // namespace credence::cli
