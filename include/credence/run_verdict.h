@@ -21,9 +21,10 @@
 //                for every row gives each class exactly pi_k, summing to <= 1; one that
 //                tells the classes apart gives more).
 //   pinned       optimizers: the kept weights against the prior's scale. A layer whose
-//                ||theta_l||^2 is below kPinnedNormRatio times its prior expectation
-//                (out*in*sigma_w^2 + out*sigma_b^2) has been pulled to zero by the prior:
-//                the root-mean-square weight is under a tenth of the prior's scale.
+//                ||W_l||^2 (weights only: biases have a scale of their own) is below
+//                kPinnedNormRatio times its prior expectation out*in*sigma_w^2 has been
+//                pulled to zero by the prior: its root-mean-square weight is under a
+//                tenth of the prior's standard deviation.
 //   mixing       samplers: the smallest bulk-ESS of the function-space summaries against
 //                the target (kEssPerChainThreshold per chain, 400 for four chains), and
 //                at the current rate (bulk-ESS per step after burn-in) about how many
@@ -63,7 +64,7 @@ inline constexpr long kDriftMinRowsPerHalf = 8;
 inline constexpr double kConstantLogOddsSd = 0.1;
 /// constant: ... and class means of the own-label probability summing to <= 1 + this (ours).
 inline constexpr double kConstantSumSlack = 0.05;
-/// pinned: ||theta_l||^2 below this fraction of its prior expectation (ours).
+/// pinned: ||W_l||^2 below this fraction of its prior expectation (ours).
 inline constexpr double kPinnedNormRatio = 0.01;
 
 /// Everything the checks read, per run. Chains are in kept order (see diagnostics.h).
@@ -79,9 +80,13 @@ struct RunEvidence {
   std::vector<Chains> probe_prob;  // (R) per probe row: p(y_r | x_r, theta) per chain
   /// (R) each probe row's label; empty when unknown (the constant check then does not apply).
   std::vector<std::int32_t> probe_labels;
-  std::vector<Chains> layer_sq_norm;  // (L) per layer
-  /// (L) E||theta_l||^2 under the prior; empty when unknown (pinned does not apply).
-  std::vector<double> layer_prior_sq_norm;
+  std::vector<Chains> layer_sq_norm;  // (L) per layer: ||W_l||^2 + ||b_l||^2
+  /// (L) mean over the kept samples of ||W_l||^2, weights only; empty when not read
+  /// (gather_run_evidence reads it for optimizers only).
+  std::vector<double> layer_weight_sq_norm;
+  /// (L) E||W_l||^2 under the prior, out*in*sigma_w^2; empty when unknown (pinned then
+  /// does not apply).
+  std::vector<double> layer_prior_weight_sq_norm;
 };
 
 enum class CheckOutcome { kPassed, kFailed, kNotApplied };
@@ -118,8 +123,9 @@ std::vector<std::string> verdict_lines(const RunVerdict& verdict, bool all = fal
 
 /// Reads a run file's traces (after burn-in), kept-sample summaries and prior for
 /// judge_run; `probe_labels` are the labels of header().probe_rows, or empty when the
-/// caller does not have the data. The prior's expectation is left empty when the run's
-/// net text does not give fixed scales. kInvalidInput when the run has no samples.
+/// caller does not have the data. Weight norms are read for optimizers only; the prior's
+/// expectation is left empty when the run's net text does not resolve to fixed scales.
+/// kInvalidInput when the run has no samples.
 Result<RunEvidence> gather_run_evidence(const RunReader& run,
                                         std::span<const std::int32_t> probe_labels = {});
 

@@ -91,6 +91,8 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
     outcome.entry = entry;
     TrainRequest train = request_for(request, entry, *budget);
     outcome.run_path = train.out_path;
+    std::optional<RunVerdict> verdict;
+    train.verdict = &verdict;
     Status trained = run_train(train);
     if (trained.code() == StatusCode::kInterrupted || trained.code() == StatusCode::kInvalidInput) {
       return trained;  // Ctrl-C stops the whole comparison; bad input is the user's to fix
@@ -108,6 +110,7 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
       outcome.diverged = outcome.diverged || status == ChainStatus::kDiverged;
     }
     outcome.run = std::move(*run);
+    outcome.run->verdict = std::move(verdict);
     outcomes.push_back(std::move(outcome));
   }
   return outcomes;

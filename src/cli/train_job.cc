@@ -14,6 +14,7 @@
 
 #include <chrono>
 #include <condition_variable>
+#include <cstdio>
 #include <ctime>
 #include <mutex>
 #include <numeric>
@@ -26,6 +27,7 @@
 #include "cli/mpi_world.h"
 #endif
 #include "cli/progress.h"
+#include "cli/verdict_output.h"
 #include "credence/ensemble.h"
 #include "credence/summaries.h"
 #include "credence/table_potential.h"
@@ -1049,7 +1051,17 @@ Status run_train(const TrainRequest& request) {
   }
   const std::string& run_path =
       request.resume_path.empty() ? request.out_path : request.resume_path;
-  return run_chains_into(prepared, *writer, run_path, std::move(resume), request.quiet);
+  Status status = run_chains_into(prepared, *writer, run_path, std::move(resume), request.quiet);
+  writer.reset();  // closed, so that the verdict can read the file
+  if (status.ok()) {
+    std::optional<RunVerdict> verdict = judge_run_file(run_path, prepared.probe.labels);
+    if (request.verdict != nullptr) {
+      *request.verdict = std::move(verdict);
+    } else if (verdict) {
+      std::fputs(verdict_text(*verdict).c_str(), stdout);
+    }
+  }
+  return status;
 }
 
 }  // namespace credence::cli

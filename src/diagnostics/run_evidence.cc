@@ -10,26 +10,30 @@
 namespace credence {
 namespace {
 
-// E||theta_l||^2 under the run's prior, per layer: out*in*sigma_w^2 + out*sigma_b^2.
-// Empty when the net text does not resolve to a fixed Gaussian prior.
-std::vector<double> prior_sq_norms(const RunHeader& header) {
+// Mean ||W_l||^2 over the kept samples and its prior expectation out*in*sigma_w^2, per
+// layer; both left empty when the net text does not resolve to a fixed Gaussian prior.
+Status read_weight_norms(const RunReader& run, RunEvidence& e) {
+  const RunHeader& header = run.header();
   Result<NetSpec> spec = parse_net_text(header.net_text, "the run file's net");
-  if (!spec.ok()) return {};
+  if (!spec.ok()) return Status::ok_status();
   Result<ParamLayout> layout =
       resolve_layout(*spec, static_cast<Index>(header.preprocessing.input_width),
                      static_cast<Index>(header.preprocessing.class_names.size()));
-  if (!layout.ok()) return {};
+  if (!layout.ok() || layout->num_params != header.parameters) return Status::ok_status();
   Result<GaussianPrior> prior = GaussianPrior::create(spec->prior, *layout);
-  if (!prior.ok()) return {};
-  std::vector<double> out;
+  if (!prior.ok()) return Status::ok_status();
+  Result<Eigen::MatrixXf> theta = run.samples();
+  if (!theta.ok()) return theta.status();
+  if (theta->cols() == 0) return Status::ok_status();
   for (std::size_t l = 0; l < layout->layers.size(); ++l) {
     const LayerLayout& layer = layout->layers[l];
-    const LayerPriorSigma& sigma = prior->sigmas()[l];
-    const auto out_width = static_cast<double>(layer.out);
-    out.push_back(out_width * static_cast<double>(layer.in) * sigma.weight_sigma * sigma.weight_sigma +
-                  out_width * sigma.bias_sigma * sigma.bias_sigma);
+    const Index size = layer.out * layer.in;
+    const double sum = theta->middleRows(layer.weight_offset, size).cast<double>().squaredNorm();
+    e.layer_weight_sq_norm.push_back(sum / static_cast<double>(theta->cols()));
+    const double sigma = prior->sigmas()[l].weight_sigma;
+    e.layer_prior_weight_sq_norm.push_back(static_cast<double>(size) * sigma * sigma);
   }
-  return out;
+  return Status::ok_status();
 }
 
 }  // namespace
@@ -71,8 +75,8 @@ Result<RunEvidence> gather_run_evidence(const RunReader& run,
   if (probe_labels.size() == static_cast<std::size_t>(prob->rows())) {
     e.probe_labels.assign(probe_labels.begin(), probe_labels.end());
   }
-  e.layer_prior_sq_norm = prior_sq_norms(header);
-  if (e.layer_prior_sq_norm.size() != e.layer_sq_norm.size()) e.layer_prior_sq_norm.clear();
+  // Optimizers keep one point per restart, so reading theta is cheap; samplers skip it.
+  if (!e.sampler) CREDENCE_RETURN_IF_ERROR(read_weight_norms(run, e));
 
   for (int c = 0; c < e.chains; ++c) {
     Result<std::vector<TraceRecord>> trace = run.traces(c);

@@ -127,33 +127,27 @@ VerdictCheck check_constant(const RunEvidence& e) {
 
 VerdictCheck check_pinned(const RunEvidence& e) {
   if (e.sampler) return not_applied("pinned", "samplers draw weights from the posterior, not its mode");
-  if (e.layer_prior_sq_norm.size() != e.layer_sq_norm.size() || e.layer_sq_norm.empty()) {
+  if (e.layer_prior_weight_sq_norm.size() != e.layer_weight_sq_norm.size() ||
+      e.layer_weight_sq_norm.empty()) {
     return not_applied("pinned", "the prior's scale is not fixed in this run");
   }
   double smallest = kNaN;
   std::size_t at = 0;
-  for (std::size_t l = 0; l < e.layer_sq_norm.size(); ++l) {
-    double sum = 0;
-    long count = 0;
-    for (const auto& chain : e.layer_sq_norm[l]) {
-      for (double v : chain) {
-        if (std::isfinite(v)) sum += v, ++count;
-      }
-    }
-    if (count == 0 || !(e.layer_prior_sq_norm[l] > 0)) continue;
-    const double ratio = sum / static_cast<double>(count) / e.layer_prior_sq_norm[l];
+  for (std::size_t l = 0; l < e.layer_weight_sq_norm.size(); ++l) {
+    if (!std::isfinite(e.layer_weight_sq_norm[l]) || !(e.layer_prior_weight_sq_norm[l] > 0)) continue;
+    const double ratio = e.layer_weight_sq_norm[l] / e.layer_prior_weight_sq_norm[l];
     if (std::isnan(smallest) || ratio < smallest) smallest = ratio, at = l;
   }
   if (std::isnan(smallest)) return not_applied("pinned", "no finite layer norms");
   if (smallest < kPinnedNormRatio) {
     return {"pinned", CheckOutcome::kFailed, smallest, kPinnedNormRatio,
-            fmt::format("layer {}'s squared norm is {:.2g} of what its prior expects (root-mean-"
-                        "square weight {:.2g} of the prior's scale, below {:.2g}): the prior "
+            fmt::format("layer {}'s squared weight norm is {:.2g} of what its prior expects "
+                        "(root-mean-square weight {:.2g} of the prior's sd, below {:.2g}): the prior "
                         "has pinned the weights near zero; raise --prior-scale or give more rows",
                         at, smallest, std::sqrt(smallest), std::sqrt(kPinnedNormRatio))};
   }
   return {"pinned", CheckOutcome::kPassed, smallest, kPinnedNormRatio,
-          fmt::format("every layer's squared norm is at least {:.2g} of its prior expectation "
+          fmt::format("every layer's squared weight norm is at least {:.2g} of its prior expectation "
                       "(threshold {})", smallest, kPinnedNormRatio)};
 }
 

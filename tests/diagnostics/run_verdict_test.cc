@@ -51,7 +51,8 @@ RunEvidence mixed_sampler(std::mt19937_64& rng) {
     e.probe_labels.push_back(r % 2);
   }
   for (int l = 0; l < 2; ++l) e.layer_sq_norm.push_back(iid_chains(4, 500, rng, 10, 1));
-  e.layer_prior_sq_norm = {10, 10};
+  e.layer_weight_sq_norm = {9, 9};
+  e.layer_prior_weight_sq_norm = {9, 9};
   return e;
 }
 
@@ -146,10 +147,12 @@ RunEvidence optimizer(double norm_fraction) {
   e.chains = 4;
   e.probe_log_lik = Chains(4, std::vector<double>{-2.0});
   for (int l = 0; l < 3; ++l) {
-    // Layer 1 holds norm_fraction of its prior expectation; the others all of it.
+    // Layer 1's weights hold norm_fraction of their prior expectation; the others all of
+    // it. The layer norms with biases (here at the prior's full scale) do not enter.
     const double prior = 20.0 * (l + 1);
-    e.layer_sq_norm.push_back(Chains(4, std::vector<double>{l == 1 ? norm_fraction * prior : prior}));
-    e.layer_prior_sq_norm.push_back(prior);
+    e.layer_sq_norm.push_back(Chains(4, std::vector<double>{prior + 5}));
+    e.layer_weight_sq_norm.push_back(l == 1 ? norm_fraction * prior : prior);
+    e.layer_prior_weight_sq_norm.push_back(prior);
   }
   return e;
 }
@@ -166,7 +169,7 @@ TEST(RunVerdict, OptimizerPinnedByThePrior) {
     EXPECT_EQ(outcome(pinned, name), CheckOutcome::kNotApplied) << name;
   }
   RunEvidence unknown_prior = optimizer(1e-4);
-  unknown_prior.layer_prior_sq_norm.clear();
+  unknown_prior.layer_prior_weight_sq_norm.clear();
   EXPECT_EQ(judge_run(unknown_prior).find("pinned")->outcome, CheckOutcome::kNotApplied);
 }
 
