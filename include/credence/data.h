@@ -256,6 +256,13 @@ Result<Split> stratified_split(std::span<const std::int32_t> labels, int num_cla
 /// line naming them. REQUIRES: schema from infer_schema(table, ...).
 std::int64_t cover_levels_in_train(Split& split, const Table& table, const Schema& schema);
 
+/// A class with fewer rows than this is too small to trust (ours: "a handful").
+inline constexpr std::int64_t kFewClassRows = 5;
+/// Warns through credence's log, once per process for each: a class with fewer than
+/// kFewClassRows rows, and a non-empty split part (training, validation, test) holding
+/// no row of some class; each message names the counts. `source` names the table.
+void warn_small_data(const Schema& schema, const Split& split, std::string_view source);
+
 // ---------------------------------------------------------------------------
 // Preprocessing
 // ---------------------------------------------------------------------------

@@ -33,6 +33,7 @@
 #include "credence/table_potential.h"
 #include "credence/version.h"
 #include "util/log.h"
+#include "util/warn_once.h"
 
 #ifdef CREDENCE_HAVE_BLAS
 extern "C" void openblas_set_num_threads(int);
@@ -161,6 +162,13 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
   }
 
   p.rows = gather_training_rows(data->x, data->labels, data->split.train);
+  if (p.layout.num_params > kParametersPerRowWarning * p.rows.x.cols()) {
+    warn_once(fmt::format("{} parameters for {} training rows ({:.0f} per row, more than {}): the "
+                          "prior, not the data, decides most weights; a smaller network "
+                          "(--hidden) or more rows is safer", p.layout.num_params,
+                          p.rows.x.cols(), static_cast<double>(p.layout.num_params) /
+                          static_cast<double>(p.rows.x.cols()), kParametersPerRowWarning));
+  }
   shape_optimizer_chains(p.settings, p.rows.x.cols());
   if (p.settings.init_seed == 0) p.settings.init_seed = p.settings.chains.seed + 1;
 

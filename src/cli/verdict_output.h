@@ -13,6 +13,14 @@
 
 namespace credence::cli {
 
+// Small-data warnings of the CLI (ours, common practice with no single source): bootstrap
+// intervals on fewer rows than this are rough (the usual "about 30" for resampling).
+inline constexpr std::size_t kFewBootstrapRows = 30;
+// A temperature fitted on fewer validation rows than this may not carry over.
+inline constexpr std::size_t kFewTemperatureRows = 50;
+// A network with this many times more parameters than training rows leans on its prior.
+inline constexpr std::int64_t kParametersPerRowWarning = 10;
+
 /// Opens `run_path` and judges it; `probe_labels` are the labels of its probe rows, or
 /// empty when unknown. A run that cannot be judged logs a warning and gives nothing: the
 /// verdict is information, never a failure of the command.
