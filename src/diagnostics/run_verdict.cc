@@ -205,13 +205,19 @@ VerdictCheck check_mixing(const RunEvidence& e, const Agreement& predictions,
   const double steps = static_cast<double>(draws) * static_cast<double>(std::max<std::int64_t>(1, e.thin));
   const double rate = ess / steps;
   more_steps = static_cast<std::int64_t>(std::ceil((target - ess) / std::max(rate, 1e-300)));
+  // Few draws make the ESS, and so the rate, unstable (diagnostics.h).
+  const std::string rough =
+      draws / 2 < kMinDrawsPerSplitChain
+          ? fmt::format(" (a rough figure: {} kept samples per chain, under {} per half-chain)",
+                        draws, kMinDrawsPerSplitChain)
+          : "";
   return {"mixing", CheckOutcome::kFailed, ess, target,
           fmt::format("NOT mixed: smallest bulk-ESS {:.0f} of the target {:.0f} ({} per chain) "
                       "after {:.0f} steps per chain past burn-in ({:.3g} ESS per step); at this "
                       "rate about {} more steps per chain ({} more kept samples at thin {}) "
-                      "reach it",
+                      "reach it{}",
                       ess, target, kEssPerChainThreshold, steps, rate, *more_steps,
-                      (*more_steps + e.thin - 1) / std::max<std::int64_t>(1, e.thin), e.thin)};
+                      (*more_steps + e.thin - 1) / std::max<std::int64_t>(1, e.thin), e.thin, rough)};
 }
 
 }  // namespace

@@ -194,6 +194,13 @@ TEST(RunVerdict, SlowChainsAreNotMixedWithStepsToGo) {
   EXPECT_NE(mixing->message.find(std::to_string(*v.more_steps_per_chain) + " more steps"), std::string::npos)
       << mixing->message;
   EXPECT_NE(v.headline.find("more steps per chain"), std::string::npos) << v.headline;
+  EXPECT_EQ(mixing->message.find("rough"), std::string::npos) << "200 draws per chain are enough";
+
+  // 40 draws per chain (20 per half-chain): the figure is marked rough.
+  for (auto& chain : e.probe_log_lik) chain.resize(40);
+  const VerdictCheck* few = judge_run(e).find("mixing");
+  ASSERT_EQ(few->outcome, CheckOutcome::kFailed);
+  EXPECT_NE(few->message.find("a rough figure: 40 kept samples per chain"), std::string::npos) << few->message;
 }
 
 TEST(RunVerdict, TooFewKeptSamplesFailMixing) {
