@@ -246,6 +246,23 @@ struct Split {
 Result<Split> stratified_split(std::span<const std::int32_t> labels, int num_classes,
                                const SplitOptions& options);
 
+/// After a split of `table`: for every level of a categorical feature (and, under
+/// ImputeMethod::kMedian, a missing cell, which becomes a level) that no training row
+/// holds, moves the lowest-numbered held-out row that has it (validation first, then
+/// test) into the training rows, so that a level which only the split's chance kept out
+/// of training is never reported as the user's error. Part sizes then differ from the
+/// fractions by the rows moved; with --unseen error, a level present only in another
+/// file is still refused at predict time. Returns the number of rows moved and logs one
+/// line naming them. REQUIRES: schema from infer_schema(table, ...).
+std::int64_t cover_levels_in_train(Split& split, const Table& table, const Schema& schema);
+
+/// A class with fewer rows than this is too small to trust (ours: "a handful").
+inline constexpr std::int64_t kFewClassRows = 5;
+/// Warns through credence's log, once per process for each: a class with fewer than
+/// kFewClassRows rows, and a non-empty split part (training, validation, test) holding
+/// no row of some class; each message names the counts. `source` names the table.
+void warn_small_data(const Schema& schema, const Split& split, std::string_view source);
+
 // ---------------------------------------------------------------------------
 // Preprocessing
 // ---------------------------------------------------------------------------

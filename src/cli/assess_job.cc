@@ -7,7 +7,9 @@
 #include <numeric>
 
 #include "cli/run_settings.h"
+#include "cli/verdict_output.h"
 #include "util/log.h"
+#include "util/warn_once.h"
 
 namespace credence::cli {
 namespace {
@@ -201,6 +203,11 @@ Result<AssessJobResult> run_assess_job(const RunReader& run, const std::string& 
         result.split_name));
   }
   result.labels = pick(*labels, result.rows);
+  if (options.metrics.bootstrap.resamples > 0 && result.rows.size() < kFewBootstrapRows) {
+    warn_once(fmt::format("{}: bootstrap intervals rest on only {} {} rows (fewer than {}): "
+                          "read them as rough", data_path,
+                          result.rows.size(), result.split_name, kFewBootstrapRows));
+  }
 
   PredictorOptions predictor_options;
   predictor_options.samples = options.samples;
@@ -242,6 +249,11 @@ Result<AssessJobResult> run_assess_job(const RunReader& run, const std::string& 
     if (!fit.ok()) return fit.status();
     result.fit = *fit;
     result.val_rows = static_cast<std::int64_t>(header.val_rows.size());
+    if (header.val_rows.size() < kFewTemperatureRows) {
+      warn_once(fmt::format("temperature {:.3g} fitted on only {} validation rows (fewer than "
+                            "{}): it may not carry over to new rows", fit->temperature,
+                            header.val_rows.size(), kFewTemperatureRows));
+    }
     Result<ScoredEnsemble> calibrated =
         score(*predictor, *x, result.labels, fit->temperature, options);
     if (!calibrated.ok()) return calibrated.status();

@@ -6,6 +6,7 @@
 
 #include "cli/commands.h"
 #include "cli/compare_flags.h"
+#include "cli/verdict_output.h"
 
 namespace credence::cli {
 namespace {
@@ -34,6 +35,10 @@ Status run_compare_command(const CompareFlags& flags, const GlobalOptions& globa
   const TextTable table = score_table(runs);
   std::string text = fmt::format("compare on {} (test rows: {})\n\n{}", flags.data_path,
                                  runs.front().assessment.rows.size(), render_text(table));
+  text += "\n";
+  for (const MethodRun& run : runs) {
+    if (run.verdict) text += verdict_text(*run.verdict, run.label);
+  }
   if (!failures.empty()) text += "\n" + failures;
   for (const CompareOutcome& o : *outcomes) {
     if (!o.budget_note.empty()) text += fmt::format("\nnote, {}: {}\n", o.entry.label, o.budget_note);

@@ -9,6 +9,7 @@
 
 #include "cli/commands.h"
 #include "cli/json.h"
+#include "cli/verdict_output.h"
 #include "credence/ensemble.h"
 #include "credence/run_diagnostics.h"
 #include "util/atomic_file.h"
@@ -203,10 +204,23 @@ Status run_diagnose(const DiagnoseOptions& options) {
   if (!diagnostics.ok()) {
     return diagnostics.status().with_context(fmt::format("diagnosing {}", options.run_path));
   }
-  const std::string text = text_report(options.run_path, *diagnostics, options.all);
+  // The end-of-run checks; without the data the probe rows' labels are unknown, so the
+  // constant-prediction check is left to train and compare.
+  std::optional<RunVerdict> verdict;
+  if (Result<RunEvidence> evidence = gather_run_evidence(**reader); evidence.ok()) {
+    verdict = judge_run(*evidence);
+  }
+  std::string text = text_report(options.run_path, *diagnostics, options.all);
+  if (verdict) text += "\n" + verdict_text(*verdict);
   std::fwrite(text.data(), 1, text.size(), stdout);
   if (!options.json_path.empty()) {
-    return write_file_atomically(options.json_path, json_report(options.run_path, *diagnostics));
+    std::string json = json_report(options.run_path, *diagnostics);
+    if (verdict) {
+      JsonWriter j;
+      write_verdict(j, *verdict);
+      json = json.substr(0, json.rfind('}')) + ", \"run_verdict\": " + j.str() + "}\n";
+    }
+    return write_file_atomically(options.json_path, json);
   }
   return Status::ok_status();
 }

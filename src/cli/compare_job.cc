@@ -125,6 +125,8 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
     TrainRequest train = request_for(request, entry, *budget);
     outcome.run_path = train.out_path;
     if (is_sampler(entry.method)) outcome.budget_note = sampler_share(budget->steps, request.samples).note;
+    std::optional<RunVerdict> verdict;
+    train.verdict = &verdict;
     Status trained = run_train(train);
     if (trained.code() == StatusCode::kInterrupted || trained.code() == StatusCode::kInvalidInput) {
       return trained;  // Ctrl-C stops the whole comparison; bad input is the user's to fix
@@ -143,6 +145,7 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
     }
     run->budget_note = outcome.budget_note;
     outcome.run = std::move(*run);
+    outcome.run->verdict = std::move(verdict);
     outcomes.push_back(std::move(outcome));
   }
   return outcomes;

@@ -8,6 +8,7 @@
 #include <limits>
 
 #include "cli/json.h"
+#include "cli/verdict_output.h"
 #include "credence/plot.h"
 #include "credence/version.h"
 #include "util/log.h"
@@ -399,6 +400,7 @@ std::string score_json(const std::vector<MethodRun>& runs) {
     j.key("mixing").value(run.diagnostics
                               ? std::string(mixing_verdict_name(run.diagnostics->verdict))
                               : std::string("not_applicable"));
+    if (run.verdict) write_verdict(j.key("verdict"), *run.verdict);
     if (run.assessment.scored.truth) {
       j.key("truth_kl").value(run.assessment.scored.truth->kl);
       j.key("truth_mae").value(run.assessment.scored.truth->mae);

@@ -10,6 +10,7 @@
 #include "credence/ensemble.h"
 #include "credence/html_report.h"
 #include "credence/run_diagnostics.h"
+#include "credence/run_verdict.h"
 
 namespace credence::cli {
 
@@ -25,6 +26,7 @@ struct MethodRun {
   double seconds = 0;                            // wall seconds of sampling, all chains
   std::int64_t gradient_evals = 0;               // all chains
   std::string budget_note;  // compare: why this method got less than asked (empty: nothing cut)
+  std::optional<RunVerdict> verdict;             // end-of-run checks, when compare trained it
 };
 
 /// Opens `run_path`, assesses it on `data_path` and diagnoses it. Errors as

@@ -15,6 +15,7 @@
 
 #include <chrono>
 #include <condition_variable>
+#include <cstdio>
 #include <ctime>
 #include <mutex>
 #include <numeric>
@@ -27,11 +28,13 @@
 #include "cli/mpi_world.h"
 #endif
 #include "cli/progress.h"
+#include "cli/verdict_output.h"
 #include "credence/ensemble.h"
 #include "credence/summaries.h"
 #include "credence/table_potential.h"
 #include "credence/version.h"
 #include "util/log.h"
+#include "util/warn_once.h"
 
 #ifdef CREDENCE_HAVE_BLAS
 extern "C" void openblas_set_num_threads(int);
@@ -170,6 +173,13 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
   if (request.budget_given) {
     const std::string chosen = size_budget(p.settings, p.rows.x.cols(), *request.budget_given);
     if (!chosen.empty()) log().info("{}", chosen);
+  }
+  if (p.layout.num_params > kParametersPerRowWarning * p.rows.x.cols()) {
+    warn_once(fmt::format("{} parameters for {} training rows ({:.0f} per row, more than {}): the "
+                          "prior, not the data, decides most weights; a smaller network "
+                          "(--hidden) or more rows is safer", p.layout.num_params,
+                          p.rows.x.cols(), static_cast<double>(p.layout.num_params) /
+                          static_cast<double>(p.rows.x.cols()), kParametersPerRowWarning));
   }
   shape_optimizer_chains(p.settings, p.rows.x.cols());
   if (request.budget_given) {
@@ -1090,7 +1100,17 @@ Status run_train(const TrainRequest& request) {
   }
   const std::string& run_path =
       request.resume_path.empty() ? request.out_path : request.resume_path;
-  return run_chains_into(prepared, *writer, run_path, std::move(resume), request.quiet);
+  Status status = run_chains_into(prepared, *writer, run_path, std::move(resume), request.quiet);
+  writer.reset();  // closed, so that the verdict can read the file
+  if (status.ok()) {
+    std::optional<RunVerdict> verdict = judge_run_file(run_path, prepared.probe.labels);
+    if (request.verdict != nullptr) {
+      *request.verdict = std::move(verdict);
+    } else if (verdict) {
+      std::fputs(verdict_text(*verdict).c_str(), stdout);
+    }
+  }
+  return status;
 }
 
 }  // namespace credence::cli

@@ -12,6 +12,7 @@
 #include "cli/run_settings.h"
 #include "credence/ensemble.h"
 #include "credence/net.h"
+#include "credence/run_verdict.h"
 #include "credence/status.h"
 
 namespace credence::cli {
@@ -34,6 +35,8 @@ struct TrainRequest {
   std::string command_line;     // for provenance
   bool quiet = false;
   std::string max_memory;       // --max-memory (empty: 80% of physical memory)
+  /// When set (compare), receives the end-of-run verdict instead of it being printed.
+  std::optional<RunVerdict>* verdict = nullptr;
 };
 
 /// A kept sample on its way from a chain to the writer.

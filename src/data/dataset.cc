@@ -22,6 +22,8 @@ Result<Dataset> load_dataset(const std::string& path, const DataOptions& options
   Result<Split> split = stratified_split(data.schema.labels, data.schema.num_classes(), options.split);
   if (!split.ok()) return split.status().with_context(data.table.source);
   data.split = std::move(*split);
+  cover_levels_in_train(data.split, data.table, data.schema);
+  warn_small_data(data.schema, data.split, data.table.source);
 
   Result<Preprocessing> fitted =
       fit_preprocessing(data.table, data.schema, data.split.train, options.preprocess);

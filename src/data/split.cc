@@ -5,6 +5,7 @@
 
 #include "credence/data.h"
 #include "data/shuffle.h"
+#include "util/log.h"
 
 namespace credence {
 
@@ -87,6 +88,58 @@ Result<Split> stratified_split(std::span<const std::int32_t> labels, int num_cla
         labels.size()));
   }
   return split;
+}
+
+}  // namespace credence
+
+namespace credence {
+
+std::int64_t cover_levels_in_train(Split& split, const Table& table, const Schema& schema) {
+  std::vector<std::int64_t> moved;
+  std::string named;  // the first few column=level pairs, for the log line
+  for (const ColumnSchema& c : schema.columns) {
+    if (c.role != ColumnRole::kFeature || c.type != ColumnType::kCategorical) continue;
+    const TableColumn& column = table.columns[static_cast<std::size_t>(c.index)];
+    // Level codes with one slot more for a missing cell (code -1), a level under median
+    // imputation.
+    const bool missing_is_level = schema.impute == ImputeMethod::kMedian;
+    const std::size_t slots = column.levels.size() + 1;
+    auto slot_of = [&](std::int64_t row) -> std::ptrdiff_t {
+      const std::int32_t code = column.codes[static_cast<std::size_t>(row)];
+      if (code >= 0) return code;
+      return missing_is_level ? static_cast<std::ptrdiff_t>(column.levels.size()) : -1;
+    };
+    std::vector<bool> in_train(slots, false);
+    for (std::int64_t row : split.train) {
+      if (const std::ptrdiff_t s = slot_of(row); s >= 0) in_train[static_cast<std::size_t>(s)] = true;
+    }
+    for (std::vector<std::int64_t>* part : {&split.validation, &split.test}) {
+      for (auto it = part->begin(); it != part->end();) {
+        const std::ptrdiff_t s = slot_of(*it);
+        if (s < 0 || in_train[static_cast<std::size_t>(s)]) {
+          ++it;
+          continue;
+        }
+        in_train[static_cast<std::size_t>(s)] = true;
+        if (moved.size() < 3) {
+          named += fmt::format("{}'{}' = '{}'", named.empty() ? "" : ", ", column.name,
+                               static_cast<std::size_t>(s) < column.levels.size()
+                                   ? column.levels[static_cast<std::size_t>(s)]
+                                   : std::string(kMissingLevel));
+        }
+        moved.push_back(*it);
+        split.train.insert(std::lower_bound(split.train.begin(), split.train.end(), *it), *it);
+        it = part->erase(it);
+      }
+    }
+  }
+  if (!moved.empty()) {
+    log().info("{}: {} held-out row{} moved into the training rows so that every category level "
+               "is seen in training ({}{}); the split had left {} out by chance",
+               table.source, moved.size(), moved.size() == 1 ? "" : "s", named,
+               moved.size() > 3 ? ", ..." : "", moved.size() == 1 ? "it" : "them");
+  }
+  return static_cast<std::int64_t>(moved.size());
 }
 
 }  // namespace credence

@@ -9,48 +9,17 @@
 #include <numeric>
 #include <variant>
 
+#include "diagnostics/run_columns.h"
+
 namespace credence {
 namespace {
 
+using diagnostics::chains_of;
+using diagnostics::chains_of_row;
+using diagnostics::columns_by_chain;
+using diagnostics::setting;
+
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
-
-template <typename T>
-std::optional<T> setting(const Settings& settings, std::string_view name) {
-  for (const auto& [key, value] : settings) {
-    if (key == name && std::holds_alternative<T>(value)) return std::get<T>(value);
-  }
-  return std::nullopt;
-}
-
-// Sample columns of each chain, ordered by kept number. (C) lists of column indices.
-std::vector<std::vector<Eigen::Index>> columns_by_chain(int chains,
-                                                        const std::vector<std::int32_t>& chain_of,
-                                                        const std::vector<std::int64_t>& index_of) {
-  std::vector<std::vector<Eigen::Index>> columns(static_cast<std::size_t>(chains));
-  for (std::size_t s = 0; s < chain_of.size(); ++s) {
-    const int c = chain_of[s];
-    if (c >= 0 && c < chains) columns[static_cast<std::size_t>(c)].push_back(static_cast<Eigen::Index>(s));
-  }
-  for (auto& list : columns) {
-    std::sort(list.begin(), list.end(), [&](Eigen::Index a, Eigen::Index b) {
-      return index_of[static_cast<std::size_t>(a)] < index_of[static_cast<std::size_t>(b)];
-    });
-  }
-  return columns;
-}
-
-// Row `row` of a (rows, S) matrix, split into chains.
-Chains chains_of_row(const Eigen::MatrixXf& values, Eigen::Index row,
-                     const std::vector<std::vector<Eigen::Index>>& columns) {
-  Chains out;
-  for (const auto& list : columns) {
-    std::vector<double> chain;
-    chain.reserve(list.size());
-    for (Eigen::Index s : list) chain.push_back(static_cast<double>(values(row, s)));
-    out.push_back(std::move(chain));
-  }
-  return out;
-}
 
 // What the mean speed ratio says about the mass (METHODS.md 5.2 table and 5.6-5.7): the
 // default target is E|v|/c = 0.5; near 1 every coordinate moves at the speed cap.
@@ -166,15 +135,7 @@ Result<RunDiagnostics> diagnose_run(const RunReader& run) {
 
   Result<std::vector<double>> log_lik = run.probe_log_lik();
   if (!log_lik.ok()) return log_lik.status();
-  {
-    Chains chains;
-    for (const auto& list : columns) {
-      std::vector<double> chain;
-      for (Eigen::Index s : list) chain.push_back((*log_lik)[static_cast<std::size_t>(s)]);
-      chains.push_back(std::move(chain));
-    }
-    add(SummaryGroup::kProbeLogLik, -1, std::move(chains));
-  }
+  add(SummaryGroup::kProbeLogLik, -1, chains_of(*log_lik, columns));
   const std::pair<SummaryGroup, Result<Eigen::MatrixXf> (RunReader::*)() const> matrices[] = {
       {SummaryGroup::kProbeProb, &RunReader::probe_prob},
       {SummaryGroup::kLayerSqNorm, &RunReader::layer_sq_norms},

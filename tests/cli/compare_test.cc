@@ -73,6 +73,22 @@ TEST_F(Compare, OneRowPerMethodWithEveryMetricAndOneBudget) {
       << read_text(log);
 }
 
+TEST_F(Compare, EveryMethodGetsAVerdictInTheTextAndTheJson) {
+  ASSERT_EQ(compare_.exit_code, 0) << compare_.output;
+  for (const char* method : {"adam", "rsgd", "sgld", "sghmc", "rsghmc"}) {
+    EXPECT_NE(compare_.output.find(std::string("\nverdict ") + method + ": "), std::string::npos)
+        << method << " has no verdict under the table:\n" << compare_.output;
+  }
+  // summary.json: every row carries its verdict with the six checks (Python's json module).
+  const std::string script =
+      "import json, sys; rows = json.load(open(sys.argv[1])); "
+      "assert all(len(r['verdict']['checks']) == 6 for r in rows), rows; "
+      "assert all(c['outcome'] in ('ok', 'FAILED', 'n/a') for r in rows for c in r['verdict']['checks'])";
+  const std::string log = path("verdict_check.txt");
+  EXPECT_EQ(run_python("-c \"" + script + "\" '" + path("cmp/summary.json") + "'", log), 0)
+      << read_text(log);
+}
+
 TEST_F(Compare, TrueProbabilitiesScoreBelowEveryTrainedModel) {
   // Sanity check of synth's truth file: on 1500 held-out rows the probabilities the labels
   // were drawn from must have a lower NLL than any model fitted to a sample of them.

@@ -1,0 +1,132 @@
+// run_verdict: is a run done? A few plain checks, each with its numbers, that train,
+// compare and diagnose print at the end of a run (METHODS.md 10; thresholds below).
+//
+// A run passes or fails each check, or the check does not apply (an optimizer has no
+// mixing to judge; a run file without labels cannot say whether predictions are
+// constant). The checks:
+//   drift        samplers: the potential U~ still moving after burn-in. Per chain, the
+//                trace after burn-in is cut into halves and the difference of their
+//                means is divided by its standard error, each half's variance over its
+//                own ESS (the spectral comparison of "Evaluating the accuracy of
+//                sampling-based approaches to the calculation of posterior moments",
+//                Bayesian Statistics 4, 1992, with halves instead of 10% / 50%). Drifting
+//                when |z| > kDriftZ and the shift exceeds kDriftShiftSd of the trace's
+//                standard deviation (so long stationary traces are not flagged for a
+//                negligible shift).
+//   constant     every run: the ensemble-mean probability of each probe row's own label,
+//                grouped by label; within each class with 2 or more probe rows, the
+//                standard deviation of its log-odds across rows. Nearly constant when the
+//                largest is below kConstantLogOddsSd and the class means sum to at most
+//                1 + kConstantSumSlack (a network that predicts the same distribution pi
+//                for every row gives each class exactly pi_k, summing to <= 1; one that
+//                tells the classes apart gives more).
+//   pinned       optimizers: the kept weights against the prior's scale. A layer whose
+//                ||W_l||^2 (weights only: biases have a scale of their own) is below
+//                kPinnedNormRatio times its prior expectation out*in*sigma_w^2 has been
+//                pulled to zero by the prior: its root-mean-square weight is under a
+//                tenth of the prior's standard deviation.
+//   mixing       samplers: the smallest bulk-ESS of the function-space summaries against
+//                the target (kEssPerChainThreshold per chain, 400 for four chains), and
+//                at the current rate (bulk-ESS per step after burn-in) about how many
+//                more steps per chain reach it.
+//   predictions  samplers, 2+ chains: do the chains predict alike? Worst R-hat of the
+//                probe log-likelihood and of every probe row's probability (> 1.01 fails).
+//   scale        samplers, 2+ chains: do the chains agree on parameter-scale summaries?
+//                Worst R-hat of the layer squared norms. Reported apart from predictions:
+//                chains can predict alike at different weight scales, and the reverse.
+// Thresholds marked "ours" are common-practice choices of this project, not published.
+//
+// Usage:
+//   Result<RunEvidence> e = gather_run_evidence(*reader, probe_labels);
+//   RunVerdict v = judge_run(*e);
+//   for (const std::string& line : verdict_lines(v)) ...;
+#pragma once
+
+#include <cstdint>
+#include <optional>
+#include <span>
+#include <string>
+#include <vector>
+
+#include "credence/diagnostics.h"
+#include "credence/ensemble.h"
+#include "credence/status.h"
+
+namespace credence {
+
+/// drift: |z| of the halves' means above this (about a two-sided 0.3% level per chain).
+inline constexpr double kDriftZ = 3.0;
+/// drift: ... and a shift of the mean of at least this many trace standard deviations (ours).
+inline constexpr double kDriftShiftSd = 0.25;
+/// drift: fewer trace rows than this per half leave the check unapplied (ours).
+inline constexpr long kDriftMinRowsPerHalf = 8;
+/// constant: log-odds standard deviation across rows of one class below this (ours).
+inline constexpr double kConstantLogOddsSd = 0.1;
+/// constant: ... and class means of the own-label probability summing to <= 1 + this (ours).
+inline constexpr double kConstantSumSlack = 0.05;
+/// pinned: ||W_l||^2 below this fraction of its prior expectation (ours).
+inline constexpr double kPinnedNormRatio = 0.01;
+
+/// Everything the checks read, per run. Chains are in kept order (see diagnostics.h).
+struct RunEvidence {
+  std::string method;              // "sgld", "adam", ...
+  bool sampler = true;             // false for the optimizers (sgd, momentum, rsgd, adam)
+  int chains = 0;
+  std::int64_t thin = 1;           // steps per kept sample after burn-in
+  /// Per chain, the potential U~ of every traced step after burn-in, in step order.
+  Chains potential;
+  std::int64_t trace_every = 1;    // steps between trace rows
+  Chains probe_log_lik;            // per chain, kept order
+  std::vector<Chains> probe_prob;  // (R) per probe row: p(y_r | x_r, theta) per chain
+  /// (R) each probe row's label; empty when unknown (the constant check then does not apply).
+  std::vector<std::int32_t> probe_labels;
+  std::vector<Chains> layer_sq_norm;  // (L) per layer: ||W_l||^2 + ||b_l||^2
+  /// (L) mean over the kept samples of ||W_l||^2, weights only; empty when not read
+  /// (gather_run_evidence reads it for optimizers only).
+  std::vector<double> layer_weight_sq_norm;
+  /// (L) E||W_l||^2 under the prior, out*in*sigma_w^2; empty when unknown (pinned then
+  /// does not apply).
+  std::vector<double> layer_prior_weight_sq_norm;
+};
+
+enum class CheckOutcome { kPassed, kFailed, kNotApplied };
+/// "ok", "FAILED", "n/a".
+std::string_view check_outcome_name(CheckOutcome outcome);
+
+/// One check of a run: its outcome, its key number and the threshold it was held to.
+struct VerdictCheck {
+  std::string name;      // "drift", "constant", "pinned", "mixing", "predictions", "scale"
+  CheckOutcome outcome = CheckOutcome::kNotApplied;
+  double value = 0;      // the statistic (NaN when not applied)
+  double threshold = 0;  // what it was compared with
+  std::string message;   // one line in plain words, with the numbers
+};
+
+/// The short verdict of one run.
+struct RunVerdict {
+  std::vector<VerdictCheck> checks;  // always the six above, in that order
+  /// mixing: about this many more steps per chain reach the ESS target at the current
+  /// rate; empty when the target is met or no rate is known.
+  std::optional<std::int64_t> more_steps_per_chain;
+  /// "done" when no check failed, otherwise "NOT done: " and the failed checks' names.
+  std::string headline;
+  bool done() const;
+  const VerdictCheck* find(std::string_view name) const;
+};
+
+/// Runs every check on `evidence`.
+RunVerdict judge_run(const RunEvidence& evidence);
+
+/// The verdict as text: the headline, then one line per failed check (all checks when
+/// `all`), each "  name: message".
+std::vector<std::string> verdict_lines(const RunVerdict& verdict, bool all = false);
+
+/// Reads a run file's traces (after burn-in), kept-sample summaries and prior for
+/// judge_run; `probe_labels` are the labels of header().probe_rows, or empty when the
+/// caller does not have the data. Weight norms are read for optimizers only; the prior's
+/// expectation is left empty when the run's net text does not resolve to fixed scales.
+/// kInvalidInput when the run has no samples.
+Result<RunEvidence> gather_run_evidence(const RunReader& run,
+                                        std::span<const std::int32_t> probe_labels = {});
+
+}  // namespace credence

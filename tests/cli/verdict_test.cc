@@ -1,0 +1,75 @@
+// The end-of-run verdict (run_verdict.h) end to end: train prints it with its numbers and
+// diagnose adds it to its JSON. Data: credence synth's invented cold-store table.
+#include <gtest/gtest.h>
+
+#include <string>
+
+#include "testing/read_text.h"
+#include "testing/run_command.h"
+#include "testing/temp_dir.h"
+
+namespace credence {
+namespace {
+
+using testing::run_credence;
+
+class Verdict : public ::testing::Test {
+ protected:
+  static void SetUpTestSuite() {
+    dir_ = new testing::TempDir();
+    data_ = path("cold.csv");
+    auto out = run_credence("synth --scenario cold-store --rows 400 --seed 4 --out '" + data_ + "'");
+    ASSERT_EQ(out.exit_code, 0) << out.output;
+  }
+  static void TearDownTestSuite() { delete dir_; }
+  static std::string path(const std::string& name) { return (dir_->path() / name).string(); }
+  static std::string train(const std::string& out, const std::string& extra) {
+    return "--quiet train '" + data_ + "' --target fault_14d --id unit_id --impute median "
+           "--hidden 8 --batch 32 --chains 2 --seed 3 --out '" + out + "' " + extra;
+  }
+
+  static testing::TempDir* dir_;
+  static std::string data_;
+};
+testing::TempDir* Verdict::dir_ = nullptr;
+std::string Verdict::data_;
+
+TEST_F(Verdict, ShortSamplerRunIsNotMixedAndSaysHowFarToGo) {
+  const std::string run = path("short.h5");
+  auto out = run_credence(train(run, "--method sgld --burn-in 50 --thin 1 --samples 20"));
+  ASSERT_EQ(out.exit_code, 0) << out.output;
+  // 2 chains x 20 kept samples cannot reach bulk-ESS 200: not mixed, with a step count.
+  EXPECT_NE(out.output.find("verdict: NOT done: "), std::string::npos) << out.output;
+  EXPECT_NE(out.output.find("mixing [FAILED]: NOT mixed: smallest bulk-ESS"), std::string::npos) << out.output;
+  EXPECT_NE(out.output.find("more steps per chain"), std::string::npos) << out.output;
+
+  // diagnose prints it too and puts it in its JSON.
+  const std::string json = path("short.json");
+  auto diagnose = run_credence("diagnose '" + run + "' --json '" + json + "'");
+  ASSERT_EQ(diagnose.exit_code, 0) << diagnose.output;
+  EXPECT_NE(diagnose.output.find("verdict: NOT done: "), std::string::npos) << diagnose.output;
+  const std::string text = testing::read_text(json);
+  EXPECT_NE(text.find("\"run_verdict\": {"), std::string::npos) << text;
+  EXPECT_NE(text.find("\"name\": \"mixing\""), std::string::npos) << text;
+  EXPECT_NE(text.find("\"more_steps_per_chain\": "), std::string::npos) << text;
+}
+
+TEST_F(Verdict, OptimizerUnderATinyPriorIsPinnedAndConstant) {
+  // Prior scale 0.1 on 280 training rows: the weights collapse to a small fraction of the
+  // prior's sd and every row gets the class balance. (At 1e-3 adam's own step jitter
+  // exceeds the prior's sd, so only the constant check catches it.)
+  auto out = run_credence(train(path("pinned.h5"), "--method adam --epochs 20 --prior-scale 0.1"));
+  ASSERT_EQ(out.exit_code, 0) << out.output;
+  EXPECT_NE(out.output.find("pinned [FAILED]: layer "), std::string::npos) << out.output;
+  EXPECT_NE(out.output.find("constant [FAILED]: predictions are nearly the same"), std::string::npos)
+      << out.output;
+  // With the default prior the same network learns: neither check fails.
+  auto fine = run_credence(train(path("fine.h5"), "--method adam --epochs 20"));
+  ASSERT_EQ(fine.exit_code, 0) << fine.output;
+  EXPECT_NE(fine.output.find("verdict: "), std::string::npos) << fine.output;
+  EXPECT_EQ(fine.output.find("pinned [FAILED]"), std::string::npos) << fine.output;
+  EXPECT_EQ(fine.output.find("constant [FAILED]"), std::string::npos) << fine.output;
+}
+
+}  // namespace
+}  // namespace credence
