@@ -99,11 +99,14 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
   }
   if (!request.quiet) {
     const std::int64_t per_pass = steps_per_pass(budget->train_rows, request.batch_rows);
+    const double passes = static_cast<double>(budget->steps) / static_cast<double>(per_pass);
+    const std::string passes_text =
+        passes >= 100 ? fmt::format("{:.0f}", passes) : fmt::format("{:.3g}", passes);
     std::fprintf(stderr,
-                 "every method: %lld steps per chain x %d chains (%.3g passes over %lld training "
+                 "every method: %lld steps per chain x %d chains (%s passes over %lld training "
                  "rows, batch %lld%s)\n",
                  static_cast<long long>(budget->steps), request.chains,
-                 static_cast<double>(budget->steps) / static_cast<double>(per_pass),
+                 passes_text.c_str(),
                  static_cast<long long>(budget->train_rows),
                  static_cast<long long>(request.batch_rows),
                  request.epochs > 0 ? "" : "; sized to the table, --epochs sets it");
