@@ -208,6 +208,8 @@ Status PotentialFn::full(ConstThetaRef, ThetaRef, double&) {
 
 bool PotentialFn::gradient_noise_variance(ThetaRef) { return false; }
 
+std::optional<double> PotentialFn::noise_temperature() const { return std::nullopt; }
+
 void PotentialFn::save_state(NamedArrays&) const {}
 
 Status PotentialFn::restore_state(const NamedArrays&) { return Status::ok_status(); }
