@@ -6,6 +6,7 @@
 
 #include "cli/commands.h"
 #include "cli/memory_option.h"
+#include "cli/method_flags.h"
 #include "cli/train_job.h"
 
 namespace credence::cli {
@@ -19,6 +20,7 @@ struct TrainFlags {
   std::string schedule = "constant";
   std::string tempering = "posterior";
   bool fixed_mass = false;
+  std::set<std::string> given;   // the long flags typed (method_flags.h)
 };
 
 Result<std::vector<Index>> parse_widths(const std::string& text) {
@@ -40,7 +42,8 @@ Result<std::vector<Index>> parse_widths(const std::string& text) {
 
 Status resolve(TrainFlags& flags) {
   TrainRequest& r = flags.request;
-  if (!r.resume_path.empty()) return Status::ok_status();  // everything comes from the run file
+  // Everything comes from the run file; a flag that would change it is refused.
+  if (!r.resume_path.empty()) return check_resume_flags(flags.given);
   if (r.data_path.empty()) return Status::invalid_input("give the data file: credence train DATA.csv ...");
   if (r.out_path.empty()) return Status::invalid_input("give --out RUN.h5 (where the run is written)");
   Result<DataOptions> data = resolve_data_options(flags.data);
@@ -64,6 +67,8 @@ Status resolve(TrainFlags& flags) {
         "--schedule '{}' is not one of constant, polynomial, cyclical", flags.schedule));
   }
   r.settings.sampler.relativistic.adapt_mass = !flags.fixed_mass;
+  CREDENCE_RETURN_IF_ERROR(check_method_flags(*method, r.settings.sampler.schedule.kind,
+                                              !r.net_path.empty(), flags.given));
   if (!r.net_path.empty() && !flags.hidden.empty()) {
     return Status::invalid_input("give either --net FILE or --hidden LIST, not both");
   }
@@ -107,17 +112,22 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "sgld, psgld, sghmc, rsghmc, sgd, momentum, rsgd, adam, hmc or rhmc")
       ->capture_default_str();
   method->add_option("--lr", s.sampler.learning_rate,
-                     "Learning rate on the mean loss (converted to the method's step)")
+                     "Learning rate on the mean loss (converted to the method's step; rsghmc "
+                     "reads it only with --speed or --mass: its move comes from --max-move)")
       ->capture_default_str();
   method->add_option("--step-size", s.sampler.step_size,
-                     "Step size in potential units; overrides --lr when > 0");
-  method->add_option("--temperature", s.sampler.temperature, "T: 1 = Bayes posterior, < 1 cold")
+                     "Step size in potential units, instead of --lr (rsghmc: only with --speed "
+                     "or --mass)");
+  method->add_option("--temperature", s.sampler.temperature,
+                     "Samplers: T, 1 = Bayes posterior, < 1 cold")
       ->capture_default_str();
-  method->add_option("--tempering", flags->tempering, "posterior or likelihood")
+  method->add_option("--tempering", flags->tempering,
+                     "Samplers: what T tempers, posterior (prior and likelihood) or likelihood")
       ->capture_default_str();
-  method->add_option("--schedule", flags->schedule, "constant, polynomial or cyclical")
+  method->add_option("--schedule", flags->schedule,
+                     "constant, polynomial or cyclical; not hmc/rhmc")
       ->capture_default_str();
-  method->add_option("--cycles", s.sampler.schedule.cycles, "cyclical: number of cycles")
+  method->add_option("--cycles", s.sampler.schedule.cycles, "--schedule cyclical: number of cycles")
       ->capture_default_str();
   method->add_option("--friction", s.sampler.sghmc.alpha,
                      "sghmc/momentum: friction alpha (momentum 1 - alpha)")
@@ -139,13 +149,13 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   auto* chains = sub->add_option_group("chains");
   chains->add_option("--chains", s.chains.chains, "Independent chains, run in parallel")
       ->capture_default_str();
-  chains->add_option("--burn-in", s.chains.burn_in, "Steps before the first kept sample")
+  chains->add_option("--burn-in", s.chains.burn_in, "Samplers: steps before the first kept sample")
       ->capture_default_str();
-  chains->add_option("--thin", s.chains.thin, "Keep every N-th step after burn-in")
+  chains->add_option("--thin", s.chains.thin, "Samplers: keep every N-th step after burn-in")
       ->capture_default_str();
-  chains->add_option("--samples", s.chains.samples, "Kept samples per chain")
+  chains->add_option("--samples", s.chains.samples, "Samplers: kept samples per chain")
       ->capture_default_str();
-  chains->add_option("--batch", s.batches.batch_rows, "Minibatch rows")->capture_default_str();
+  chains->add_option("--batch", s.batches.batch_rows, "Minibatch rows (not hmc/rhmc, which use every row)")->capture_default_str();
   chains->add_option("--steps", s.steps, "Optimizers: steps per chain (default from --epochs)");
   chains->add_option("--epochs", s.epochs, "Optimizers: passes over the training rows")
       ->capture_default_str();
@@ -156,7 +166,8 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "Longest time a kept sample waits before reaching the disk")
       ->capture_default_str();
 
-  commands.push_back({sub, [flags, &global] {
+  commands.push_back({sub, [flags, sub, &global] {
+                        flags->given = given_flags(*sub);
                         CREDENCE_RETURN_IF_ERROR(resolve(*flags));
                         flags->request.quiet = global.quiet;
                         flags->request.command_line = global.command_line;
