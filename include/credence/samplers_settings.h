@@ -89,8 +89,9 @@ struct SghmcSettings {
   double alpha = 0.1;
   /// Subtract the minibatch noise beta_hat = eta Vhat / 2 from the injected noise,
   /// with Vhat from PotentialFn::gradient_noise_variance(); clipped to
-  /// [0, alpha T (1 - 1e-3)] and the clips counted. Default false (beta_hat = 0,
-  /// the paper's practical choice).
+  /// [0, alpha T (1 - 1e-3)] and the clips counted. A potential that does not estimate
+  /// Vhat (the table potential) is refused: step() fails with kInvalidInput. Default
+  /// false (beta_hat = 0, the paper's practical choice).
   bool correct_gradient_noise = false;
   /// Redraw v from N(0, eta T) every this many steps; 0 = never. Default 0.
   std::int64_t resample_every = 0;
@@ -137,7 +138,9 @@ struct RelativisticSettings {
   /// Steps per adaptation window. Default 100.
   std::int64_t adapt_window = 100;
   /// rsghmc only: subtract the minibatch noise eps^2 Bhat with Bhat = Vhat,
-  /// clipped so 2 D T - eps Bhat >= 2 D T 1e-3. Default false.
+  /// clipped so 2 D T - eps Bhat >= 2 D T 1e-3. Refused (kInvalidInput from step())
+  /// with a potential that does not estimate Vhat, such as the table potential.
+  /// Default false.
   bool correct_gradient_noise = false;
   /// rhmc only: slice-sampling sweeps per momentum refresh (30 on the first).
   /// Default 5 (METHODS.md 5.2: nearly independent after 5).
