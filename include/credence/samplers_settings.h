@@ -42,7 +42,8 @@ bool is_full_batch(Method method);
 /// How the step size moves with the step index t = 0, 1, 2, ... of a chain.
 enum class ScheduleKind {
   kConstant,    // eps_t = step
-  kPolynomial,  // eps_t = a (b + t)^(-gamma), METHODS.md section 2
+  kPolynomial,  // eps_t = a (b + t)^(-gamma), METHODS.md section 2; optimizers only
+                // (a sampler's kept samples would need step-size weights)
   kCyclical,    // cosine cycles, METHODS.md section 8
 };
 

@@ -125,7 +125,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "Samplers: what T tempers, posterior (prior and likelihood) or likelihood")
       ->capture_default_str();
   method->add_option("--schedule", flags->schedule,
-                     "constant, polynomial or cyclical; not hmc/rhmc")
+                     "constant, cyclical, or polynomial (optimizers only); not hmc/rhmc")
       ->capture_default_str();
   method->add_option("--cycles", s.sampler.schedule.cycles, "--schedule cyclical: number of cycles")
       ->capture_default_str();

@@ -196,6 +196,13 @@ Status validate_train_settings(const TrainSettings& s) {
     return refuse("--temperature", m.temperature, "0 (optimizer limit) or more; 1 is the posterior");
   }
   if (m.schedule.cycles < 1) return refuse("--cycles", m.schedule.cycles, "1 or more");
+  if (is_sampler(m.method) && m.schedule.kind == ScheduleKind::kPolynomial) {
+    return Status::invalid_input(fmt::format(
+        "--schedule polynomial is for the optimizers (sgd, momentum, rsgd, adam); {} keeps "
+        "samples, which a decaying step would have to weight by their step size, and the "
+        "run file keeps equal weights. Use --schedule constant or cyclical",
+        method_name(m.method)));
+  }
   if (!(m.sghmc.alpha > 0 && m.sghmc.alpha <= 1)) {
     return refuse("--friction", m.sghmc.alpha, "a value in (0, 1], such as 0.1");
   }
