@@ -31,6 +31,7 @@
 #include "credence/table_potential.h"
 #include "credence/version.h"
 #include "util/log.h"
+#include "util/rng.h"
 
 #ifdef CREDENCE_HAVE_BLAS
 extern "C" void openblas_set_num_threads(int);
@@ -160,7 +161,8 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
 
   p.rows = gather_training_rows(data->x, data->labels, data->split.train);
   shape_optimizer_chains(p.settings, p.rows.x.cols());
-  if (p.settings.init_seed == 0) p.settings.init_seed = p.settings.chains.seed + 1;
+  // Starting points draw from their own purpose's streams, so the run seed serves.
+  if (p.settings.init_seed == 0) p.settings.init_seed = p.settings.chains.seed;
 
   RunHeader& h = p.header;
   h.tool_version = kVersion;
@@ -411,10 +413,9 @@ PotentialFactory factory_of(const Prepared& p) {
   return [&p](int chain) -> std::unique_ptr<PotentialFn> {
     const TrainSettings& s = p.settings;
     // The batch order of chain c depends on (seed, c) only, not on thread timing.
-    auto potential = TablePotential::create(p.rows, p.layout, p.spec.prior,
-                                            potential_settings_of(s), s.batches,
-                                            s.chains.seed * 1000003ULL +
-                                                static_cast<std::uint64_t>(chain));
+    auto potential = TablePotential::create(
+        p.rows, p.layout, p.spec.prior, potential_settings_of(s), s.batches,
+        stream_seed(s.chains.seed, SeedPurpose::kBatches, static_cast<std::uint64_t>(chain)));
     return potential.ok() ? std::move(*potential) : nullptr;
   };
 }
@@ -423,7 +424,8 @@ InitFn init_of(const Prepared& p) {
   return [&p](int chain, ThetaRef theta) {
     Eigen::VectorXf start(theta.size());
     initialize_params<float>(start, p.layout,
-                             p.settings.init_seed + static_cast<std::uint64_t>(chain) * 7919ULL);
+                             stream_seed(p.settings.init_seed, SeedPurpose::kInit,
+                                         static_cast<std::uint64_t>(chain)));
     theta = start;
     return Status::ok_status();
   };

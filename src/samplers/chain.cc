@@ -113,7 +113,8 @@ class ChainRunner {
     }
     Result<std::unique_ptr<Sampler>> made =
         Sampler::create(settings, cx_.parameters, potential_->rows(),
-                        mix_seed(cx_.layout.seed, static_cast<std::uint64_t>(chain_)));
+                        stream_seed(cx_.layout.seed, SeedPurpose::kSampler,
+                                    static_cast<std::uint64_t>(chain_)));
     if (!made.ok()) return made.status();
     sampler_ = std::move(*made);
     theta_.resize(cx_.parameters);
