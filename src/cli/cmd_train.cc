@@ -20,6 +20,7 @@ struct TrainFlags {
   std::string schedule = "constant";
   std::string tempering = "posterior";
   bool fixed_mass = false;
+  std::uint64_t chain_seed = 0;  // --chain-seed, when given; else the split's --seed
   std::set<std::string> given;   // the long flags typed (method_flags.h)
 };
 
@@ -79,7 +80,11 @@ Status resolve(TrainFlags& flags) {
     return Status::invalid_input(fmt::format(
         "--prior-scale {} is out of range; give a positive scale such as 1", r.prior_scale));
   }
-  r.settings.chains.seed = r.data.split.seed;
+  // The split and the chains have seeds of their own: runs with one --seed and different
+  // --chain-seed values share their split and can be merged.
+  r.settings.chains.seed =
+      flags.given.count("--chain-seed") > 0 ? flags.chain_seed : r.data.split.seed;
+  r.settings.summary_seed = r.data.split.seed;
   return validate_train_settings(r.settings);
 }
 
@@ -159,6 +164,10 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   chains->add_option("--steps", s.steps, "Optimizers: steps per chain (default from --epochs)");
   chains->add_option("--epochs", s.epochs, "Optimizers: passes over the training rows")
       ->capture_default_str();
+  chains->add_option("--chain-seed", flags->chain_seed,
+                     "Seed of the chains (starting points, minibatch order, noise), apart from "
+                     "the split's --seed; default: --seed. Runs with one --seed and different "
+                     "chain seeds can be merged");
   chains->add_option("--threads", s.chains.threads, "Threads for chains (0: one per core)")
       ->capture_default_str();
   add_max_memory_option(*sub, r.max_memory);

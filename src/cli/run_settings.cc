@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <string_view>
 #include <type_traits>
 
 namespace credence::cli {
@@ -55,7 +56,8 @@ void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
   visit("burn_in", s.chains.burn_in);
   visit("thin", s.chains.thin);
   visit("samples", s.chains.samples);
-  visit("seed", s.chains.seed);
+  visit("chain_seed", s.chains.seed);
+  visit("summary_seed", s.summary_seed);
   visit("max_potential", s.chains.max_potential);
   visit("trace_every", s.chains.trace_every);
   visit("batch_rows", s.batches.batch_rows);
@@ -240,10 +242,16 @@ Status from_values(const Settings& values, TrainSettings& settings, ReadOptions&
   Status status;
   visit_settings(settings, read, [&](const char* name, auto& field) {
     if (!status.ok()) return;
-    for (const auto& [key, value] : values) {
-      if (key == name) {
-        status = from_value(value, key, field);
-        return;
+    // Run files written before the chains had a seed of their own stored one "seed",
+    // which seeded both the chains and the tracked summaries.
+    const bool renamed =
+        std::string_view(name) == "chain_seed" || std::string_view(name) == "summary_seed";
+    for (const char* wanted : {name, renamed ? "seed" : name}) {
+      for (const auto& [key, value] : values) {
+        if (key == wanted) {
+          status = from_value(value, key, field);
+          return;
+        }
       }
     }
     status = Status::corrupt(fmt::format("the run file has no setting '{}'", name));

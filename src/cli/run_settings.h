@@ -29,6 +29,9 @@ struct TrainSettings {
   /// Starting points: chain c starts from stream_seed(init_seed, kInit, c) (util/rng.h);
   /// 0 = the run seed.
   std::uint64_t init_seed = 0;
+  /// Random projections of the tracked summaries: `credence train` sets the split's
+  /// --seed, so runs that differ only in --chain-seed project alike and can be merged.
+  std::uint64_t summary_seed = 0;
   double flush_seconds = 2.0;   // longest time a kept sample waits before reaching disk
 };
 

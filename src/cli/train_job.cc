@@ -498,7 +498,7 @@ Status run_chains_into(Prepared& p, RunWriter& writer, const std::string& run_pa
   std::int64_t kept = 0;
   std::vector<std::int64_t> next_steps = next_steps_of(resume, s.chains.chains, kept);
   Result<SampleSummarizer> summarizer =
-      SampleSummarizer::create(p.layout, p.probe, s.projections, s.chains.seed);
+      SampleSummarizer::create(p.layout, p.probe, s.projections, s.summary_seed);
   if (!summarizer.ok()) return summarizer.status();
   ProgressDisplay progress(fmt::format("train {}", method_name(s.sampler.method)),
                            steps_per_chain_of(s) * s.chains.chains,
@@ -727,7 +727,7 @@ Status run_root(const mpi::World& world, Prepared& p, RunWriter& writer,
   std::int64_t kept = 0;
   std::vector<std::int64_t> next_steps = next_steps_of(resume_all, chains, kept);
   Result<SampleSummarizer> summarizer =
-      SampleSummarizer::create(p.layout, p.probe, s.projections, s.chains.seed);
+      SampleSummarizer::create(p.layout, p.probe, s.projections, s.summary_seed);
   if (!summarizer.ok()) return summarizer.status();
   ProgressDisplay progress(fmt::format("train {} ({} ranks)", method_name(s.sampler.method),
                                        world.size()),
