@@ -190,7 +190,9 @@ struct SamplerSettings {
   ScheduleSettings schedule;
 
   // --- Target ---
-  /// Temperature T >= 0 (1 = Bayes posterior). Ignored (0) by the optimizers.
+  /// Temperature T >= 0 (1 = Bayes posterior). Ignored (0) by the optimizers. run_chains
+  /// replaces it by the potential's PotentialFn::noise_temperature() when that fixes one
+  /// (1 under likelihood-only tempering, whose potential already holds the 1/T).
   double temperature = 1.0;
 
   // --- Per-method ---

@@ -160,7 +160,9 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
       ->capture_default_str();
   chains->add_option("--samples", s.chains.samples, "Samplers: kept samples per chain")
       ->capture_default_str();
-  chains->add_option("--batch", s.batches.batch_rows, "Minibatch rows (not hmc/rhmc, which use every row)")->capture_default_str();
+  chains->add_option("--batch", s.batches.batch_rows,
+                     "Minibatch rows (not hmc/rhmc, which use every row)")
+      ->capture_default_str();
   chains->add_option("--steps", s.steps, "Optimizers: steps per chain (default from --epochs)");
   chains->add_option("--epochs", s.epochs, "Optimizers: passes over the training rows")
       ->capture_default_str();
