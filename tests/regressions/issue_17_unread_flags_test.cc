@@ -74,6 +74,23 @@ TEST(Issue17UnreadFlags, TrainRefusesAFlagTheMethodDoesNotRead) {
   }
 }
 
+TEST(Issue17UnreadFlags, CompareRefusesSamplesWhenEveryMethodIsAnOptimizer) {
+  testing::TempDir dir;
+  const std::string csv = (dir.path() / "t.csv").string();
+  {
+    std::ofstream out(csv);
+    out << "flow,heat,alarm\n";
+    for (int r = 0; r < 30; ++r) out << r % 7 << "," << (r * 3) % 5 << "," << (r % 2 ? "yes" : "no") << "\n";
+  }
+  const auto run = testing::run_credence("--quiet compare '" + csv +
+                                         "' --target alarm --methods adam,sgd --samples 10 --out '" +
+                                         (dir.path() / "cmp").string() + "'");
+  EXPECT_EQ(run.exit_code, 2) << run.output;
+  EXPECT_NE(run.output.find("--samples is not read by --methods adam,sgd"), std::string::npos)
+      << run.output;
+  EXPECT_FALSE(std::filesystem::exists(dir.path() / "cmp" / "summary.txt"));
+}
+
 TEST(Issue17UnreadFlags, ResumeRefusesASettingFlag) {
   testing::TempDir dir;
   const auto run = testing::run_credence("--quiet train --resume '" +
