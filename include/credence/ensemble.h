@@ -243,7 +243,8 @@ Status store_temperature(const std::string& path, const StoredTemperature& tempe
 
 /// Joins runs of the same net and preprocessing into `output`, renumbering chains
 /// (inputs' chains in order). Refuses (kInvalidInput, naming the first difference)
-/// runs whose net text, preprocessing or parameter count differ; kCorrupt for a bad
+/// runs whose net text, preprocessing, parameter count, method, temperature or tempering
+/// differ; kCorrupt for a bad
 /// input. The output is written to a temporary name and renamed.
 Status merge_runs(std::span<const std::string> inputs, const std::string& output,
                   bool overwrite);

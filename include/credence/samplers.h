@@ -132,7 +132,7 @@ struct ChainSettings {
   std::int64_t burn_in = 1000;  // steps before the first kept sample. Default 1000.
   std::int64_t thin = 10;       // keep every thin-th step after burn-in. Default 10.
   std::int64_t samples = 100;   // kept samples per chain S. Default 100.
-  std::uint64_t seed = 0;       // run seed; chain c uses mix_seed(seed, c).
+  std::uint64_t seed = 0;       // run seed; chain c's sampler uses stream_seed(seed, kSampler, c).
   int threads = 0;              // OpenMP threads; 0 = OpenMP's default.
   /// A chain diverges when U~ exceeds this (or is not finite). Default 1e30.
   double max_potential = 1e30;
@@ -252,7 +252,8 @@ using InitFn = std::function<Status(int chain, ThetaRef theta)>;
 /// Runs settings.chains chains of `parameters` coordinates (chains 0 .. C - 1, or the
 /// global indices in chains.chain_ids, which then stand for `chain` below; resume[i]
 /// belongs to the i-th chain run). Each chain: its own
-/// PotentialFn (factory), Sampler seeded with mix_seed(seed, chain), theta from
+/// PotentialFn (factory), Sampler seeded with stream_seed(seed, SeedPurpose::kSampler,
+/// chain) (util/rng.h), theta from
 /// init (or from resume[chain] when resume is non-empty: theta, sampler state and the
 /// potential's "model." arrays), then steps t = next_step .. burn_in + thin * samples - 1.
 /// After step t (0-based) the chain keeps theta when t >= burn_in and

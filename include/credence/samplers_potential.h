@@ -107,6 +107,14 @@ class PotentialFn {
   /// Returns false when the model does not estimate it (the default).  vhat: (P).
   virtual bool gradient_noise_variance(ThetaRef vhat);
 
+  /// The temperature the sampler's injected noise (and hmc's Metropolis test) must use,
+  /// when the potential fixes it; nullopt (the default) leaves the sampler's own T.
+  /// A potential that already divides its likelihood by T (likelihood-only tempering,
+  /// METHODS.md section 1, Form B) returns 1: were the noise also at T, the chain would
+  /// target p(theta)^(1/T) p(D|theta)^(1/T^2). run_chains() builds each chain's sampler
+  /// with this temperature; code that calls Sampler::create itself must do the same.
+  virtual std::optional<double> noise_temperature() const;
+
   /// Adds the model's resumable state to `out` as named arrays (names without a
   /// prefix; the chain driver adds "model."). The default adds nothing. May allocate;
   /// called only when a checkpoint is taken.

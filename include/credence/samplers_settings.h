@@ -42,7 +42,8 @@ bool is_full_batch(Method method);
 /// How the step size moves with the step index t = 0, 1, 2, ... of a chain.
 enum class ScheduleKind {
   kConstant,    // eps_t = step
-  kPolynomial,  // eps_t = a (b + t)^(-gamma), METHODS.md section 2
+  kPolynomial,  // eps_t = a (b + t)^(-gamma), METHODS.md section 2; optimizers only
+                // (a sampler's kept samples would need step-size weights)
   kCyclical,    // cosine cycles, METHODS.md section 8
 };
 
@@ -89,8 +90,9 @@ struct SghmcSettings {
   double alpha = 0.1;
   /// Subtract the minibatch noise beta_hat = eta Vhat / 2 from the injected noise,
   /// with Vhat from PotentialFn::gradient_noise_variance(); clipped to
-  /// [0, alpha T (1 - 1e-3)] and the clips counted. Default false (beta_hat = 0,
-  /// the paper's practical choice).
+  /// [0, alpha T (1 - 1e-3)] and the clips counted. A potential that does not estimate
+  /// Vhat (the table potential) is refused: step() fails with kInvalidInput. Default
+  /// false (beta_hat = 0, the paper's practical choice).
   bool correct_gradient_noise = false;
   /// Redraw v from N(0, eta T) every this many steps; 0 = never. Default 0.
   std::int64_t resample_every = 0;
@@ -137,7 +139,9 @@ struct RelativisticSettings {
   /// Steps per adaptation window. Default 100.
   std::int64_t adapt_window = 100;
   /// rsghmc only: subtract the minibatch noise eps^2 Bhat with Bhat = Vhat,
-  /// clipped so 2 D T - eps Bhat >= 2 D T 1e-3. Default false.
+  /// clipped so 2 D T - eps Bhat >= 2 D T 1e-3. Refused (kInvalidInput from step())
+  /// with a potential that does not estimate Vhat, such as the table potential.
+  /// Default false.
   bool correct_gradient_noise = false;
   /// rhmc only: slice-sampling sweeps per momentum refresh (30 on the first).
   /// Default 5 (METHODS.md 5.2: nearly independent after 5).
@@ -186,7 +190,9 @@ struct SamplerSettings {
   ScheduleSettings schedule;
 
   // --- Target ---
-  /// Temperature T >= 0 (1 = Bayes posterior). Ignored (0) by the optimizers.
+  /// Temperature T >= 0 (1 = Bayes posterior). Ignored (0) by the optimizers. run_chains
+  /// replaces it by the potential's PotentialFn::noise_temperature() when that fixes one
+  /// (1 under likelihood-only tempering, whose potential already holds the 1/T).
   double temperature = 1.0;
 
   // --- Per-method ---

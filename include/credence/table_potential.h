@@ -20,6 +20,7 @@
 #include <Eigen/Core>
 #include <cstdint>
 #include <memory>
+#include <optional>
 #include <span>
 #include <vector>
 
@@ -58,6 +59,13 @@ class TablePotential final : public PotentialFn {
   std::int64_t rows() const override { return rows_.x.cols(); }
   Status minibatch(ConstThetaRef theta, ThetaRef grad, MinibatchValue& out) override;
   Status full(ConstThetaRef theta, ThetaRef grad, double& potential) override;
+  /// 1 with likelihood-only tempering (the likelihood already carries the 1/T:
+  /// Potential::noise_temperature()); nullopt with whole-posterior tempering, whose U
+  /// is untempered, so the sampler's own T applies.
+  std::optional<double> noise_temperature() const override {
+    if (potential_.settings().tempering == Tempering::kWholePosterior) return std::nullopt;
+    return potential_.noise_temperature();
+  }
 
   /// Adds words["batch_position"] = {epoch, cursor} of the next minibatch.
   void save_state(NamedArrays& out) const override;

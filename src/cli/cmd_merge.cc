@@ -28,7 +28,7 @@ Status run_merge(const MergeOptions& options) {
 void add_merge_command(CLI::App& app, const GlobalOptions&, CommandList& commands) {
   auto options = std::make_shared<MergeOptions>();
   CLI::App* sub = app.add_subcommand(
-      "merge", "Join runs of the same net and preprocessing into one ensemble (chains renumbered)");
+      "merge", "Join runs of the same net, preprocessing and method into one ensemble (chains renumbered)");
   sub->add_option("RUNS", options->inputs, "Run files to join")->required();
   sub->add_option("--out", options->out, "The merged run file");
   sub->add_flag("--force", options->force, "Overwrite an existing output file");

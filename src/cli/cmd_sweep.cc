@@ -62,6 +62,16 @@ Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
   Result<CompareRequest> request = compare_request(flags.compare, methods);
   if (!request.ok()) return request.status();
   for (Method m : methods) {
+    // rsghmc's derived speed of light and mass cancel its step (method_flags.cc): every
+    // learning rate would give the same samples.
+    if (m == Method::kRsghmc) {
+      return Status::invalid_input(
+          "--methods: sweep varies the learning rate, which rsghmc does not read (each "
+          "weight's move per step comes from --max-move); sweep rsgd, or train rsghmc with "
+          "several --max-move values");
+    }
+  }
+  for (Method m : methods) {
     for (double lr : *rates) {
       const std::string name(method_name(m));
       request->entries.push_back({m, lr, fmt::format("{} lr={:.3g}", name, lr),

@@ -8,6 +8,7 @@
 #include "cli/commands.h"
 #include "cli/held_out.h"
 #include "cli/memory_option.h"
+#include "cli/method_flags.h"
 #include "cli/train_job.h"
 
 namespace credence::cli {
@@ -30,6 +31,8 @@ struct TrainFlags {
   CLI::Option* check_every = nullptr;
   CLI::Option* patience = nullptr;
   CLI::Option* min_steps = nullptr;
+  std::uint64_t chain_seed = 0;  // --chain-seed, when given; else the split's --seed
+  std::set<std::string> given;   // the long flags typed (method_flags.h)
 };
 
 Result<std::vector<Index>> parse_widths(const std::string& text) {
@@ -51,7 +54,8 @@ Result<std::vector<Index>> parse_widths(const std::string& text) {
 
 Status resolve(TrainFlags& flags) {
   TrainRequest& r = flags.request;
-  if (!r.resume_path.empty()) return Status::ok_status();  // everything comes from the run file
+  // Everything comes from the run file; a flag that would change it is refused.
+  if (!r.resume_path.empty()) return check_resume_flags(flags.given);
   if (r.data_path.empty()) return Status::invalid_input("give the data file: credence train DATA.csv ...");
   if (r.out_path.empty()) return Status::invalid_input("give --out RUN.h5 (where the run is written)");
   Result<DataOptions> data = resolve_data_options(flags.data);
@@ -75,6 +79,8 @@ Status resolve(TrainFlags& flags) {
         "--schedule '{}' is not one of constant, polynomial, cyclical", flags.schedule));
   }
   r.settings.sampler.relativistic.adapt_mass = !flags.fixed_mass;
+  CREDENCE_RETURN_IF_ERROR(check_method_flags(*method, r.settings.sampler.schedule.kind,
+                                              !r.net_path.empty(), flags.given));
   if (!r.net_path.empty() && !flags.hidden.empty()) {
     return Status::invalid_input("give either --net FILE or --hidden LIST, not both");
   }
@@ -85,7 +91,6 @@ Status resolve(TrainFlags& flags) {
     return Status::invalid_input(fmt::format(
         "--prior-scale {} is out of range; give a positive scale such as 1", r.prior_scale));
   }
-  r.settings.chains.seed = r.data.split.seed;
   r.budget_given = BudgetGiven{.burn_in = flags.burn_in->count() > 0,
                                .thin = flags.thin->count() > 0,
                                .samples = flags.samples->count() > 0,
@@ -94,16 +99,11 @@ Status resolve(TrainFlags& flags) {
                                .check_every = flags.check_every->count() > 0,
                                .patience = flags.patience->count() > 0,
                                .min_steps = flags.min_steps->count() > 0};
-  if (is_sampler(*method)) {
-    for (const CLI::Option* option : {flags.check_every, flags.patience, flags.min_steps}) {
-      if (option->count() > 0) {
-        return Status::invalid_input(fmt::format(
-            "{} stops an optimizer early; {} is a sampler, whose kept samples all count: "
-            "leave it out, or choose sgd, momentum, rsgd or adam",
-            option->get_name(), flags.method));
-      }
-    }
-  }
+  // The split and the chains have seeds of their own: runs with one --seed and different
+  // --chain-seed values share their split and can be merged.
+  r.settings.chains.seed =
+      flags.given.count("--chain-seed") > 0 ? flags.chain_seed : r.data.split.seed;
+  r.settings.summary_seed = r.data.split.seed;
   return validate_train_settings(r.settings);
 }
 
@@ -136,17 +136,22 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "sgld, psgld, sghmc, rsghmc, sgd, momentum, rsgd, adam, hmc or rhmc")
       ->capture_default_str();
   method->add_option("--lr", s.sampler.learning_rate,
-                     "Learning rate on the mean loss (converted to the method's step)")
+                     "Learning rate on the mean loss (converted to the method's step; rsghmc "
+                     "reads it only with --speed or --mass: its move comes from --max-move)")
       ->capture_default_str();
   method->add_option("--step-size", s.sampler.step_size,
-                     "Step size in potential units; overrides --lr when > 0");
-  method->add_option("--temperature", s.sampler.temperature, "T: 1 = Bayes posterior, < 1 cold")
+                     "Step size in potential units, instead of --lr (rsghmc: only with --speed "
+                     "or --mass)");
+  method->add_option("--temperature", s.sampler.temperature,
+                     "Samplers: T, 1 = Bayes posterior, < 1 cold")
       ->capture_default_str();
-  method->add_option("--tempering", flags->tempering, "posterior or likelihood")
+  method->add_option("--tempering", flags->tempering,
+                     "Samplers: what T tempers, posterior (prior and likelihood) or likelihood")
       ->capture_default_str();
-  method->add_option("--schedule", flags->schedule, "constant, polynomial or cyclical")
+  method->add_option("--schedule", flags->schedule,
+                     "constant, cyclical, or polynomial (optimizers only); not hmc/rhmc")
       ->capture_default_str();
-  method->add_option("--cycles", s.sampler.schedule.cycles, "cyclical: number of cycles")
+  method->add_option("--cycles", s.sampler.schedule.cycles, "--schedule cyclical: number of cycles")
       ->capture_default_str();
   method->add_option("--friction", s.sampler.sghmc.alpha,
                      "sghmc/momentum: friction alpha (momentum 1 - alpha)")
@@ -183,9 +188,11 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                   "{}; hmc, rhmc: {} iterations divided by --samples]",
                   D::kSamplerSamplingFloor, D::kSamplerSamplingPasses, D::kSamplerPhaseCap,
                   D::kSamplerThinFloor, D::kFullBatchSampling));
-  flags->samples = chains->add_option("--samples", s.chains.samples, "Kept samples per chain")
+  flags->samples = chains->add_option("--samples", s.chains.samples, "Samplers: kept samples per chain")
                        ->capture_default_str();
-  chains->add_option("--batch", s.batches.batch_rows, "Minibatch rows")->capture_default_str();
+  chains->add_option("--batch", s.batches.batch_rows,
+                     "Minibatch rows (not hmc/rhmc, which use every row)")
+      ->capture_default_str();
   flags->steps = chains->add_option(
       "--steps", s.steps,
       fmt::format("Optimizers: most steps per chain [default: max({} steps, {:g} passes), at "
@@ -210,6 +217,10 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
       fmt::format("Optimizers: never stop early before N steps [default: max({} steps, {:g} "
                   "passes), at most the budget]",
                   E::kMinStepsFloor, E::kMinStepsPasses));
+  chains->add_option("--chain-seed", flags->chain_seed,
+                     "Seed of the chains (starting points, minibatch order, noise), apart from "
+                     "the split's --seed; default: --seed. Runs with one --seed and different "
+                     "chain seeds can be merged");
   chains->add_option("--threads", s.chains.threads, "Threads for chains (0: one per core)")
       ->capture_default_str();
   add_max_memory_option(*sub, r.max_memory);
@@ -217,7 +228,8 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "Longest time a kept sample waits before reaching the disk")
       ->capture_default_str();
 
-  commands.push_back({sub, [flags, &global] {
+  commands.push_back({sub, [flags, sub, &global] {
+                        flags->given = given_flags(*sub);
                         CREDENCE_RETURN_IF_ERROR(resolve(*flags));
                         flags->request.quiet = global.quiet;
                         flags->request.command_line = global.command_line;

@@ -3,6 +3,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <filesystem>
 #include <sstream>
 
@@ -34,8 +35,9 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
                      "Chains per method (optimizers: independent restarts, averaged)")
       ->capture_default_str();
   command.add_option("--batch", flags.batch, "Minibatch rows")->capture_default_str();
-  command.add_option("--samples", flags.samples, "Kept samples per chain for samplers")
-      ->capture_default_str();
+  flags.samples_option =
+      command.add_option("--samples", flags.samples, "Kept samples per chain for samplers")
+          ->capture_default_str();
   command.add_option("--out", flags.out_dir, "Folder for the run files, tables and report")
       ->required();
   command.add_option("--truth", flags.truth_path,
@@ -67,6 +69,14 @@ Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Me
     methods.push_back(*method);
   }
   if (methods.empty()) return Status::invalid_input("--methods: give at least one method");
+  // A flag no chosen method reads is refused, as in train (method_flags.h).
+  if (flags.samples_option != nullptr && flags.samples_option->count() > 0 &&
+      std::none_of(methods.begin(), methods.end(), is_sampler)) {
+    return Status::invalid_input(fmt::format(
+        "--samples is not read by --methods {}: optimizers keep one final iterate per chain; "
+        "add a sampler or drop --samples",
+        flags.methods));
+  }
   if (!flags.net_path.empty()) {
     r.net_path = flags.net_path;
   } else if (flags.hidden != "none") {

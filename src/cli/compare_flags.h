@@ -23,6 +23,7 @@ struct CompareFlags {
   std::string out_dir;
   std::string truth_path;
   int bootstrap = 1000;
+  const CLI::Option* samples_option = nullptr;  // set by add_compare_flags: was --samples given?
 };
 
 /// Adds DATA.csv, the data flags, --methods (default `default_methods`), the network and

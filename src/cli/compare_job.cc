@@ -29,6 +29,7 @@ TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
   if (entry.learning_rate) s.sampler.learning_rate = *entry.learning_rate;
   s.chains.chains = c.chains;
   s.chains.seed = c.data.split.seed;
+  s.summary_seed = c.data.split.seed;
   s.batches.batch_rows = c.batch_rows;
   if (is_sampler(entry.method)) {
     const SamplerShare share = sampler_share(budget.steps, c.samples);

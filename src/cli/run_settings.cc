@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <string_view>
 #include <type_traits>
 
 namespace credence::cli {
@@ -55,7 +56,8 @@ void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
   visit("burn_in", s.chains.burn_in);
   visit("thin", s.chains.thin);
   visit("samples", s.chains.samples);
-  visit("seed", s.chains.seed);
+  visit("chain_seed", s.chains.seed);
+  visit("summary_seed", s.summary_seed);
   visit("max_potential", s.chains.max_potential);
   visit("trace_every", s.chains.trace_every);
   visit("early_stop_every", s.chains.early_stop.every);
@@ -204,6 +206,13 @@ Status validate_train_settings(const TrainSettings& s) {
     return refuse("--temperature", m.temperature, "0 (optimizer limit) or more; 1 is the posterior");
   }
   if (m.schedule.cycles < 1) return refuse("--cycles", m.schedule.cycles, "1 or more");
+  if (is_sampler(m.method) && m.schedule.kind == ScheduleKind::kPolynomial) {
+    return Status::invalid_input(fmt::format(
+        "--schedule polynomial is for the optimizers (sgd, momentum, rsgd, adam); {} keeps "
+        "samples, which a decaying step would have to weight by their step size, and the "
+        "run file keeps equal weights. Use --schedule constant or cyclical",
+        method_name(m.method)));
+  }
   if (!(m.sghmc.alpha > 0 && m.sghmc.alpha <= 1)) {
     return refuse("--friction", m.sghmc.alpha, "a value in (0, 1], such as 0.1");
   }
@@ -241,10 +250,16 @@ Status from_values(const Settings& values, TrainSettings& settings, ReadOptions&
   Status status;
   visit_settings(settings, read, [&](const char* name, auto& field) {
     if (!status.ok()) return;
-    for (const auto& [key, value] : values) {
-      if (key == name) {
-        status = from_value(value, key, field);
-        return;
+    // Run files written before the chains had a seed of their own stored one "seed",
+    // which seeded both the chains and the tracked summaries.
+    const bool renamed =
+        std::string_view(name) == "chain_seed" || std::string_view(name) == "summary_seed";
+    for (const char* wanted : {name, renamed ? "seed" : name}) {
+      for (const auto& [key, value] : values) {
+        if (key == wanted) {
+          status = from_value(value, key, field);
+          return;
+        }
       }
     }
     status = Status::corrupt(fmt::format("the run file has no setting '{}'", name));

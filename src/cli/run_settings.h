@@ -26,7 +26,12 @@ struct TrainSettings {
   /// Tracked summaries: probe rows (from the validation split) and projections.
   std::int64_t probe_rows = 256;
   int projections = 4;
-  std::uint64_t init_seed = 0;  // network initialisation; 0 = derived from the run seed
+  /// Starting points: chain c starts from stream_seed(init_seed, kInit, c) (util/rng.h);
+  /// 0 = the run seed.
+  std::uint64_t init_seed = 0;
+  /// Random projections of the tracked summaries: `credence train` sets the split's
+  /// --seed, so runs that differ only in --chain-seed project alike and can be merged.
+  std::uint64_t summary_seed = 0;
   double flush_seconds = 2.0;   // longest time a kept sample waits before reaching disk
 };
 

@@ -35,6 +35,7 @@
 #include "credence/version.h"
 #include "util/log.h"
 #include "util/warn_once.h"
+#include "util/rng.h"
 
 #ifdef CREDENCE_HAVE_BLAS
 extern "C" void openblas_set_num_threads(int);
@@ -189,7 +190,8 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
   if (p.settings.chains.early_stop.every > 0) {
     p.held_out = gather_training_rows(data->x, data->labels, held_out_rows(data->split.validation));
   }
-  if (p.settings.init_seed == 0) p.settings.init_seed = p.settings.chains.seed + 1;
+  // Starting points draw from their own purpose's streams, so the run seed serves.
+  if (p.settings.init_seed == 0) p.settings.init_seed = p.settings.chains.seed;
 
   RunHeader& h = p.header;
   h.tool_version = kVersion;
@@ -443,10 +445,9 @@ PotentialFactory factory_of(const Prepared& p) {
   return [&p](int chain) -> std::unique_ptr<PotentialFn> {
     const TrainSettings& s = p.settings;
     // The batch order of chain c depends on (seed, c) only, not on thread timing.
-    auto potential = TablePotential::create(p.rows, p.layout, p.spec.prior,
-                                            potential_settings_of(s), s.batches,
-                                            s.chains.seed * 1000003ULL +
-                                                static_cast<std::uint64_t>(chain));
+    auto potential = TablePotential::create(
+        p.rows, p.layout, p.spec.prior, potential_settings_of(s), s.batches,
+        stream_seed(s.chains.seed, SeedPurpose::kBatches, static_cast<std::uint64_t>(chain)));
     return potential.ok() ? std::move(*potential) : nullptr;
   };
 }
@@ -462,7 +463,8 @@ InitFn init_of(const Prepared& p) {
   return [&p](int chain, ThetaRef theta) {
     Eigen::VectorXf start(theta.size());
     initialize_params<float>(start, p.layout,
-                             p.settings.init_seed + static_cast<std::uint64_t>(chain) * 7919ULL);
+                             stream_seed(p.settings.init_seed, SeedPurpose::kInit,
+                                         static_cast<std::uint64_t>(chain)));
     theta = start;
     return Status::ok_status();
   };
@@ -535,7 +537,7 @@ Status run_chains_into(Prepared& p, RunWriter& writer, const std::string& run_pa
   std::int64_t kept = 0;
   std::vector<std::int64_t> next_steps = next_steps_of(resume, s.chains.chains, kept);
   Result<SampleSummarizer> summarizer =
-      SampleSummarizer::create(p.layout, p.probe, s.projections, s.chains.seed);
+      SampleSummarizer::create(p.layout, p.probe, s.projections, s.summary_seed);
   if (!summarizer.ok()) return summarizer.status();
   ProgressDisplay progress(fmt::format("train {}", method_name(s.sampler.method)),
                            steps_per_chain_of(s) * s.chains.chains,
@@ -776,7 +778,7 @@ Status run_root(const mpi::World& world, Prepared& p, RunWriter& writer,
   std::int64_t kept = 0;
   std::vector<std::int64_t> next_steps = next_steps_of(resume_all, chains, kept);
   Result<SampleSummarizer> summarizer =
-      SampleSummarizer::create(p.layout, p.probe, s.projections, s.chains.seed);
+      SampleSummarizer::create(p.layout, p.probe, s.projections, s.summary_seed);
   if (!summarizer.ok()) return summarizer.status();
   ProgressDisplay progress(fmt::format("train {} ({} ranks)", method_name(s.sampler.method),
                                        world.size()),

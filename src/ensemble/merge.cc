@@ -1,10 +1,12 @@
 // merge_runs: joins runs of the same net and preprocessing, renumbering chains.
+#include <fmt/format.h>
 #include <unistd.h>
 
 #include <algorithm>
 #include <filesystem>
 #include <sstream>
 #include <system_error>
+#include <variant>
 
 #include "credence/ensemble.h"
 #include "ensemble/copy_committed.h"
@@ -45,6 +47,33 @@ std::string preprocessing_difference(const Preprocessing& a, const Preprocessing
   if (a.impute != b.impute) return "missing-value handling";
   if (a.unseen != b.unseen) return "unseen-category policy";
   return "input width or class order";
+}
+
+// A setting as text ("sgld", "0.5"), or "(none)" when the run does not record it.
+std::string setting_text(const Settings& settings, const std::string& name) {
+  for (const auto& [key, value] : settings) {
+    if (key != name) continue;
+    if (const auto* text = std::get_if<std::string>(&value)) return *text;
+    if (const auto* number = std::get_if<double>(&value)) return fmt::format("{}", *number);
+    return std::to_string(std::get<std::int64_t>(value));
+  }
+  return "(none)";
+}
+
+// Runs are merged into one ensemble of one target: the method and what it samples (the
+// temperature and what it tempers) must agree, or the merged run would report the first
+// run's method for every sample.
+Status check_same_target(const RunHeader& a, const std::string& a_path, const RunHeader& b,
+                         const std::string& b_path) {
+  for (const char* name : {"method", "temperature", "tempering"}) {
+    const std::string x = setting_text(a.settings, name), y = setting_text(b.settings, name);
+    if (x == y) continue;
+    return Status::invalid_input(fmt::format(
+        "merging run files: {} has {} {} but {} has {} {}; only runs of the same method and "
+        "target can be merged; merge each method's runs separately",
+        b_path, name, y, a_path, name, x));
+  }
+  return Status::ok_status();
 }
 
 // Every name of `from` not yet in `into` is added (sizes of names already present win).
@@ -112,6 +141,7 @@ Status merge_runs(std::span<const std::string> inputs, const std::string& output
                                    " differ (probe rows, projections or layers); train both "
                                    "with the same split and settings");
     }
+    CREDENCE_RETURN_IF_ERROR(check_same_target(first, inputs[0], h, inputs[i]));
     if (h.data_sha256 != first.data_sha256) {
       log().warn("merging run files: {} was trained on a data file with another SHA-256 than {}",
                  inputs[i], inputs[0]);

@@ -75,6 +75,9 @@ class CountingPotential final : public PotentialFn {
   bool gradient_noise_variance(ThetaRef vhat) override {
     return inner_->gradient_noise_variance(vhat);
   }
+  std::optional<double> noise_temperature() const override {
+    return inner_->noise_temperature();
+  }
   void save_state(NamedArrays& out) const override { inner_->save_state(out); }
   Status restore_state(const NamedArrays& in) override { return inner_->restore_state(in); }
 
@@ -102,9 +105,17 @@ class ChainRunner {
     potential_ = std::make_unique<CountingPotential>(
         std::move(made_potential), cx_.resume ? cx_.resume->gradient_evals : 0);
     seconds_before_ = cx_.resume ? cx_.resume->seconds : 0.0;
+    // The noise temperature is the potential's when it fixes one: a likelihood-tempered
+    // potential already holds the 1/T (METHODS.md section 1, Form B).
+    SamplerSettings settings = cx_.settings;
+    if (const std::optional<double> noise = potential_->noise_temperature();
+        noise && is_sampler(settings.method)) {
+      settings.temperature = *noise;
+    }
     Result<std::unique_ptr<Sampler>> made =
-        Sampler::create(cx_.settings, cx_.parameters, potential_->rows(),
-                        mix_seed(cx_.layout.seed, static_cast<std::uint64_t>(chain_)));
+        Sampler::create(settings, cx_.parameters, potential_->rows(),
+                        stream_seed(cx_.layout.seed, SeedPurpose::kSampler,
+                                    static_cast<std::uint64_t>(chain_)));
     if (!made.ok()) return made.status();
     sampler_ = std::move(*made);
     if (cx_.layout.early_stop.every > 0) {

@@ -94,6 +94,14 @@ Status validate(const SamplerSettings& s) {
       return bad("schedule.exploration_fraction", "must lie in [0, 1)");
     }
   }
+  // A decreasing step needs kept samples weighted by their step (METHODS.md section 1,
+  // "Collecting the ensemble"); the run file keeps equal weights, so samplers refuse it.
+  if (is_sampler(s.method) && !is_full_batch(s.method) && sc.kind == ScheduleKind::kPolynomial) {
+    return bad("schedule.kind",
+               "polynomial is for the optimizers (sgd, momentum, rsgd, adam) only: a sampler's "
+               "kept samples would need weights proportional to their step size, which the "
+               "run file does not store; use the constant or cyclical schedule");
+  }
   if (is_full_batch(s.method) && sc.kind != ScheduleKind::kConstant) {
     return bad("schedule.kind", "must be constant for hmc and rhmc (they adapt eps themselves)");
   }
@@ -207,6 +215,8 @@ Status PotentialFn::full(ConstThetaRef, ThetaRef, double&) {
 }
 
 bool PotentialFn::gradient_noise_variance(ThetaRef) { return false; }
+
+std::optional<double> PotentialFn::noise_temperature() const { return std::nullopt; }
 
 void PotentialFn::save_state(NamedArrays&) const {}
 

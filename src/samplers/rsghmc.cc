@@ -44,9 +44,9 @@ class RsghmcRule final : public Rule {
     const double eps = context.step_size;
     const double temperature = this->temperature(context);
     const bool noisy = temperature > 0;
+    const bool correct = noisy && rs.correct_gradient_noise;
+    if (correct) CREDENCE_RETURN_IF_ERROR(gradient_noise_variance(potential, vhat_));
     if (noisy) draw_noise();
-    const bool correct =
-        noisy && rs.correct_gradient_noise && potential.gradient_noise_variance(vhat_);
     const Noise noise = !noisy ? Noise::kNone : (correct ? Noise::kCorrected : Noise::kConstant);
     std::int64_t clipped = 0;
     double speed_sum = 0;

@@ -1,6 +1,8 @@
 // Rule: the checked potential evaluation and state helpers every method shares.
 #include "samplers/rule.h"
 
+#include <fmt/format.h>
+
 #include <cmath>
 #include <string>
 
@@ -51,6 +53,15 @@ Status Rule::evaluate_minibatch(ConstThetaRef theta, PotentialFn& potential, Ste
 Status Rule::evaluate_full(ConstThetaRef theta, PotentialFn& potential, Eigen::VectorXf& grad,
                            double& value) {
   return potential.full(theta, grad, value);
+}
+
+Status Rule::gradient_noise_variance(PotentialFn& potential, Eigen::VectorXf& vhat) const {
+  if (potential.gradient_noise_variance(vhat)) return Status::ok_status();
+  return Status::invalid_input(fmt::format(
+      "{}'s gradient-noise correction needs the per-coordinate variance of the minibatch "
+      "gradient, and this potential does not estimate it (the table potential does not); "
+      "switch the correction off",
+      method_name(settings_.method)));
 }
 
 double Rule::temperature(const StepContext& context) const {

@@ -27,6 +27,11 @@ class Rule : public Sampler {
   Status evaluate_full(ConstThetaRef theta, PotentialFn& potential, Eigen::VectorXf& grad,
                        double& value);
 
+  /// The gradient-noise correction (sghmc, rsghmc) needs Vhat from the potential: fills
+  /// vhat, or refuses (kInvalidInput) a potential that does not estimate it, so the
+  /// switch never silently does nothing.
+  Status gradient_noise_variance(PotentialFn& potential, Eigen::VectorXf& vhat) const;
+
   /// T for this step: 0 for the optimizers and in exploration, else settings.
   double temperature(const StepContext& context) const;
   /// Fills noise_ with fresh N(0, 1) draws.

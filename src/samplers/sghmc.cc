@@ -44,7 +44,8 @@ class SghmcRule final : public Rule {
       draw_noise();
       const float* __restrict xi = noise_.data();
       const double target = ss.alpha * temperature;  // alpha T
-      if (ss.correct_gradient_noise && potential.gradient_noise_variance(vhat_)) {
+      if (ss.correct_gradient_noise) {
+        CREDENCE_RETURN_IF_ERROR(gradient_noise_variance(potential, vhat_));
         // beta_hat_i = eta Vhat_i / 2, clipped to [0, alpha T (1 - 1e-3)].
         const float* __restrict vh = vhat_.data();
         const auto cap = static_cast<float>(target * (1.0 - 1e-3));

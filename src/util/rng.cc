@@ -79,6 +79,10 @@ std::uint64_t mix_seed(std::uint64_t run_seed, std::uint64_t index) {
   return splitmix64(y);
 }
 
+std::uint64_t stream_seed(std::uint64_t seed, SeedPurpose purpose, std::uint64_t chain) {
+  return mix_seed(mix_seed(seed, static_cast<std::uint64_t>(purpose)), chain);
+}
+
 void Rng::reseed(std::uint64_t seed) {
   std::uint64_t x = seed;
   for (int l = 0; l < kLanes; ++l) {

@@ -4,7 +4,7 @@
 // state is a short list of 64-bit words (state() / set_state()), so a checkpoint can
 // resume a chain bit for bit. Streams depend only on the seed, never on threads.
 //
-//   Rng rng(mix_seed(run_seed, chain));
+//   Rng rng(stream_seed(run_seed, SeedPurpose::kSampler, chain));
 //   rng.fill_normal(noise);          // noise: std::span<float>, N(0, 1) draws
 //   double u = rng.uniform();        // [0, 1)
 #pragma once
@@ -24,6 +24,21 @@ std::uint64_t splitmix64(std::uint64_t& x);
 /// result xor (index + 1) * 0x9E3779B97F4A7C15. Chain c of a run always gets the
 /// same seed, whatever the number of threads.
 std::uint64_t mix_seed(std::uint64_t run_seed, std::uint64_t index);
+
+/// What a per-chain random stream is for. Each purpose has its own value, so no two
+/// streams of a run share a seed; add new purposes at the end, never renumber.
+enum class SeedPurpose : std::uint64_t {
+  kSampler = 1,  // the sampler's injected noise and momentum draws
+  kBatches = 2,  // the minibatch order
+  kInit = 3,     // the chain's starting point
+  kGibbs = 4,    // Gibbs draws of prior precisions (a learned prior scale)
+};
+
+/// The one mixing function every per-chain stream of a run derives from:
+/// mix_seed(mix_seed(seed, purpose), chain), two full splitmix64 rounds. Unlike
+/// seed * k + chain, nearby seeds (s and s + 7919) give unrelated streams, and so do
+/// the purposes of one chain.
+std::uint64_t stream_seed(std::uint64_t seed, SeedPurpose purpose, std::uint64_t chain);
 
 /// xoshiro256++ ("Scrambled linear pseudorandom number generators", ACM TOMS 2021)
 /// in kLanes independent lanes for vectorised normals, plus one scalar lane for

@@ -141,7 +141,7 @@ TEST_F(Compare, SweepMarksDivergenceAndKeepsGoing) {
   // step a million times the default); the sweep reports it and still scores the rest.
   auto sweep = run_credence("--quiet sweep '" + data_ +
                             "' --target fault_14d --id unit_id --impute median --methods "
-                            "sghmc,rsghmc --step-sizes 0.003,0.03,10000 --epochs 4 --chains 1 "
+                            "sghmc,sgld --step-sizes 0.003,0.03,10000 --epochs 4 --chains 1 "
                             "--samples 10 --hidden 8 --bootstrap 0 --out '" + path("sweep") + "'");
   ASSERT_EQ(sweep.exit_code, 0) << sweep.output;
   const std::string json = read_text(path("sweep/sweep.json"));

@@ -15,6 +15,7 @@
 
 #include "credence/ensemble.h"
 #include "credence/net.h"
+#include "credence/samplers_settings.h"
 #include "testing/process.h"
 #include "testing/kept_samples.h"
 #include "testing/read_text.h"
@@ -201,8 +202,20 @@ TEST_F(Train, EveryMethodRunsWithItsDefaults) {
   for (const char* method : {"sgld", "psgld", "sghmc", "rsghmc", "sgd", "momentum", "rsgd",
                              "adam", "hmc", "rhmc"}) {
     const std::string run = path(std::string("m_") + method + ".h5");
-    auto out = run_credence(joined(args(run, {"--method", method, "--burn-in", "60", "--thin",
-                                              "2", "--samples", "5", "--epochs", "3"})));
+    // Each method gets only the budget flags it reads (a flag it ignores is refused).
+    const bool sampler = is_sampler(*parse_method(method));
+    std::vector<std::string> budget = {"--method", method};
+    for (const char* flag : sampler ? std::vector<const char*>{"--burn-in", "60", "--thin", "2",
+                                                               "--samples", "5"}
+                                    : std::vector<const char*>{"--epochs", "3"}) {
+      budget.emplace_back(flag);
+    }
+    std::vector<std::string> all = args(run, budget);
+    if (is_full_batch(*parse_method(method))) {  // hmc and rhmc read no --batch
+      const auto at = std::find(all.begin(), all.end(), "--batch");
+      all.erase(at, at + 2);
+    }
+    auto out = run_credence(joined(all));
     EXPECT_EQ(out.exit_code, 0) << method << ": " << out.output;
     auto reader = RunReader::open(run);
     ASSERT_TRUE(reader.ok()) << method << ": " << reader.status().message();
