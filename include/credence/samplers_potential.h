@@ -61,6 +61,7 @@
 #include <functional>
 #include <memory>
 #include <optional>
+#include <span>
 
 #include "credence/named_arrays.h"
 #include "credence/status.h"
@@ -106,6 +107,17 @@ class PotentialFn {
   /// units (METHODS.md section 4: N (N - b) / b * s_i^2), written into `vhat`.
   /// Returns false when the model does not estimate it (the default).  vhat: (P).
   virtual bool gradient_noise_variance(ThetaRef vhat);
+
+  /// Called by the chain driver before every step with the current theta: a model whose
+  /// target moves between steps (the Gibbs updates of a prior that learns its scale,
+  /// METHODS.md section 15) updates it here, never inside a step, so hmc and rhmc keep a
+  /// fixed target within a trajectory. Sets `changed` when the target changed (samplers
+  /// then drop cached potentials). The default does nothing. Must not allocate.
+  virtual Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed);
+
+  /// The model's current hyperparameters (a learned prior's block precisions), recorded
+  /// with every kept sample; empty by default.
+  virtual std::span<const double> hyperparameters() const;
 
   /// Adds the model's resumable state to `out` as named arrays (names without a
   /// prefix; the chain driver adds "model."). The default adds nothing. May allocate;

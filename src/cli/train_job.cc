@@ -90,6 +90,10 @@ PotentialSettings potential_settings_of(const TrainSettings& s) {
   PotentialSettings settings;
   settings.temperature = s.sampler.temperature;
   settings.tempering = s.tempering;
+  // Optimizers keep the fixed precisions; hmc and rhmc update between trajectories.
+  settings.learn_prior_scale = is_sampler(s.sampler.method);
+  settings.full_batch_steps =
+      s.sampler.method == Method::kHmc || s.sampler.method == Method::kRhmc;
   return settings;
 }
 
@@ -127,7 +131,8 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
   if (!digest.ok()) return digest.status();
 
   PriorSpec prior;
-  prior.weight_scale = request.prior_scale;
+  prior.learn_scale = request.prior_scale_auto;
+  if (!request.prior_scale_auto) prior.weight_scale = request.prior_scale;
   Result<NetSpec> spec = request.net_path.empty()
                              ? net_spec_from_options(request.hidden, request.activation, prior)
                              : read_net_file(request.net_path);

@@ -21,7 +21,8 @@ struct TrainRequest {
   std::string net_path;         // --net FILE; empty = from hidden/activation
   std::vector<Index> hidden;    // --hidden 64,64
   std::string activation = "relu";
-  double prior_scale = 1.0;     // --prior-scale (global weight scale s)
+  double prior_scale = 1.0;     // --prior-scale s: the fixed weight scale (or the start)
+  bool prior_scale_auto = true; // --prior-scale auto: learn it (METHODS.md section 15)
   TrainSettings settings;
   std::string out_path;         // --out RUN.h5
   bool force = false;           // overwrite an existing run file

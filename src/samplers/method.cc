@@ -208,6 +208,13 @@ Status PotentialFn::full(ConstThetaRef, ThetaRef, double&) {
 
 bool PotentialFn::gradient_noise_variance(ThetaRef) { return false; }
 
+Status PotentialFn::before_step(ConstThetaRef, std::int64_t, bool& changed) {
+  changed = false;
+  return Status::ok_status();
+}
+
+std::span<const double> PotentialFn::hyperparameters() const { return {}; }
+
 void PotentialFn::save_state(NamedArrays&) const {}
 
 Status PotentialFn::restore_state(const NamedArrays&) { return Status::ok_status(); }
