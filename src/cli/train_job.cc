@@ -357,6 +357,7 @@ class WriterThread {
                             static_cast<std::size_t>(summary_.projections.size())};
       record.layer_sq_norms = {summary_.layer_sq_norms.data(),
                                static_cast<std::size_t>(summary_.layer_sq_norms.size())};
+      record.prior_precision = sample->prior_precision;
       return writer_.append_sample(record);
     }
     return writer_.set_chain_state(std::move(std::get<ChainState>(message)));
@@ -447,7 +448,9 @@ ChainHooks hooks_into(const std::function<void(Message)>& push) {
                      .acceptance = row.report.acceptance.value_or(std::nan(""))});
   };
   hooks.on_sample = [push](const KeptSample& sample) {
-    push(SampleMessage{sample.chain, sample.step, sample.index, sample.theta});
+    push(SampleMessage{sample.chain, sample.step, sample.index, sample.theta,
+                       std::vector<double>(sample.hyperparameters.begin(),
+                                           sample.hyperparameters.end())});
   };
   hooks.on_checkpoint = [push](const ChainCheckpoint& c) { push(state_of(c)); };
   return hooks;

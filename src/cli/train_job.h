@@ -38,6 +38,7 @@ struct SampleMessage {
   std::int64_t step = 0;
   std::int64_t index = 0;
   Eigen::VectorXf theta;  // (P)
+  std::vector<double> prior_precision;  // (2L) a learned prior's precisions, or empty
 };
 /// What the chains hand the single writer (in-process through a queue, or from another
 /// MPI rank as bytes): trace rows, kept samples and chain states, in step order per chain.
