@@ -79,7 +79,7 @@ Status resolve(TrainFlags& flags) {
     if (flags.prior_scale.empty() || *end != '\0' || !(std::isfinite(r.prior_scale) && r.prior_scale > 0)) {
       return Status::invalid_input(fmt::format(
           "--prior-scale {} is not auto or a positive number; give auto (learn the scale) or "
-          "a scale such as 1", flags.prior_scale));
+          "a positive scale such as 1", flags.prior_scale));
     }
   }
   r.settings.chains.seed = r.data.split.seed;
