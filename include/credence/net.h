@@ -99,8 +99,10 @@ struct PriorSpec {
   bool learn_scale = false;  // Default off in the library; the CLI and net files default on.
   double hyper_shape = 1.0;  // a > 0. Default 1: a broad hyperprior.
   // r > 0; empty: each block's own r = a / (its fixed precision), so the hyperprior's mean
-  // a/r is the fixed-prior precision. Default 1: with a = 1 the hyperprior mean 1 is
-  // weak against d_b/2 on any real block (docs/prior.md).
+  // a/r is the fixed-prior precision ("rate=matched"). Default 1 (a = r = 1, as in the
+  // ICML 2014 network experiments): measured lower test NLL than rate=matched in 12 of 15
+  // sampler runs on 70-124-row training sets and within 0.007 nats on 398 and 1,258 rows;
+  // both far below the fixed scale on small tables (docs/prior.md).
   std::optional<double> hyper_rate = 1.0;
   double gibbs_passes = 1.0;  // K in passes over the training rows (>= 1 step); > 0.
 

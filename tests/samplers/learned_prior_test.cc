@@ -3,8 +3,9 @@
 // one coordinate each, theta_i | lambda_i ~ N(0, 1/lambda_i), lambda_i ~ Gamma(a, r), and
 // no data. Then theta_i's marginal is a Student t with 2a degrees of freedom and scale
 // sqrt(r/a), whose variance is r/(a-1) for a > 1, and lambda_i's marginal is the
-// hyperprior itself, mean a/r (the Normal-Gamma conjugate pair; any Bayesian text, e.g.
-// Pattern Recognition and Machine Learning (2006) section 2.3.7).
+// hyperprior itself, mean a/r (the Normal-Gamma conjugate pair; Pattern Recognition and
+// Machine Learning (2006) section 2.3.7, cited from memory; METHODS.md section 15's brief
+// for this test states the same).
 #include <gtest/gtest.h>
 
 #include <cmath>
