@@ -95,6 +95,9 @@ struct SampleRecord {
   std::span<const float> probe_prob;       // (R) p(y_r | x_r, theta) of each probe row's label
   std::span<const float> projections;      // (projections)
   std::span<const float> layer_sq_norms;   // (L)
+  /// (2L) a learned prior's block precisions (layer 1 weights, layer 1 biases, ...), or
+  /// empty when the prior is fixed (stored as NaN).
+  std::span<const double> prior_precision;
 };
 
 /// One trace row; NaN where a quantity does not apply.
@@ -220,7 +223,10 @@ class RunReader {
   Result<std::vector<double>> probe_log_lik() const;         // (S)
   Result<Eigen::MatrixXf> probe_prob() const;                // (R, S)
   Result<Eigen::MatrixXf> projections() const;               // (projections, S)
-  Result<Eigen::MatrixXf> layer_sq_norms() const;            // (L, S)
+  Result<Eigen::MatrixXf> layer_sq_norms() const;
+  /// (2L, S) the learned prior's block precisions per sample; NaN where the prior was
+  /// fixed, and everywhere for a file written before they were recorded.
+  Result<Eigen::MatrixXd> prior_precisions() const;            // (L, S)
   /// The committed trace rows of one chain, in step order.
   Result<std::vector<TraceRecord>> traces(int chain) const;
   /// Every chain's last committed state, as reopen() would return it (next_step 0 and

@@ -6,8 +6,9 @@
 //   U~(theta) = -log p(theta) - (N/b) sum_{n in batch} log p(y_n | x_n, theta),
 // its gradient (the prior enters once, unscaled by N/b), and the full-data U for
 // full-batch HMC. The samplers see only a flat vector and this value-and-gradient call.
-// GaussianPrior is immutable and thread-safe; a Potential owns a workspace and is used by
-// one thread (one per chain). Nothing here depends on the data module: batches arrive as
+// A GaussianPrior's block precisions change only through set_block_precisions (the Gibbs
+// updates of a learned scale, METHODS.md section 15); a Potential owns its prior and a
+// workspace and is used by one thread (one per chain). Nothing here depends on the data module: batches arrive as
 // Eigen views of a (D, b) matrix and a span of int32 labels.
 //
 //   Result<Potential<float>> u = Potential<float>::create(layout, spec.prior, settings);
@@ -46,9 +47,12 @@ struct LayerPriorSigma {
   double bias_sigma = 1.0;    // of every entry of b_l
 };
 
-/// Independent Gaussian prior, one standard deviation per layer block:
-///   -log p(theta) = sum_blocks [ ||theta_block||^2 / (2 sigma^2) + (d/2) log(2 pi sigma^2) ]
-///   grad          = theta / sigma^2
+/// Independent Gaussian prior, one precision lambda = 1/sigma^2 per block:
+///   -log p(theta) = sum_blocks [ lambda ||theta_block||^2 / 2 + (d/2) log(2 pi / lambda) ]
+///   grad          = lambda theta
+/// Blocks: 2 per layer, block 2l the weights of layer l and block 2l+1 its biases. The
+/// precisions start at the spec's fixed values (1/sigma^2 below); a learned scale
+/// (PriorSpec::learn_scale) replaces them between steps through set_block_precisions.
 /// Weight sigma of layer l: scale_l / sqrt(fan_in_l) with fan-in scaling, else scale_l,
 /// where scale_l is the layer's override or the global scale; bias sigma: the layer's
 /// bias override or the global bias scale.
@@ -68,16 +72,33 @@ class GaussianPrior {
   template <typename S>
   void add_gradient(VecRef<S> grad, ConstVecRef<S> theta) const;
 
-  /// Standard deviations per layer, in layout order.
+  /// The spec's fixed standard deviations per layer, in layout order (the starting
+  /// precisions of a learned scale).
   const std::vector<LayerPriorSigma>& sigmas() const { return sigmas_; }
-  /// One standard deviation per coordinate (P), e.g. to draw theta from the prior.
+  /// One standard deviation per coordinate (P) at the current precisions, e.g. to draw
+  /// theta from the prior.
   VecX<double> coordinate_sigmas() const;
+
+  /// 2 x layers: block 2l is layer l's weights, 2l+1 its biases.
+  Index num_blocks() const { return static_cast<Index>(precisions_.size()); }
+  Index block_offset(Index block) const;  // first coordinate in theta
+  Index block_size(Index block) const;    // d_b
+  /// ||theta_b||^2 accumulated in double.  REQUIRES: theta.size() == P.
+  template <typename S>
+  double block_squared_norm(ConstVecRef<S> theta, Index block) const;
+  /// Current precision of every block (num_blocks()).
+  std::span<const double> block_precisions() const { return precisions_; }
+  /// Replaces every block's precision. Returns false, changing nothing, unless there
+  /// are num_blocks() values, each positive and finite. Allocates nothing.
+  bool set_block_precisions(std::span<const double> precisions);
 
  private:
   GaussianPrior(ParamLayout layout, std::vector<LayerPriorSigma> sigmas);
+  void update_log_normaliser();
   ParamLayout layout_;
   std::vector<LayerPriorSigma> sigmas_;
-  double log_normaliser_ = 0;  // sum over blocks of (d/2) log(2 pi sigma^2)
+  std::vector<double> precisions_;  // (num_blocks) lambda_b
+  double log_normaliser_ = 0;  // sum over blocks of (d/2) log(2 pi / lambda_b)
 };
 
 /// -log N(theta; 0, sigma^2 I) = ||theta||^2/(2 sigma^2) + (d/2) log(2 pi sigma^2) for one
@@ -90,6 +111,13 @@ struct PotentialSettings {
   Index max_batch_rows = 0;  // b_max, workspace columns: the largest batch; >= 1
   double temperature = 1.0;  // T >= 0; 1 is the Bayes posterior, 0 the optimizer limit
   Tempering tempering = Tempering::kWholePosterior;  // what T tempers; default both
+  // Gibbs updates of the block precisions when the prior spec learns its scale
+  // (METHODS.md section 15). Off for optimizers, which keep the fixed precisions (the
+  // T -> 0 limit of the draw drives lambda to infinity); also off at T = 0. Default on.
+  bool learn_prior_scale = true;
+  // One step reads every training row (hmc, rhmc: a step is one trajectory), so a pass
+  // is one step; otherwise a pass is ceil(N / batch) steps. Default off.
+  bool full_batch_steps = false;
 };
 
 /// Value and gradient of the potential on minibatches and on the full data.
@@ -137,6 +165,10 @@ class Potential {
 
   const Network<S>& network() const { return network_; }
   const GaussianPrior& prior() const { return prior_; }
+  /// For the Gibbs updates of a learned scale: see GaussianPrior::set_block_precisions.
+  bool set_block_precisions(std::span<const double> precisions) {
+    return prior_.set_block_precisions(precisions);
+  }
   const PotentialSettings& settings() const { return settings_; }
 
  private:

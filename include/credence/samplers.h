@@ -91,6 +91,10 @@ class Sampler {
 
   /// The step size in U units this sampler was built with (before the schedule).
   virtual double base_step_size() const = 0;
+
+  /// The potential changed between steps (PotentialFn::before_step): forget any cached
+  /// U or gradient at the current theta. The default keeps nothing cached.
+  virtual void target_changed() {}
 };
 
 /// Scores theta on rows the chain does not train on (lower is better; for example the
@@ -153,6 +157,9 @@ struct KeptSample {
   std::int64_t step = 0;   // 0-based step after which theta was taken
   std::int64_t index = 0;  // 0-based kept-sample number within the chain
   ConstThetaRef theta;     // (P)
+  /// The model's hyperparameters at this sample (PotentialFn::hyperparameters: a learned
+  /// prior's block precisions); empty when it has none.
+  std::span<const double> hyperparameters;
 };
 
 /// One trace row.

@@ -61,6 +61,7 @@
 #include <functional>
 #include <memory>
 #include <optional>
+#include <span>
 
 #include "credence/named_arrays.h"
 #include "credence/status.h"
@@ -114,6 +115,16 @@ class PotentialFn {
   /// target p(theta)^(1/T) p(D|theta)^(1/T^2). run_chains() builds each chain's sampler
   /// with this temperature; code that calls Sampler::create itself must do the same.
   virtual std::optional<double> noise_temperature() const;
+  /// Called by the chain driver before every step with the current theta: a model whose
+  /// target moves between steps (the Gibbs updates of a prior that learns its scale,
+  /// METHODS.md section 15) updates it here, never inside a step, so hmc and rhmc keep a
+  /// fixed target within a trajectory. Sets `changed` when the target changed (samplers
+  /// then drop cached potentials). The default does nothing. Must not allocate.
+  virtual Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed);
+
+  /// The model's current hyperparameters (a learned prior's block precisions), recorded
+  /// with every kept sample; empty by default.
+  virtual std::span<const double> hyperparameters() const;
 
   /// Adds the model's resumable state to `out` as named arrays (names without a
   /// prefix; the chain driver adds "model."). The default adds nothing. May allocate;

@@ -10,6 +10,11 @@
 // (BatchPosition, data.h) and restore_state() seeks back there, so a resumed chain
 // draws the very batches it would have drawn.
 //
+// When the prior learns its scale (PriorSpec::learn_scale, METHODS.md section 15) and the
+// settings allow it, before_step() redraws the block precisions every K steps (K = the
+// spec's passes over the training rows), and the state also holds "prior_rng" and
+// "prior_precision"; hyperparameters() are the current precisions.
+//
 //   TrainingRows rows = gather_training_rows(data.x, data.labels, data.split.train);
 //   auto factory = [&](int chain) {
 //     return TablePotential::create(rows, layout, prior, {.temperature = 1},
@@ -44,8 +49,11 @@ TrainingRows gather_training_rows(const Eigen::MatrixXf& x, std::span<const std:
                                   std::span<const std::int64_t> rows);
 
 /// U~ over seeded minibatches of the training rows; see the file comment.
+class PrecisionGibbs;
+
 class TablePotential final : public PotentialFn {
  public:
+  ~TablePotential() override;
   /// `rows` must outlive the object. `settings.num_train_rows` and
   /// `settings.max_batch_rows` are filled in here (N = rows.x.cols(), and the batch
   /// size capped at N). Fails with kInvalidInput on bad settings or an empty table.
@@ -67,6 +75,13 @@ class TablePotential final : public PotentialFn {
     return potential_.noise_temperature();
   }
 
+  /// Gibbs update of the learned prior precisions when one is due (see the file comment).
+  Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed) override;
+  /// The block precisions when the prior learns its scale; empty otherwise.
+  std::span<const double> hyperparameters() const override;
+  /// Steps between Gibbs updates; 0 when the precisions stay fixed.
+  std::int64_t prior_update_every() const;
+
   /// Adds words["batch_position"] = {epoch, cursor} of the next minibatch.
   void save_state(NamedArrays& out) const override;
   /// Seeks to the saved batch position. kCorrupt when "batch_position" is missing,
@@ -87,6 +102,7 @@ class TablePotential final : public PotentialFn {
   Potential<float> potential_;
   std::vector<std::int64_t> all_rows_;   // 0..N-1, the iterator's subset
   BatchIterator batches_;
+  std::unique_ptr<PrecisionGibbs> gibbs_;  // null: the prior's precisions stay fixed
   Eigen::MatrixXf x_batch_;              // (D, B)
   std::vector<std::int32_t> labels_batch_;  // (B)
 };

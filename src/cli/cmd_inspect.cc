@@ -49,6 +49,29 @@ std::string network_text(const RunHeader& header) {
   return text + fmt::format(" -> {} classes", header.preprocessing.class_names.size());
 }
 
+// The prior the run used: fixed scales, or a learned scale and its hyperprior.
+std::string prior_text(const RunHeader& header) {
+  Result<NetSpec> spec = parse_net_text(header.net_text, "stored net");
+  if (!spec.ok()) return "(net text unreadable)";
+  const PriorSpec& p = spec->prior;
+  const std::string bias = fmt::format("bias sd {:g}", p.bias_scale);
+  const std::string weights =
+      p.fan_in_scaling ? fmt::format("{:g}/sqrt(fan-in)", p.weight_scale)
+                       : fmt::format("{:g}", p.weight_scale);
+  std::string text = p.learn_scale
+                         ? fmt::format("learned scale (scale=auto): per-block precision with a "
+                                       "Gamma(shape {:g}, rate {}) hyperprior, Gibbs update "
+                                       "every {:g} pass(es), started at weight sd {}, {}; "
+                                       "samplers only (optimizers keep the start)",
+                                       p.hyper_shape,
+                                       p.hyper_rate ? fmt::format("{:g}", *p.hyper_rate)
+                                                    : std::string("matched"),
+                                       p.gibbs_passes, weights, bias)
+                         : fmt::format("fixed: weight sd {}, {}", weights, bias);
+  if (!p.overrides.empty()) text += fmt::format(" ({} layer override(s))", p.overrides.size());
+  return text;
+}
+
 std::string text_report(const std::string& path, const RunHeader& h, const RunSummary& s,
                         const std::optional<StoredTemperature>& temperature) {
   std::string out;
@@ -72,6 +95,7 @@ std::string text_report(const std::string& path, const RunHeader& h, const RunSu
   }
   line("target", fmt::format("{} (classes {})", h.preprocessing.target, classes));
   line("network", fmt::format("{}; {} parameters", network_text(h), h.parameters));
+  line("prior", prior_text(h));
   line("samples", fmt::format("{} kept of {} planned ({} chains x {})", s.samples,
                               h.samples_per_chain * h.chains, h.chains, h.samples_per_chain));
   const bool costs = s.seconds_per_chain.size() == s.kept_per_chain.size();

@@ -2,6 +2,7 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <cstdlib>
 #include <sstream>
 
 #include "cli/budget.h"
@@ -21,6 +22,7 @@ struct TrainFlags {
   std::string hidden;            // "64,64"
   std::string schedule = "constant";
   std::string tempering = "posterior";
+  std::string prior_scale = "auto";  // --prior-scale: auto or a positive number
   bool fixed_mass = false;
   // The budget flags, to tell a value given from a default sized to the table.
   CLI::Option* burn_in = nullptr;
@@ -87,9 +89,15 @@ Status resolve(TrainFlags& flags) {
   Result<std::vector<Index>> widths = parse_widths(flags.hidden.empty() ? "32,32" : flags.hidden);
   if (!widths.ok()) return widths.status();
   r.hidden = *widths;
-  if (!(std::isfinite(r.prior_scale) && r.prior_scale > 0)) {
-    return Status::invalid_input(fmt::format(
-        "--prior-scale {} is out of range; give a positive scale such as 1", r.prior_scale));
+  r.prior_scale_auto = flags.prior_scale == "auto";
+  if (!r.prior_scale_auto) {
+    char* end = nullptr;
+    r.prior_scale = std::strtod(flags.prior_scale.c_str(), &end);
+    if (flags.prior_scale.empty() || *end != '\0' || !(std::isfinite(r.prior_scale) && r.prior_scale > 0)) {
+      return Status::invalid_input(fmt::format(
+          "--prior-scale {} is not auto or a positive number; give auto (learn the scale) or "
+          "a positive scale such as 1", flags.prior_scale));
+    }
   }
   r.budget_given = BudgetGiven{.burn_in = flags.burn_in->count() > 0,
                                .thin = flags.thin->count() > 0,
@@ -127,8 +135,10 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   net->add_option("--hidden", flags->hidden, "Hidden layer widths, e.g. 64,64 ('none': no hidden layer) [32,32]");
   net->add_option("--activation", r.activation, "relu, tanh, sigmoid, softplus or identity")
       ->capture_default_str();
-  net->add_option("--prior-scale", r.prior_scale,
-                  "Weight prior scale s (sd s/sqrt(fan-in)); with --hidden only")
+  net->add_option("--prior-scale", flags->prior_scale,
+                  "auto: each layer's weights and biases learn their prior precision (Gamma "
+                  "hyperprior, Gibbs updates in samplers; optimizers keep scale 1); or a fixed "
+                  "weight scale s (sd s/sqrt(fan-in)); with --hidden only (docs/prior.md)")
       ->capture_default_str();
 
   auto* method = sub->add_option_group("method");

@@ -82,6 +82,7 @@ void put_message(Packer& out, const ChainMessage& message) {
     const auto* bytes = reinterpret_cast<const char*>(sample->theta.data());
     out.bytes().insert(out.bytes().end(), bytes,
                        bytes + static_cast<std::size_t>(sample->theta.size()) * sizeof(float));
+    out.put_vector(sample->prior_precision);
   } else {
     out.put(Kind::kState);
     put_chain_state(out, std::get<ChainState>(message));
@@ -103,7 +104,7 @@ bool get_message(Unpacker& in, ChainMessage& message) {
       std::int32_t chain = 0;
       std::vector<float> theta;
       if (!in.get(chain) || !in.get(sample.step) || !in.get(sample.index) ||
-          !in.get_vector(theta)) {
+          !in.get_vector(theta) || !in.get_vector(sample.prior_precision)) {
         return false;
       }
       sample.chain = chain;

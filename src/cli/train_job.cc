@@ -96,6 +96,10 @@ PotentialSettings potential_settings_of(const TrainSettings& s) {
   PotentialSettings settings;
   settings.temperature = s.sampler.temperature;
   settings.tempering = s.tempering;
+  // Optimizers keep the fixed precisions; hmc and rhmc update between trajectories.
+  settings.learn_prior_scale = is_sampler(s.sampler.method);
+  settings.full_batch_steps =
+      s.sampler.method == Method::kHmc || s.sampler.method == Method::kRhmc;
   return settings;
 }
 
@@ -139,7 +143,8 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
   if (!digest.ok()) return digest.status();
 
   PriorSpec prior;
-  prior.weight_scale = request.prior_scale;
+  prior.learn_scale = request.prior_scale_auto;
+  if (!request.prior_scale_auto) prior.weight_scale = request.prior_scale;
   Result<NetSpec> spec = request.net_path.empty()
                              ? net_spec_from_options(request.hidden, request.activation, prior)
                              : read_net_file(request.net_path);
@@ -386,6 +391,7 @@ class WriterThread {
                             static_cast<std::size_t>(summary_.projections.size())};
       record.layer_sq_norms = {summary_.layer_sq_norms.data(),
                                static_cast<std::size_t>(summary_.layer_sq_norms.size())};
+      record.prior_precision = sample->prior_precision;
       return writer_.append_sample(record);
     }
     return writer_.set_chain_state(std::move(std::get<ChainState>(message)));
@@ -483,7 +489,9 @@ ChainHooks hooks_into(const std::function<void(Message)>& push) {
                      .acceptance = row.report.acceptance.value_or(std::nan(""))});
   };
   hooks.on_sample = [push](const KeptSample& sample) {
-    push(SampleMessage{sample.chain, sample.step, sample.index, sample.theta});
+    push(SampleMessage{sample.chain, sample.step, sample.index, sample.theta,
+                       std::vector<double>(sample.hyperparameters.begin(),
+                                           sample.hyperparameters.end())});
   };
   hooks.on_checkpoint = [push](const ChainCheckpoint& c) { push(state_of(c)); };
   return hooks;

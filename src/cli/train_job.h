@@ -24,7 +24,8 @@ struct TrainRequest {
   std::string net_path;         // --net FILE; empty = from hidden/activation
   std::vector<Index> hidden;    // --hidden 64,64
   std::string activation = "relu";
-  double prior_scale = 1.0;     // --prior-scale (global weight scale s)
+  double prior_scale = 1.0;     // --prior-scale s: the fixed weight scale (or the start)
+  bool prior_scale_auto = true; // --prior-scale auto: learn it (METHODS.md section 15)
   TrainSettings settings;
   /// Set (by `credence train`): size the budget flags not given from the table
   /// (budget.h). Empty: use settings' budget as it is.
@@ -45,6 +46,7 @@ struct SampleMessage {
   std::int64_t step = 0;
   std::int64_t index = 0;
   Eigen::VectorXf theta;  // (P)
+  std::vector<double> prior_precision;  // (2L) a learned prior's precisions, or empty
 };
 /// What the chains hand the single writer (in-process through a queue, or from another
 /// MPI rank as bytes): trace rows, kept samples and chain states, in step order per chain.

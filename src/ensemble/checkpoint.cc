@@ -133,6 +133,8 @@ void create_tables(H5::H5File& file, const RunHeader& header) {
                    narrow(header.projections));
   h5::create_table(samples, kLayerSqNorms, h5::Type<float>::file(), header.layers,
                    narrow(header.layers));
+  h5::create_table(samples, kPriorPrecision, h5::Type<double>::file(), 2 * header.layers,
+                   narrow(2 * header.layers));
 
   H5::Group traces = file.createGroup(kTraces);
   for (int c = 0; c < header.chains; ++c) {

@@ -31,10 +31,12 @@ Status copy_committed(const RunReader& run, RunWriter& writer, int chain_base) {
   Result<Eigen::MatrixXf> probe = run.probe_prob();         // (R, S)
   Result<Eigen::MatrixXf> projections = run.projections();  // (J, S)
   Result<Eigen::MatrixXf> norms = run.layer_sq_norms();     // (L, S)
+  Result<Eigen::MatrixXd> precisions = run.prior_precisions();  // (2L, S)
   Result<std::vector<ChainState>> states = run.chain_states();
   for (const Status& s :
        {theta.status(), chains.status(), steps.status(), indices.status(), log_lik.status(),
-        probe.status(), projections.status(), norms.status(), states.status()}) {
+        probe.status(), projections.status(), norms.status(), precisions.status(),
+        states.status()}) {
     CREDENCE_RETURN_IF_ERROR(s);
   }
   for (Eigen::Index j = 0; j < theta->cols(); ++j) {
@@ -49,6 +51,11 @@ Status copy_committed(const RunReader& run, RunWriter& writer, int chain_base) {
     record.projections = {projections->col(j).data(),
                           static_cast<std::size_t>(projections->rows())};
     record.layer_sq_norms = {norms->col(j).data(), static_cast<std::size_t>(norms->rows())};
+    // NaN columns (a fixed prior) are written back as NaN.
+    if (!precisions->col(j).hasNaN()) {
+      record.prior_precision = {precisions->col(j).data(),
+                                static_cast<std::size_t>(precisions->rows())};
+    }
     CREDENCE_RETURN_IF_ERROR(writer.append_sample(record));
   }
   for (int c = 0; c < run.header().chains; ++c) {

@@ -82,6 +82,9 @@ inline constexpr const char* kProbeLogLik = "probe_log_lik";    // float64 (S)
 inline constexpr const char* kProbeProb = "probe_prob";         // float32 (S, R)
 inline constexpr const char* kProjections = "projections";      // float32 (S, J)
 inline constexpr const char* kLayerSqNorms = "layer_sq_norms";  // float32 (S, L)
+// float64 (S, 2L): a learned prior's block precisions at each sample (weights, then biases,
+// layer by layer); NaN rows when the prior was fixed. Absent from older files.
+inline constexpr const char* kPriorPrecision = "prior_precision";
 inline constexpr std::array<const char*, 8> kSampleTables = {
     kTheta, kChain, kStep, kIndex, kProbeLogLik, kProbeProb, kProjections, kLayerSqNorms};
 

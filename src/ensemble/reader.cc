@@ -1,6 +1,7 @@
 // RunReader: opens a run file (also one left by a crash) and reads its committed rows.
 #include <cmath>
 #include <filesystem>
+#include <limits>
 #include <system_error>
 
 #include "credence/ensemble.h"
@@ -76,6 +77,11 @@ struct RunReader::Impl {
       if (!chunks_on_disk(samples.openDataSet(name), committed.samples, bytes)) {
         return std::string(kSamples) + "/" + name;
       }
+    }
+    // Optional: older files lack it.
+    if (samples.nameExists(kPriorPrecision) &&
+        !chunks_on_disk(samples.openDataSet(kPriorPrecision), committed.samples, bytes)) {
+      return std::string(kSamples) + "/" + kPriorPrecision;
     }
     H5::Group traces = file.openGroup(kTraces);
     for (int c = 0; c < header.chains; ++c) {
@@ -232,6 +238,25 @@ Result<Eigen::MatrixXf> RunReader::probe_prob() const {
 
 Result<Eigen::MatrixXf> RunReader::projections() const {
   return impl_->read_matrix(kProjections, impl_->header.projections);
+}
+
+Result<Eigen::MatrixXd> RunReader::prior_precisions() const {
+  const std::int64_t rows = 2 * std::int64_t{impl_->header.layers};
+  Eigen::MatrixXd out = Eigen::MatrixXd::Constant(rows, impl_->committed.samples,
+                                                  std::numeric_limits<double>::quiet_NaN());
+  Status status = h5::guard(impl_->context(), StatusCode::kCorrupt, [&]() {
+    H5::Group group = impl_->file.openGroup(kSamples);
+    if (!group.nameExists(kPriorPrecision) || rows == 0) return Status::ok_status();
+    H5::DataSet set = group.openDataSet(kPriorPrecision);
+    if (h5::table_cols(set) != rows) {
+      return Status::corrupt(impl_->context() + ": samples/" + kPriorPrecision +
+                             " has the wrong width");
+    }
+    h5::read_rows(set, 0, impl_->committed.samples, out.data(), h5::Type<double>::mem());
+    return Status::ok_status();
+  });
+  if (!status.ok()) return status;
+  return out;
 }
 
 Result<Eigen::MatrixXf> RunReader::layer_sq_norms() const {

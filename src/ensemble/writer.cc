@@ -2,6 +2,7 @@
 #include <unistd.h>
 
 #include <filesystem>
+#include <limits>
 #include <system_error>
 
 #include "credence/ensemble.h"
@@ -27,6 +28,7 @@ struct SampleQueue {
   std::vector<float> probe_prob;    // (q, R)
   std::vector<float> projections;   // (q, J)
   std::vector<float> norms;         // (q, L)
+  std::vector<double> precision;    // (q, 2L)
   void clear() { *this = SampleQueue(); }
 };
 
@@ -111,6 +113,10 @@ struct RunWriter::Impl {
       append(kProbeProb, samples.probe_prob.data(), h5::Type<float>::mem());
       append(kProjections, samples.projections.data(), h5::Type<float>::mem());
       append(kLayerSqNorms, samples.norms.data(), h5::Type<float>::mem());
+      // A file created before precisions were recorded has no such table.
+      if (group.nameExists(kPriorPrecision)) {
+        append(kPriorPrecision, samples.precision.data(), h5::Type<double>::mem());
+      }
     }
     H5::Group trace_root = file.openGroup(kTraces);
     for (std::size_t c = 0; c < traces.size(); ++c) {
@@ -251,7 +257,9 @@ Result<std::unique_ptr<RunWriter>> RunWriter::reopen(const std::string& path,
         // Rows past the committed counts are left in place: appends overwrite them from
         // the counts on (tables only ever grow, as SWMR requires).
         H5::Group group = impl->file.openGroup(kSamples);
-        for (const char* name : kSampleTables) {
+        std::vector<const char*> tables(kSampleTables.begin(), kSampleTables.end());
+        if (group.nameExists(kPriorPrecision)) tables.push_back(kPriorPrecision);  // optional
+        for (const char* name : tables) {
           H5::DataSet set = group.openDataSet(name);
           if (h5::table_rows(set) < impl->committed.samples) {
             return Status::corrupt("resuming run file " + path + ": samples/" + name +
@@ -324,7 +332,9 @@ Status RunWriter::append_sample(const SampleRecord& sample) {
       static_cast<std::int64_t>(sample.theta.size()) != h.parameters ||
       sample.probe_prob.size() != h.probe_rows.size() ||
       static_cast<int>(sample.projections.size()) != h.projections ||
-      static_cast<int>(sample.layer_sq_norms.size()) != h.layers) {
+      static_cast<int>(sample.layer_sq_norms.size()) != h.layers ||
+      (!sample.prior_precision.empty() &&
+       static_cast<int>(sample.prior_precision.size()) != 2 * h.layers)) {
     return Status::internal("append_sample: chain or sizes do not match the run header");
   }
   SampleQueue& q = m.samples;
@@ -336,6 +346,13 @@ Status RunWriter::append_sample(const SampleRecord& sample) {
   q.probe_prob.insert(q.probe_prob.end(), sample.probe_prob.begin(), sample.probe_prob.end());
   q.projections.insert(q.projections.end(), sample.projections.begin(), sample.projections.end());
   q.norms.insert(q.norms.end(), sample.layer_sq_norms.begin(), sample.layer_sq_norms.end());
+  if (sample.prior_precision.empty()) {
+    q.precision.insert(q.precision.end(), static_cast<std::size_t>(2 * h.layers),
+                       std::numeric_limits<double>::quiet_NaN());
+  } else {
+    q.precision.insert(q.precision.end(), sample.prior_precision.begin(),
+                       sample.prior_precision.end());
+  }
   ++m.pending.samples_per_chain[static_cast<std::size_t>(sample.chain)];
   return Status::ok_status();
 }

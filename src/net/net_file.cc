@@ -73,6 +73,8 @@ class Parser {
                    "the version line 'credence-net 1'");
     }
     CREDENCE_RETURN_IF_ERROR(check_overrides());
+    // Without a prior line the prior learns its scale (METHODS.md section 15).
+    if (prior_line_ == 0) spec_.prior.learn_scale = true;
     return spec_;
   }
 
@@ -171,23 +173,49 @@ class Parser {
     if (tokens[1].text != "gaussian") return error_at(tokens[1], "a prior family: gaussian");
     spec_.prior.family = PriorFamily::kGaussian;
     std::vector<std::string_view> seen;
+    std::vector<Token> hyper;  // shape=, rate=, every=: read only with scale=auto
     for (std::size_t i = 2; i < tokens.size(); ++i) {
       std::string_view key;
       Token value;
-      CREDENCE_RETURN_IF_ERROR(setting(tokens[i], {"scale", "fan_in", "bias_scale"}, seen, key,
-                                       value));
+      CREDENCE_RETURN_IF_ERROR(setting(tokens[i],
+                                       {"scale", "fan_in", "bias_scale", "shape", "rate", "every"},
+                                       seen, key, value));
       if (key == "fan_in") {
         if (value.text != "on" && value.text != "off") {
           return error_at(value, "on or off after fan_in=");
         }
         spec_.prior.fan_in_scaling = value.text == "on";
-      } else {
-        double number = 0;
-        if (!parse_positive_number(value.text, number)) {
-          return error_at(value, "a positive number after " + std::string(key) + "=");
-        }
-        (key == "scale" ? spec_.prior.weight_scale : spec_.prior.bias_scale) = number;
+        continue;
       }
+      if (key == "scale" && value.text == "auto") {
+        spec_.prior.learn_scale = true;
+        continue;
+      }
+      if (key == "rate" && value.text == "matched") {
+        spec_.prior.hyper_rate.reset();
+        hyper.push_back(tokens[i]);
+        continue;
+      }
+      double number = 0;
+      if (!parse_positive_number(value.text, number)) {
+        return error_at(value, key == "scale" ? std::string("a positive number or auto after scale=")
+                                              : "a positive number after " + std::string(key) + "=");
+      }
+      if (key == "scale") {
+        spec_.prior.weight_scale = number;
+        spec_.prior.learn_scale = false;
+      } else if (key == "bias_scale") {
+        spec_.prior.bias_scale = number;
+      } else {
+        hyper.push_back(tokens[i]);
+        (key == "shape" ? spec_.prior.hyper_shape
+                        : key == "rate" ? spec_.prior.hyper_rate.emplace()
+                                        : spec_.prior.gibbs_passes) = number;
+      }
+    }
+    if (!spec_.prior.learn_scale && !hyper.empty()) {
+      return error_at(hyper.front(), "no shape=, rate= or every= without scale=auto (they set "
+                                     "the learned scale's hyperprior)");
     }
     return Status();
   }

@@ -59,6 +59,15 @@ Status validate_net_spec(const NetSpec& spec) {
                                  number_text(prior.weight_scale) +
                                  ", bias_scale=" + number_text(prior.bias_scale) + ")");
   }
+  if (!positive_finite(prior.hyper_shape) ||
+      (prior.hyper_rate && !positive_finite(*prior.hyper_rate)) ||
+      !positive_finite(prior.gibbs_passes)) {
+    return Status::invalid_input("prior: shape, rate and every must be positive and finite");
+  }
+  if (prior.learn_scale && prior.weight_scale != 1.0) {
+    return Status::invalid_input("prior: a learned scale (scale=auto) starts from scale 1; "
+                                 "set per-layer starting scales with layer_prior");
+  }
   const int num_layers = static_cast<int>(spec.hidden.size()) + 1;
   std::vector<bool> seen(static_cast<std::size_t>(num_layers), false);
   for (const LayerPriorOverride& over : prior.overrides) {
@@ -89,9 +98,16 @@ std::string format_net_spec(const NetSpec& spec) {
             std::string(activation_name(hidden.activation)) + "\n";
   }
   const PriorSpec& prior = spec.prior;
-  text += "prior gaussian scale=" + number_text(prior.weight_scale) +
+  text += "prior gaussian scale=" +
+          (prior.learn_scale ? std::string("auto") : number_text(prior.weight_scale)) +
           " fan_in=" + (prior.fan_in_scaling ? "on" : "off") +
-          " bias_scale=" + number_text(prior.bias_scale) + "\n";
+          " bias_scale=" + number_text(prior.bias_scale);
+  if (prior.learn_scale) {
+    text += " shape=" + number_text(prior.hyper_shape) +
+            " rate=" + (prior.hyper_rate ? number_text(*prior.hyper_rate) : "matched") +
+            " every=" + number_text(prior.gibbs_passes);
+  }
+  text += "\n";
   for (const LayerPriorOverride& over : prior.overrides) {
     text += "layer_prior ";
     text += over.layer == static_cast<int>(spec.hidden.size()) ? std::string("output")

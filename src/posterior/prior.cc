@@ -44,11 +44,47 @@ double gaussian_neg_log_density(ConstVecRef<double> theta, double sigma) {
 
 GaussianPrior::GaussianPrior(ParamLayout layout, std::vector<LayerPriorSigma> sigmas)
     : layout_(std::move(layout)), sigmas_(std::move(sigmas)) {
-  for (std::size_t l = 0; l < layout_.layers.size(); ++l) {
-    const LayerLayout& layer = layout_.layers[l];
-    log_normaliser_ += block_log_normaliser(layer.out * layer.in, sigmas_[l].weight_sigma) +
-                       block_log_normaliser(layer.out, sigmas_[l].bias_sigma);
+  precisions_.resize(2 * sigmas_.size());
+  for (std::size_t l = 0; l < sigmas_.size(); ++l) {
+    precisions_[2 * l] = 1.0 / (sigmas_[l].weight_sigma * sigmas_[l].weight_sigma);
+    precisions_[2 * l + 1] = 1.0 / (sigmas_[l].bias_sigma * sigmas_[l].bias_sigma);
   }
+  update_log_normaliser();
+}
+
+// sum over blocks of (d/2) log(2 pi / lambda)
+void GaussianPrior::update_log_normaliser() {
+  log_normaliser_ = 0;
+  for (Index b = 0; b < num_blocks(); ++b) {
+    log_normaliser_ += 0.5 * static_cast<double>(block_size(b)) *
+                       std::log(2.0 * std::numbers::pi / precisions_[static_cast<std::size_t>(b)]);
+  }
+}
+
+Index GaussianPrior::block_offset(Index block) const {
+  const LayerLayout& layer = layout_.layers[static_cast<std::size_t>(block / 2)];
+  return block % 2 == 0 ? layer.weight_offset : layer.bias_offset;
+}
+
+Index GaussianPrior::block_size(Index block) const {
+  const LayerLayout& layer = layout_.layers[static_cast<std::size_t>(block / 2)];
+  return block % 2 == 0 ? layer.out * layer.in : layer.out;
+}
+
+template <typename S>
+double GaussianPrior::block_squared_norm(ConstVecRef<S> theta, Index block) const {
+  assert(theta.size() == layout_.num_params && block >= 0 && block < num_blocks());
+  return squared_norm(theta.data() + block_offset(block), block_size(block));
+}
+
+bool GaussianPrior::set_block_precisions(std::span<const double> precisions) {
+  if (precisions.size() != precisions_.size()) return false;
+  for (double p : precisions) {
+    if (!(std::isfinite(p) && p > 0)) return false;
+  }
+  precisions_.assign(precisions.begin(), precisions.end());
+  update_log_normaliser();
+  return true;
 }
 
 Result<GaussianPrior> GaussianPrior::create(const PriorSpec& spec, const ParamLayout& layout) {
@@ -77,14 +113,8 @@ template <typename S>
 double GaussianPrior::neg_log_density(ConstVecRef<S> theta) const {
   assert(theta.size() == layout_.num_params);
   double quadratic = 0;
-  for (std::size_t l = 0; l < layout_.layers.size(); ++l) {
-    const LayerLayout& layer = layout_.layers[l];
-    const double w_norm2 =
-        squared_norm(theta.data() + layer.weight_offset, layer.out * layer.in);
-    const double b_norm2 = squared_norm(theta.data() + layer.bias_offset, layer.out);
-    const double w_sigma = sigmas_[l].weight_sigma;
-    const double b_sigma = sigmas_[l].bias_sigma;
-    quadratic += w_norm2 / (2.0 * w_sigma * w_sigma) + b_norm2 / (2.0 * b_sigma * b_sigma);
+  for (Index b = 0; b < num_blocks(); ++b) {
+    quadratic += 0.5 * precisions_[static_cast<std::size_t>(b)] * block_squared_norm<S>(theta, b);
   }
   return quadratic + log_normaliser_;
 }
@@ -92,26 +122,19 @@ double GaussianPrior::neg_log_density(ConstVecRef<S> theta) const {
 template <typename S>
 void GaussianPrior::add_gradient(VecRef<S> grad, ConstVecRef<S> theta) const {
   assert(theta.size() == layout_.num_params && grad.size() == layout_.num_params);
-  for (std::size_t l = 0; l < layout_.layers.size(); ++l) {
-    const LayerLayout& layer = layout_.layers[l];
-    const Index w_size = layer.out * layer.in;
-    const auto w_precision = static_cast<S>(1.0 / (sigmas_[l].weight_sigma *
-                                                   sigmas_[l].weight_sigma));
-    const auto b_precision = static_cast<S>(1.0 / (sigmas_[l].bias_sigma *
-                                                   sigmas_[l].bias_sigma));
-    grad.segment(layer.weight_offset, w_size) +=
-        w_precision * theta.segment(layer.weight_offset, w_size);
-    grad.segment(layer.bias_offset, layer.out) +=
-        b_precision * theta.segment(layer.bias_offset, layer.out);
+  for (Index b = 0; b < num_blocks(); ++b) {
+    const auto precision = static_cast<S>(precisions_[static_cast<std::size_t>(b)]);
+    const Index offset = block_offset(b);
+    const Index size = block_size(b);
+    grad.segment(offset, size) += precision * theta.segment(offset, size);
   }
 }
 
 VecX<double> GaussianPrior::coordinate_sigmas() const {
   VecX<double> sigma(layout_.num_params);
-  for (std::size_t l = 0; l < layout_.layers.size(); ++l) {
-    const LayerLayout& layer = layout_.layers[l];
-    sigma.segment(layer.weight_offset, layer.out * layer.in).setConstant(sigmas_[l].weight_sigma);
-    sigma.segment(layer.bias_offset, layer.out).setConstant(sigmas_[l].bias_sigma);
+  for (Index b = 0; b < num_blocks(); ++b) {
+    sigma.segment(block_offset(b), block_size(b))
+        .setConstant(1.0 / std::sqrt(precisions_[static_cast<std::size_t>(b)]));
   }
   return sigma;
 }
@@ -120,5 +143,8 @@ template double GaussianPrior::neg_log_density<float>(ConstVecRef<float>) const;
 template double GaussianPrior::neg_log_density<double>(ConstVecRef<double>) const;
 template void GaussianPrior::add_gradient<float>(VecRef<float>, ConstVecRef<float>) const;
 template void GaussianPrior::add_gradient<double>(VecRef<double>, ConstVecRef<double>) const;
+
+template double GaussianPrior::block_squared_norm<float>(ConstVecRef<float>, Index) const;
+template double GaussianPrior::block_squared_norm<double>(ConstVecRef<double>, Index) const;
 
 }  // namespace credence

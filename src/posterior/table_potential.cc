@@ -1,7 +1,11 @@
 // TablePotential: minibatches of training rows feeding the posterior potential.
 #include "credence/table_potential.h"
 
+#include "posterior/precision_gibbs.h"
+#include "util/rng.h"
+
 #include <algorithm>
+#include <cmath>
 #include <numeric>
 #include <string>
 
@@ -47,9 +51,38 @@ Result<std::unique_ptr<TablePotential>> TablePotential::create(const TrainingRow
   settings.max_batch_rows = batches.batch_rows;
   Result<Potential<float>> potential = Potential<float>::create(layout, prior, settings);
   if (!potential.ok()) return potential.status();
-  return std::unique_ptr<TablePotential>(
+  auto made = std::unique_ptr<TablePotential>(
       new TablePotential(rows, std::move(*potential), batches, seed));
+  const bool learn = prior.learn_scale && settings.learn_prior_scale &&
+                     (settings.temperature > 0 || settings.tempering == Tempering::kLikelihoodOnly);
+  if (learn) {
+    const std::int64_t per_pass =
+        settings.full_batch_steps ? 1 : (n + batches.batch_rows - 1) / batches.batch_rows;
+    const auto every = static_cast<std::int64_t>(
+        std::llround(prior.gibbs_passes * static_cast<double>(per_pass)));
+    // The Gibbs draws have a stream of their own (util/rng.h's kGibbs purpose), derived
+    // from this chain's batch seed, itself a per-chain stream of the run seed.
+    made->gibbs_ = std::make_unique<PrecisionGibbs>(
+        prior, made->potential_.prior(), std::max<std::int64_t>(1, every),
+        settings.temperature, settings.tempering, stream_seed(seed, SeedPurpose::kGibbs, 0));
+  }
+  return made;
 }
+
+TablePotential::~TablePotential() = default;
+
+Status TablePotential::before_step(ConstThetaRef theta, std::int64_t step, bool& changed) {
+  changed = gibbs_ && gibbs_->due(step);
+  if (changed) gibbs_->draw<float>(theta, potential_);
+  return Status::ok_status();
+}
+
+std::span<const double> TablePotential::hyperparameters() const {
+  if (!gibbs_) return {};
+  return potential_.prior().block_precisions();
+}
+
+std::int64_t TablePotential::prior_update_every() const { return gibbs_ ? gibbs_->every() : 0; }
 
 TablePotential::TablePotential(const TrainingRows& rows, Potential<float> potential,
                                BatchOptions batches, std::uint64_t seed)
@@ -84,6 +117,7 @@ void TablePotential::save_state(NamedArrays& out) const {
   const BatchPosition at = batches_.position();
   out.words["batch_position"] = {static_cast<std::uint64_t>(at.epoch),
                                  static_cast<std::uint64_t>(at.cursor)};
+  if (gibbs_) gibbs_->save_state(potential_.prior(), out);
 }
 
 Status TablePotential::restore_state(const NamedArrays& in) {
@@ -96,6 +130,10 @@ Status TablePotential::restore_state(const NamedArrays& in) {
   // Values past int64's range wrap negative and are refused by seek().
   const BatchPosition at{static_cast<std::int64_t>(it->second[0]),
                          static_cast<std::int64_t>(it->second[1])};
+  if (gibbs_) {
+    CREDENCE_RETURN_IF_ERROR(
+        gibbs_->restore_state(in, potential_).with_context("restoring the prior's precisions"));
+  }
   return batches_.seek(at).with_context("restoring the minibatch position");
 }
 

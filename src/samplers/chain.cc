@@ -78,6 +78,10 @@ class CountingPotential final : public PotentialFn {
   std::optional<double> noise_temperature() const override {
     return inner_->noise_temperature();
   }
+  Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed) override {
+    return inner_->before_step(theta, step, changed);
+  }
+  std::span<const double> hyperparameters() const override { return inner_->hyperparameters(); }
   void save_state(NamedArrays& out) const override { inner_->save_state(out); }
   Status restore_state(const NamedArrays& in) override { return inner_->restore_state(in); }
 
@@ -166,7 +170,11 @@ class ChainRunner {
       context.explore = schedule.exploring(step_);
       context.burn_in = step_ < layout.burn_in;
       report = StepReport();
-      Status status = sampler_->step(theta_, *potential_, context, report);
+      // Between steps only: hmc and rhmc keep one target through a trajectory.
+      bool target_changed = false;
+      Status status = potential_->before_step(theta_, step_, target_changed);
+      if (target_changed) sampler_->target_changed();
+      if (status.ok()) status = sampler_->step(theta_, *potential_, context, report);
       if (status.ok() && !(report.potential <= layout.max_potential)) {
         status = Status::diverged(fmt::format("the potential {:.6g} exceeds the bound {:.6g}",
                                               report.potential, layout.max_potential));
@@ -202,7 +210,8 @@ class ChainRunner {
       }
       if (cx_.hooks.on_sample) {
         std::lock_guard<std::mutex> lock(cx_.hook_mutex);
-        cx_.hooks.on_sample(KeptSample{chain_, step_, kept_, theta_});
+        cx_.hooks.on_sample(
+            KeptSample{chain_, step_, kept_, theta_, potential_->hyperparameters()});
       }
       ++kept_;
       if (checkpoints) send(CheckpointCause::kKeptSample, step_ + 1);

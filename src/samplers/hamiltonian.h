@@ -19,6 +19,7 @@ class HamiltonianRule : public Rule {
               StepReport& report) final;
   SamplerState save_state() const final;
   Status restore_state(const SamplerState& state) final;
+  void target_changed() final { cached_ = false; }
 
   /// L leapfrog steps of size eps from (theta, current p), with full-data
   /// gradients; H1 - H0 in `energy_change` (+inf when a value turned non-finite,

@@ -217,6 +217,12 @@ Status PotentialFn::full(ConstThetaRef, ThetaRef, double&) {
 bool PotentialFn::gradient_noise_variance(ThetaRef) { return false; }
 
 std::optional<double> PotentialFn::noise_temperature() const { return std::nullopt; }
+Status PotentialFn::before_step(ConstThetaRef, std::int64_t, bool& changed) {
+  changed = false;
+  return Status::ok_status();
+}
+
+std::span<const double> PotentialFn::hyperparameters() const { return {}; }
 
 void PotentialFn::save_state(NamedArrays&) const {}
 

@@ -70,6 +70,34 @@ TEST(NetFile, CanonicalTextReadsBackEqual) {
   }
 }
 
+// scale=auto (METHODS.md section 15): the learned scale, its hyperprior settings, the
+// canonical text round trip, and the default without a prior line.
+TEST(NetFile, LearnedScaleSettings) {
+  Result<NetSpec> spec = parse_net_text(
+      "credence-net 1\nhidden 4 relu\nprior gaussian scale=auto shape=2 rate=matched every=0.5\n",
+      "auto.net");
+  ASSERT_TRUE(spec.ok()) << spec.status().to_string();
+  EXPECT_TRUE(spec->prior.learn_scale);
+  EXPECT_EQ(spec->prior.weight_scale, 1.0);
+  EXPECT_EQ(spec->prior.hyper_shape, 2.0);
+  EXPECT_FALSE(spec->prior.hyper_rate.has_value());
+  EXPECT_EQ(spec->prior.gibbs_passes, 0.5);
+  Result<NetSpec> again = parse_net_text(format_net_spec(*spec), "canonical");
+  ASSERT_TRUE(again.ok()) << again.status().to_string();
+  EXPECT_EQ(*again, *spec) << format_net_spec(*spec);
+
+  Result<NetSpec> bare = parse_net_text("credence-net 1\nhidden 4 relu\n", "bare.net");
+  ASSERT_TRUE(bare.ok());
+  EXPECT_TRUE(bare->prior.learn_scale);
+  EXPECT_EQ(bare->prior.hyper_rate, 1.0);
+
+  Result<NetSpec> fixed = parse_net_text("credence-net 1\nprior gaussian rate=2\n", "f.net");
+  ASSERT_FALSE(fixed.ok());
+  EXPECT_NE(fixed.status().message().find("without scale=auto"), std::string::npos)
+      << fixed.status().message();
+  EXPECT_FALSE(parse_net_text("credence-net 1\nprior gaussian scale=auto shape=0\n", "z").ok());
+}
+
 // `--hidden 32,32 --activation relu` builds the structure of nets/small.net.
 TEST(NetFile, OptionsBuildTheSameSpecAsTheFile) {
   const std::vector<Index> widths = {32, 32};
@@ -106,7 +134,7 @@ TEST(NetFile, MalformedFilesNameLineColumnFoundAndExpected) {
        "bad.net:2:8: found '0', expected a layer width: a whole number of units from 1 to "
        "1048576"},
       {"negative scale", "credence-net 1\nprior gaussian scale=-1\n",
-       "bad.net:2:22: found '-1', expected a positive number after scale="},
+       "bad.net:2:22: found '-1', expected a positive number or auto after scale="},
       {"unknown keyword", "credence-net 1\nlayer 8 relu\n",
        "bad.net:2:1: found 'layer', expected a statement: hidden, prior or layer_prior"},
       {"missing version", "# no version\nhidden 8 relu\n",
@@ -136,7 +164,7 @@ TEST(NetFile, MalformedFilesNameLineColumnFoundAndExpected) {
        "bad.net:2:7: found 'laplace', expected a prior family: gaussian"},
       {"unknown setting", "credence-net 1\nprior gaussian sigma=1\n",
        "bad.net:2:16: found 'sigma=1', expected a setting KEY=VALUE with KEY one of scale, "
-       "fan_in, bias_scale"},
+       "fan_in, bias_scale, shape, rate, every"},
       {"bad switch", "credence-net 1\nprior gaussian fan_in=yes\n",
        "bad.net:2:23: found 'yes', expected on or off after fan_in="},
       {"repeated setting", "credence-net 1\nprior gaussian scale=1 scale=2\n",
@@ -152,7 +180,7 @@ TEST(NetFile, MalformedFilesNameLineColumnFoundAndExpected) {
       {"override without setting", "credence-net 1\nlayer_prior 1\n",
        "bad.net:2:14: found end of line, expected a setting: scale=NUMBER or bias_scale=NUMBER"},
       {"infinite scale", "credence-net 1\nprior gaussian scale=inf\n",
-       "bad.net:2:22: found 'inf', expected a positive number after scale="},
+       "bad.net:2:22: found 'inf', expected a positive number or auto after scale="},
   };
   for (const Malformed& c : cases) {
     Result<NetSpec> spec = parse_net_text(c.text, "bad.net");

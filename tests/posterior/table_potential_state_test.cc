@@ -84,5 +84,53 @@ TEST(TablePotentialState, DamagedStateIsRefusedAndChangesNothing) {
   EXPECT_EQ(potential->batch_position(), (BatchPosition{0, 0}));
 }
 
+// A prior that learns its scale (METHODS.md section 15): Gibbs draws every pass (6 batches
+// of 16 over 90 rows), the precisions and their stream saved and restored with the state,
+// and none for optimizers (learn_prior_scale off).
+TEST(TablePotentialState, LearnedPrecisionsUpdateEveryPassAndResume) {
+  Fixture f = make_fixture();
+  f.prior.learn_scale = true;
+  auto make_learning = [&f](bool learn) {
+    PotentialSettings settings;
+    settings.learn_prior_scale = learn;
+    auto made = TablePotential::create(f.rows, f.layout, f.prior, settings, {.batch_rows = 16}, 9);
+    EXPECT_TRUE(made.ok());
+    return std::move(*made);
+  };
+  auto original = make_learning(true);
+  EXPECT_EQ(original->prior_update_every(), 6);
+  EXPECT_EQ(make_learning(false)->prior_update_every(), 0);
+  EXPECT_TRUE(make_learning(false)->hyperparameters().empty());
+  const std::vector<double> start(original->hyperparameters().begin(),
+                                  original->hyperparameters().end());
+  ASSERT_EQ(start.size(), 4u);
+  EXPECT_DOUBLE_EQ(start[0], 4.0);  // fan_in / s^2 with s = 1
+  Eigen::VectorXf theta(f.layout.num_params);
+  initialize_params<float>(theta, f.layout, 3);
+  auto steps = [&theta](TablePotential& u, std::int64_t from, std::int64_t to) {
+    for (std::int64_t step = from; step < to; ++step) {
+      bool changed = false;
+      EXPECT_TRUE(u.before_step(theta, step, changed).ok());
+      EXPECT_EQ(changed, step > 0 && step % 6 == 0) << step;
+    }
+  };
+  steps(*original, 0, 6);
+  EXPECT_EQ(original->hyperparameters()[0], start[0]);
+  steps(*original, 6, 8);
+  EXPECT_NE(original->hyperparameters()[0], start[0]);
+  NamedArrays saved;
+  original->save_state(saved);
+  ASSERT_EQ(saved.doubles.at("prior_precision").size(), 4u);
+  auto restored = make_learning(true);
+  ASSERT_TRUE(restored->restore_state(saved).ok());
+  steps(*original, 8, 20);
+  steps(*restored, 8, 20);
+  for (std::size_t b = 0; b < 4; ++b) {
+    EXPECT_EQ(restored->hyperparameters()[b], original->hyperparameters()[b]);
+  }
+  saved.words.erase("prior_rng");
+  EXPECT_EQ(make_learning(true)->restore_state(saved).code(), StatusCode::kCorrupt);
+}
+
 }  // namespace
 }  // namespace credence
