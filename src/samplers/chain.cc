@@ -233,7 +233,8 @@ class ChainRunner {
     if (!*end) return true;
     if (cx_.hooks.on_sample) {
       std::lock_guard<std::mutex> lock(cx_.hook_mutex);
-      cx_.hooks.on_sample(KeptSample{chain_, stopper_->best_step(), kept_, stopper_->best_theta()});
+      cx_.hooks.on_sample(KeptSample{chain_, stopper_->best_step(), kept_, stopper_->best_theta(),
+                                         potential_->hyperparameters()});
     }
     ++kept_;
     outcome_.reason = stopper_->reason();
