@@ -27,8 +27,7 @@ class PriorScale : public ::testing::Test {
   static std::string train(const std::string& name, const std::string& extra) {
     const std::string run = (dir_->path() / name).string();
     auto out = run_credence("--quiet train '" + data_ + "' --target fault_14d --id unit_id "
-                            "--impute median --hidden 8 --chains 2 --burn-in 40 --thin 2 "
-                            "--samples 5 --out '" + run + "' " + extra);
+                            "--impute median --hidden 8 --chains 2 --out '" + run + "' " + extra);
     EXPECT_EQ(out.exit_code, 0) << out.output;
     return out.exit_code == 0 ? run : std::string();
   }
@@ -59,7 +58,7 @@ std::vector<std::vector<double>> stored_precisions(const std::string& run, NetSp
 }
 
 TEST_F(PriorScale, AutoIsTheDefaultAndLearnsInSamplers) {
-  const std::string run = train("auto.h5", "--method sgld");
+  const std::string run = train("auto.h5", "--method sgld --burn-in 40 --thin 2 --samples 5");
   ASSERT_FALSE(run.empty());
   NetSpec spec;
   const auto precisions = stored_precisions(run, spec);
@@ -98,7 +97,7 @@ TEST_F(PriorScale, AutoIsTheDefaultAndLearnsInSamplers) {
 
 TEST_F(PriorScale, FixedScalesAndOptimizersKeepFixedPrecisions) {
   NetSpec spec;
-  const std::string fixed = train("fixed.h5", "--method sgld --prior-scale 2");
+  const std::string fixed = train("fixed.h5", "--method sgld --prior-scale 2 --burn-in 40 --thin 2 --samples 5");
   ASSERT_FALSE(fixed.empty());
   EXPECT_TRUE(stored_precisions(fixed, spec).empty());
   EXPECT_FALSE(spec.prior.learn_scale);
