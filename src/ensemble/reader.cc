@@ -155,8 +155,9 @@ struct RunReader::Impl {
 
   // Rows [0, S) of /samples/<name> into a (cols, S) column-major matrix.
   Result<Eigen::MatrixXf> read_matrix(const char* name, std::int64_t cols) const {
-    Eigen::MatrixXf out(cols, committed.samples);
+    Eigen::MatrixXf out;
     Status status = h5::guard(context(), StatusCode::kCorrupt, [&]() {
+      out.resize(cols, committed.samples);  // inside guard(): a failed allocation is a Status
       H5::DataSet set = file.openGroup(kSamples).openDataSet(name);
       if (h5::table_cols(set) != std::max<std::int64_t>(cols, 0) && cols > 0) {
         return Status::corrupt(context() + ": samples/" + name + " has the wrong width");
@@ -172,8 +173,9 @@ struct RunReader::Impl {
 
   template <typename T>
   Result<std::vector<T>> read_sample_column(const char* name) const {
-    std::vector<T> out(static_cast<std::size_t>(committed.samples));
+    std::vector<T> out;
     Status status = h5::guard(context(), StatusCode::kCorrupt, [&]() {
+      out.resize(static_cast<std::size_t>(committed.samples));
       h5::read_rows(file.openGroup(kSamples).openDataSet(name), 0, committed.samples, -1, out.data(),
                     h5::Type<T>::mem());
       return Status::ok_status();
@@ -413,8 +415,9 @@ Result<std::vector<TraceRecord>> RunReader::traces(int chain) const {
                                  " (the run has " + std::to_string(m.header.chains) + ")");
   }
   const std::int64_t rows = m.committed.traces[static_cast<std::size_t>(chain)];
-  std::vector<TraceRecord> out(static_cast<std::size_t>(rows));
+  std::vector<TraceRecord> out;
   Status status = h5::guard(m.context(), StatusCode::kCorrupt, [&]() {
+    out.resize(static_cast<std::size_t>(rows));
     H5::Group group = m.file.openGroup(kTraces).openGroup(trace_group(chain));
     std::vector<std::int64_t> step(out.size());
     h5::read_rows(group.openDataSet(kStep), 0, rows, -1, step.data(),
