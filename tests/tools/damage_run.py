@@ -227,6 +227,16 @@ def seconds_nan(f):
     return slot + "/seconds[0]"
 
 
+def setting_out_of_range(f):
+    # Resume reads the settings back: an interrupted run with a friction outside (0, 1].
+    f["run/status"][0] = b"interrupted"
+    f["settings"].attrs["sghmc_alpha"] = 5.0
+    return "/settings"
+
+
+# Refused by train --resume only (predict does not read the sampler settings).
+RESUME_ONLY = [setting_out_of_range]
+
 CASES = [
     offset_past_width, offset_negative, width_absurd, numeric_width_two, level_count_short,
     category_range_outside, category_overflow, levels_unsorted, type_swapped, mean_nan,
@@ -240,7 +250,7 @@ CASES = [
 
 def main():
     source, out_dir = sys.argv[1], sys.argv[2]
-    for case in CASES:
+    for case in CASES + RESUME_ONLY:
         path = "%s/%s.h5" % (out_dir, case.__name__)
         shutil.copyfile(source, path)
         with h5py.File(path, "r+") as f:
