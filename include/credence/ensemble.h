@@ -20,8 +20,8 @@
 //
 // Threads: a RunWriter is used by one thread (the CLI runs a writer thread fed by a
 // queue); a RunReader by one thread at a time. Different objects are independent.
-// The ensemble module knows nothing of samplers or networks: settings arrive as
-// named values and chain state as NamedArrays.
+// The ensemble module knows nothing of samplers: settings arrive as named values and
+// chain state as NamedArrays; it parses the stored net text only to validate a file.
 #pragma once
 
 #include <Eigen/Core>
@@ -200,15 +200,32 @@ struct StoredTemperature {
   std::string fitted_utc;     // ISO 8601
 };
 
+/// What RunReader::open does with a file that reads but fails validation.
+enum class RunOpen {
+  kRefuseDamage,  // return the damage as kCorrupt (every command but inspect)
+  kReportDamage,  // open anyway and keep it in damage(): for showing what the file holds
+};
+
 /// Reads a run file. Opens files left by a crash without modifying them.
+///
+/// A run file is untrusted input. open() reads the header and the committed counts,
+/// then validates every structural field against the stored network and the other
+/// fields (src/ensemble/validate.cc) and the tables against both, including that every
+/// committed sample and tracked summary is finite (docs/run-file.md, "Validation").
 class RunReader {
  public:
   /// kCorrupt (exit 2) for a truncated, non-HDF5 or other-version file, naming the
-  /// path (and the version found and the one expected); kInvalidInput (exit 2) for a
+  /// path (and the version found and the one expected), and for a file that fails
+  /// validation, naming the dataset and index; kInvalidInput (exit 2) for a
   /// missing file. A file whose writer was killed (or is still writing) opens
   /// read-only in SWMR mode with summary().recovered set.
-  static Result<std::unique_ptr<RunReader>> open(const std::string& path);
+  static Result<std::unique_ptr<RunReader>> open(const std::string& path,
+                                                 RunOpen mode = RunOpen::kRefuseDamage);
   ~RunReader();
+
+  /// What validation found (ok unless opened with RunOpen::kReportDamage and damaged).
+  /// Only header() and summary() may be used on a damaged file.
+  const Status& damage() const;
 
   const RunHeader& header() const;
   const RunSummary& summary() const;

@@ -169,10 +169,20 @@ std::string json_report(const std::string& path, const RunHeader& h, const RunSu
 }
 
 Status run_inspect(const InspectOptions& options) {
-  Result<std::unique_ptr<RunReader>> reader = RunReader::open(options.run_path);
+  // A damaged file that still reads: show what it holds, then refuse it (exit 2) with
+  // what is wrong, and write no JSON.
+  Result<std::unique_ptr<RunReader>> reader =
+      RunReader::open(options.run_path, RunOpen::kReportDamage);
   if (!reader.ok()) return reader.status();
   const RunHeader& header = (*reader)->header();
   const RunSummary& summary = (*reader)->summary();
+  if (!(*reader)->damage().ok()) {
+    const std::string text = text_report(options.run_path, header, summary, std::nullopt) +
+                             "damage      this file fails validation (see the message below)\n";
+    std::fwrite(text.data(), 1, text.size(), stdout);
+    std::fflush(stdout);
+    return (*reader)->damage();
+  }
   Result<std::optional<StoredTemperature>> temperature = (*reader)->stored_temperature();
   if (!temperature.ok()) return temperature.status();
   const std::string text = text_report(options.run_path, header, summary, *temperature);

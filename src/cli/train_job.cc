@@ -231,6 +231,11 @@ Result<Prepared> prepare_resume(const RunHeader& header, const std::string& data
   p.header = header;
   ReadOptions read;
   CREDENCE_RETURN_IF_ERROR(from_values(header.settings, p.settings, read));
+  // The stored settings are untrusted input like the rest of the file (issue 22).
+  if (Status s = validate_train_settings(p.settings); !s.ok()) {
+    return Status::corrupt("the run file's stored settings (/settings): " + s.message() +
+                           "; the file is damaged or was not written by credence");
+  }
   const std::string path = data_override.empty() ? header.data_file : data_override;
   Result<std::string> digest = file_sha256_hex(path);
   if (!digest.ok()) return digest.status();

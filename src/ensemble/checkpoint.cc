@@ -1,5 +1,6 @@
 // Sample and trace tables, the two checkpoint slots, the active-slot marker, run status.
 #include <algorithm>
+#include <limits>
 #include <string>
 
 #include "ensemble/h5_util.h"
@@ -283,6 +284,10 @@ Committed read_committed(const H5::H5File& file, const RunHeader& header) {
     state.reason = reason[c];
     if (committed.samples_per_chain[c] < 0 || committed.traces[c] < 0) {
       throw h5::FileDamage("read_committed", "negative committed row count");
+    }
+    // Counts are non-negative here, so comparing with what is left cannot overflow.
+    if (committed.samples_per_chain[c] > std::numeric_limits<std::int64_t>::max() - total) {
+      throw h5::FileDamage("read_committed", "per-chain sample counts do not add up");
     }
     total += committed.samples_per_chain[c];
     if (!committed.has_state[c]) continue;

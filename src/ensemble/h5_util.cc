@@ -209,14 +209,29 @@ H5::DataSet create_table(H5::Group& group, const char* name, const H5::DataType&
   return group.createDataSet(name, type, space, plist);
 }
 
+namespace {
+
+// Our tables have one or two dimensions; a damaged rank would overrun the dims array.
+H5::DataSpace table_space(const H5::DataSet& set) {
+  H5::DataSpace space = set.getSpace();
+  const int rank = space.getSimpleExtentNdims();
+  if (rank < 1 || rank > 2) {
+    throw FileDamage("table_space", "dataset " + set.getObjName() + " has " +
+                                        std::to_string(rank) + " dimensions; tables have 1 or 2");
+  }
+  return space;
+}
+
+}  // namespace
+
 std::int64_t table_rows(const H5::DataSet& set) {
   hsize_t dims[2] = {0, 0};
-  set.getSpace().getSimpleExtentDims(dims);
+  table_space(set).getSimpleExtentDims(dims);
   return static_cast<std::int64_t>(dims[0]);
 }
 
 std::int64_t table_cols(const H5::DataSet& set) {
-  H5::DataSpace space = set.getSpace();
+  H5::DataSpace space = table_space(set);
   if (space.getSimpleExtentNdims() < 2) return 1;
   hsize_t dims[2] = {0, 0};
   space.getSimpleExtentDims(dims);
@@ -235,7 +250,7 @@ namespace {
 // File and memory selections of rows [first, first + rows); false when empty.
 bool select_rows(const H5::DataSet& set, std::int64_t first, std::int64_t rows,
                  H5::DataSpace& file_space, H5::DataSpace& mem_space) {
-  file_space = set.getSpace();
+  file_space = table_space(set);
   const int rank = file_space.getSimpleExtentNdims();
   hsize_t dims[2] = {0, 1};
   file_space.getSimpleExtentDims(dims);
@@ -257,8 +272,20 @@ void write_rows(H5::DataSet& set, std::int64_t first, std::int64_t rows, const v
   }
 }
 
-void read_rows(const H5::DataSet& set, std::int64_t first, std::int64_t rows, void* data,
-               const H5::DataType& mem_type) {
+void read_rows(const H5::DataSet& set, std::int64_t first, std::int64_t rows, std::int64_t cols,
+               void* data, const H5::DataType& mem_type) {
+  // The file's shape decides how much HDF5 writes into `data`: it must be the buffer's.
+  H5::DataSpace space = table_space(set);
+  const int rank = space.getSimpleExtentNdims();
+  if ((cols < 0) != (rank == 1) || (cols >= 0 && table_cols(set) != cols)) {
+    throw FileDamage("read_rows", "dataset " + set.getObjName() + " has " +
+                                      (rank == 1 ? std::string("one column")
+                                                 : std::to_string(table_cols(set)) + " columns") +
+                                      " where " +
+                                      (cols < 0 ? std::string("one column")
+                                                : std::to_string(cols) + " columns") +
+                                      " are expected");
+  }
   H5::DataSpace file_space, mem_space;
   if (select_rows(set, first, rows, file_space, mem_space)) {
     set.read(data, mem_type, mem_space, file_space);

@@ -131,9 +131,11 @@ void set_table_rows(H5::DataSet& set, std::int64_t rows);
 /// Writes rows [first, first + rows) from a row-major buffer; the extent must hold them.
 void write_rows(H5::DataSet& set, std::int64_t first, std::int64_t rows, const void* data,
                 const H5::DataType& mem_type);
-/// Reads rows [first, first + rows) into a row-major buffer.
-void read_rows(const H5::DataSet& set, std::int64_t first, std::int64_t rows, void* data,
-               const H5::DataType& mem_type);
+/// Reads rows [first, first + rows) into a row-major buffer of `cols` values per row
+/// (-1: a 1-D table). Throws FileDamage when the table has another shape, so a damaged
+/// file can never make HDF5 write past the buffer.
+void read_rows(const H5::DataSet& set, std::int64_t first, std::int64_t rows, std::int64_t cols,
+               void* data, const H5::DataType& mem_type);
 /// Second dimension (1 for a 1-D set).
 std::int64_t table_cols(const H5::DataSet& set);
 

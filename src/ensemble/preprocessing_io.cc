@@ -36,10 +36,10 @@ void write_vec(H5::Group& group, const char* name, const std::vector<T>& values)
   h5::write_array<T>(group, name, std::span<const T>(values));
 }
 
-void check_length(std::size_t found, std::size_t expected, const char* name) {
+void check_length(std::size_t found, std::size_t expected, const char* group, const char* name) {
   if (found != expected) {
-    throw h5::FileDamage("read_preprocessing", std::string("preprocessing array '") + name +
-                                                   "' has " + std::to_string(found) +
+    throw h5::FileDamage("read_preprocessing", std::string(kPreprocessing) + "/" + group + "/" + name +
+                                                   " has " + std::to_string(found) +
                                                    " entries, expected " +
                                                    std::to_string(expected));
   }
@@ -113,8 +113,8 @@ Preprocessing read_preprocessing(const H5::Group& group) {
   std::vector<std::string> names = h5::read_strings(columns, kName);
   std::vector<std::string> roles = h5::read_strings(columns, kRole);
   std::vector<std::string> types = h5::read_strings(columns, kType);
-  check_length(roles.size(), names.size(), kRole);
-  check_length(types.size(), names.size(), kType);
+  check_length(roles.size(), names.size(), kColumns, kRole);
+  check_length(types.size(), names.size(), kColumns, kType);
   for (std::size_t i = 0; i < names.size(); ++i) {
     p.columns.push_back({names[i], parse_role(roles[i]), parse_type(types[i])});
   }
@@ -132,15 +132,15 @@ Preprocessing read_preprocessing(const H5::Group& group) {
   auto starts = h5::read_array<std::int64_t>(features, kCategoryStart);
   auto counts = h5::read_array<std::int64_t>(features, kCategoryCount);
   std::vector<std::string> categories = h5::read_strings(features, kCategories);
-  check_length(feature_types.size(), f_count, kType);
-  check_length(offsets.size(), f_count, kOffset);
-  check_length(widths.size(), f_count, kWidth);
-  check_length(means.size(), f_count, kMean);
-  check_length(scales.size(), f_count, kScale);
-  check_length(constants.size(), f_count, kConstant);
-  check_length(impute_values.size(), f_count, kImputeValue);
-  check_length(starts.size(), f_count, kCategoryStart);
-  check_length(counts.size(), f_count, kCategoryCount);
+  check_length(feature_types.size(), f_count, kFeatures, kType);
+  check_length(offsets.size(), f_count, kFeatures, kOffset);
+  check_length(widths.size(), f_count, kFeatures, kWidth);
+  check_length(means.size(), f_count, kFeatures, kMean);
+  check_length(scales.size(), f_count, kFeatures, kScale);
+  check_length(constants.size(), f_count, kFeatures, kConstant);
+  check_length(impute_values.size(), f_count, kFeatures, kImputeValue);
+  check_length(starts.size(), f_count, kFeatures, kCategoryStart);
+  check_length(counts.size(), f_count, kFeatures, kCategoryCount);
   for (std::size_t i = 0; i < f_count; ++i) {
     FeatureEncoding f;
     f.name = feature_names[i];
@@ -151,10 +151,16 @@ Preprocessing read_preprocessing(const H5::Group& group) {
     f.scale = scales[i];
     f.constant = constants[i] != 0;
     f.impute_value = impute_values[i];
-    if (starts[i] < 0 || counts[i] < 0 ||
-        starts[i] + counts[i] > static_cast<std::int64_t>(categories.size())) {
-      throw h5::FileDamage("read_preprocessing",
-                           "category range of feature '" + f.name + "' is out of bounds");
+    // Compared without adding: a damaged start and count may overflow any sum.
+    const auto listed = static_cast<std::int64_t>(categories.size());
+    if (starts[i] < 0 || counts[i] < 0 || starts[i] > listed || counts[i] > listed - starts[i]) {
+      throw h5::FileDamage(
+          "read_preprocessing",
+          "the category range of feature '" + f.name + "' (" + kPreprocessing + "/" + kFeatures +
+              "/" + kCategoryStart + "[" + std::to_string(i) + "] = " +
+              std::to_string(starts[i]) + ", " + kCategoryCount + "[" + std::to_string(i) +
+              "] = " + std::to_string(counts[i]) + ") lies outside the " +
+              std::to_string(listed) + " stored categories");
     }
     f.categories.assign(categories.begin() + starts[i], categories.begin() + starts[i] + counts[i]);
     p.features.push_back(std::move(f));

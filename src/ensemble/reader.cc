@@ -1,4 +1,7 @@
 // RunReader: opens a run file (also one left by a crash) and reads its committed rows.
+#include <fmt/format.h>
+
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 #include <limits>
@@ -21,17 +24,148 @@ struct RunReader::Impl {
   RunSummary summary;
   run_file::Committed committed;
 
+  // Set when validation finds damage; only an open in RunOpen::kReportDamage keeps it.
+  Status damage;
+
   std::string context() const { return "reading run file " + path; }
+
+  // Checks the stored tables against the header and the committed counts (shapes, the
+  // chain of each sample, non-finite values), after run_file::validate_header_fields and validate_committed passed.
+  // Returns the first damage found, naming dataset and index.
+  Status check_tables() const {
+    H5::Group samples = file.openGroup(kSamples);
+    const std::int64_t s_rows = committed.samples;
+    const auto check_shape = [&](const char* name, std::int64_t cols) -> Status {
+      H5::DataSet set = samples.openDataSet(name);
+      const std::int64_t found = h5::table_cols(set);
+      if (cols >= 0 && found != cols) {
+        return Status::corrupt(fmt::format("{}/{} has {} columns, the header says {}", kSamples,
+                                           name, found, cols));
+      }
+      if (h5::table_rows(set) < s_rows) {
+        return Status::corrupt(fmt::format("{}/{} has {} rows but {} samples are committed",
+                                           kSamples, name, h5::table_rows(set), s_rows));
+      }
+      return Status::ok_status();
+    };
+    CREDENCE_RETURN_IF_ERROR(check_shape(kTheta, header.parameters));
+    CREDENCE_RETURN_IF_ERROR(
+        check_shape(kProbeProb, static_cast<std::int64_t>(header.probe_rows.size())));
+    CREDENCE_RETURN_IF_ERROR(check_shape(kProjections, header.projections));
+    CREDENCE_RETURN_IF_ERROR(check_shape(kLayerSqNorms, header.layers));
+    for (const char* name : {kChain, kStep, kIndex, kProbeLogLik}) {
+      CREDENCE_RETURN_IF_ERROR(check_shape(name, -1));
+    }
+    H5::Group traces = file.openGroup(kTraces);
+    for (int c = 0; c < header.chains; ++c) {
+      H5::Group chain = traces.openGroup(trace_group(c));
+      const std::int64_t rows = committed.traces[static_cast<std::size_t>(c)];
+      for (const char* name : kTraceTables) {
+        const std::int64_t found = h5::table_rows(chain.openDataSet(name));
+        if (found < rows) {
+          return Status::corrupt(fmt::format("{}/{}/{} has {} rows but {} are committed", kTraces,
+                                             trace_group(c), name, found, rows));
+        }
+      }
+      // The potential of a traced step is finite (a diverging step ends the chain before
+      // it is traced); accuracy, speed ratio and acceptance are NaN where they do not apply.
+      std::vector<double> potential(static_cast<std::size_t>(rows));
+      h5::read_rows(chain.openDataSet(kPotential), 0, rows, -1, potential.data(),
+                    h5::Type<double>::mem());
+      for (std::size_t i = 0; i < potential.size(); ++i) {
+        if (!std::isfinite(potential[i])) {
+          return Status::corrupt(fmt::format("{}/{}/{}[{}] is {}; a traced potential is finite",
+                                             kTraces, trace_group(c), kPotential, i,
+                                             potential[i]));
+        }
+      }
+    }
+    // Each sample's chain: inside the run, and the per-chain counts as committed.
+    std::vector<std::int32_t> chains(static_cast<std::size_t>(s_rows));
+    h5::read_rows(samples.openDataSet(kChain), 0, s_rows, -1, chains.data(),
+                  h5::Type<std::int32_t>::mem());
+    std::vector<std::int64_t> per_chain(static_cast<std::size_t>(header.chains), 0);
+    for (std::size_t i = 0; i < chains.size(); ++i) {
+      if (chains[i] < 0 || chains[i] >= header.chains) {
+        return Status::corrupt(fmt::format("{}/{}[{}] is {}; the run has chains 0..{}", kSamples,
+                                           kChain, i, chains[i], header.chains - 1));
+      }
+      ++per_chain[static_cast<std::size_t>(chains[i])];
+    }
+    for (std::size_t c = 0; c < per_chain.size(); ++c) {
+      if (per_chain[c] != committed.samples_per_chain[c]) {
+        return Status::corrupt(fmt::format(
+            "{}/{} holds {} samples of chain {} but {}/{}/{}[{}] says {}", kSamples, kChain,
+            per_chain[c], c, kCheckpoint, slot_group(committed.active_slot), kCommittedPerChain, c,
+            committed.samples_per_chain[c]));
+      }
+    }
+    std::vector<std::int64_t> numbers(static_cast<std::size_t>(s_rows));
+    for (const char* name : {kIndex, kStep}) {
+      h5::read_rows(samples.openDataSet(name), 0, s_rows, -1, numbers.data(),
+                    h5::Type<std::int64_t>::mem());
+      for (std::size_t i = 0; i < numbers.size(); ++i) {
+        if (numbers[i] < 0) {
+          return Status::corrupt(
+              fmt::format("{}/{}[{}] is {}; it must be >= 0", kSamples, name, i, numbers[i]));
+        }
+      }
+    }
+    // Values: the chain driver never keeps a non-finite sample (src/samplers/chain.cc),
+    // so one here is damage, and predict, assess and diagnose would print it.
+    for (const auto& [name, cols] :
+         {std::pair{kTheta, header.parameters},
+          std::pair{kProbeProb, static_cast<std::int64_t>(header.probe_rows.size())},
+          std::pair{kProjections, std::int64_t{header.projections}},
+          std::pair{kLayerSqNorms, std::int64_t{header.layers}}}) {
+      CREDENCE_RETURN_IF_ERROR(check_finite(samples.openDataSet(name), name, cols));
+    }
+    std::vector<double> log_lik(static_cast<std::size_t>(s_rows));
+    h5::read_rows(samples.openDataSet(kProbeLogLik), 0, s_rows, -1, log_lik.data(),
+                  h5::Type<double>::mem());
+    for (std::size_t i = 0; i < log_lik.size(); ++i) {
+      if (!std::isfinite(log_lik[i])) {
+        return Status::corrupt(fmt::format("{}/{}[{}] is {}; kept values are finite", kSamples,
+                                           kProbeLogLik, i, log_lik[i]));
+      }
+    }
+    return Status::ok_status();
+  }
+
+  // The first non-finite value among the committed rows of a float table, read in
+  // blocks of about 4 MiB so that a large ensemble is never held twice.
+  Status check_finite(const H5::DataSet& set, const char* name, std::int64_t cols) const {
+    if (cols <= 0 || committed.samples == 0) return Status::ok_status();
+    const std::int64_t block = std::max<std::int64_t>(1, (std::int64_t{1} << 20) / cols);
+    std::vector<float> values;
+    for (std::int64_t first = 0; first < committed.samples; first += block) {
+      const std::int64_t rows = std::min(block, committed.samples - first);
+      values.resize(static_cast<std::size_t>(rows * cols));
+      h5::read_rows(set, first, rows, cols, values.data(), h5::Type<float>::mem());
+      for (std::size_t k = 0; k < values.size(); ++k) {
+        if (std::isfinite(values[k])) continue;
+        const auto at = static_cast<std::int64_t>(k);
+        return Status::corrupt(fmt::format(
+            "{}/{}[sample {}, column {}] is {}; kept samples are finite (the file is refused "
+            "rather than predicting from part of it)",
+            kSamples, name, first + at / cols, at % cols, values[k]));
+      }
+    }
+    return Status::ok_status();
+  }
 
   // Rows [0, S) of /samples/<name> into a (cols, S) column-major matrix.
   Result<Eigen::MatrixXf> read_matrix(const char* name, std::int64_t cols) const {
-    Eigen::MatrixXf out(cols, committed.samples);
+    Eigen::MatrixXf out;
     Status status = h5::guard(context(), StatusCode::kCorrupt, [&]() {
+      out.resize(cols, committed.samples);  // inside guard(): a failed allocation is a Status
       H5::DataSet set = file.openGroup(kSamples).openDataSet(name);
       if (h5::table_cols(set) != std::max<std::int64_t>(cols, 0) && cols > 0) {
         return Status::corrupt(context() + ": samples/" + name + " has the wrong width");
       }
-      if (cols > 0) h5::read_rows(set, 0, committed.samples, out.data(), h5::Type<float>::mem());
+      if (cols > 0) {
+        h5::read_rows(set, 0, committed.samples, cols, out.data(), h5::Type<float>::mem());
+      }
       return Status::ok_status();
     });
     if (!status.ok()) return status;
@@ -40,9 +174,10 @@ struct RunReader::Impl {
 
   template <typename T>
   Result<std::vector<T>> read_sample_column(const char* name) const {
-    std::vector<T> out(static_cast<std::size_t>(committed.samples));
+    std::vector<T> out;
     Status status = h5::guard(context(), StatusCode::kCorrupt, [&]() {
-      h5::read_rows(file.openGroup(kSamples).openDataSet(name), 0, committed.samples, out.data(),
+      out.resize(static_cast<std::size_t>(committed.samples));
+      h5::read_rows(file.openGroup(kSamples).openDataSet(name), 0, committed.samples, -1, out.data(),
                     h5::Type<T>::mem());
       return Status::ok_status();
     });
@@ -60,7 +195,7 @@ struct RunReader::Impl {
       haddr_t address = HADDR_UNDEF;
       hsize_t size = 0;
       if (H5Dget_chunk_info_by_coord(set.getId(), offset, &filters, &address, &size) < 0 ||
-          address == HADDR_UNDEF || address + size > bytes) {
+          address == HADDR_UNDEF || address > bytes || size > bytes - address) {
         return false;
       }
     }
@@ -102,10 +237,11 @@ struct RunReader::Impl {
     if (committed.samples > 0) {
       H5::Group samples = file.openGroup(kSamples);
       std::vector<float> row(static_cast<std::size_t>(header.parameters));
-      h5::read_rows(samples.openDataSet(kTheta), committed.samples - 1, 1, row.data(),
+      h5::read_rows(samples.openDataSet(kTheta), committed.samples - 1, 1, header.parameters,
+                    row.data(),
                     h5::Type<float>::mem());
       std::int64_t value = 0;
-      h5::read_rows(samples.openDataSet(kStep), committed.samples - 1, 1, &value,
+      h5::read_rows(samples.openDataSet(kStep), committed.samples - 1, 1, -1, &value,
                     h5::Type<std::int64_t>::mem());
     }
     H5::Group traces = file.openGroup(kTraces);
@@ -113,7 +249,8 @@ struct RunReader::Impl {
       const std::int64_t rows = committed.traces[static_cast<std::size_t>(c)];
       if (rows == 0) continue;
       double value = 0;
-      h5::read_rows(traces.openGroup(trace_group(c)).openDataSet(kPotential), rows - 1, 1, &value,
+      h5::read_rows(traces.openGroup(trace_group(c)).openDataSet(kPotential), rows - 1, 1, -1,
+                    &value,
                     h5::Type<double>::mem());
     }
   }
@@ -125,7 +262,9 @@ RunReader::~RunReader() = default;
 const RunHeader& RunReader::header() const { return impl_->header; }
 const RunSummary& RunReader::summary() const { return impl_->summary; }
 
-Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
+const Status& RunReader::damage() const { return impl_->damage; }
+
+Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path, RunOpen mode) {
   h5::silence_errors();
   const std::string context = "reading run file " + path;
   std::error_code error;
@@ -180,10 +319,25 @@ Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
   if (!recovered && !error && H5Fget_eoa(id, &eoa) >= 0 && eoa > static_cast<haddr_t>(bytes)) {
     return truncated(std::to_string(eoa) + " expected");
   }
-  Status status =
-      h5::guard(context + ": the file is damaged or truncated", StatusCode::kCorrupt, [&]() {
+  // The validation pass (src/ensemble/validate.cc), before anything uses the file: the
+  // header first, since the committed state is read with its sizes.
+  constexpr const char* kAdvice =
+      "the file is damaged or was not written by credence; use an intact copy or train the "
+      "run again";
+  const auto damaged = [&](const Status& found) {
+    // A message of our own names the field; one through guard() carries the context.
+    const bool own = found.message().rfind(context, 0) != 0;
+    return Status::corrupt((own ? context + ": " : std::string()) + found.message() +
+                           (own ? "; " + std::string(kAdvice) : std::string()));
+  };
+  Status header_damage;
+  Status status = h5::guard(
+      context, StatusCode::kCorrupt,
+      [&]() {
         CREDENCE_RETURN_IF_ERROR(run_file::check_format(impl->file, path));
         impl->header = run_file::read_header(impl->file);
+        header_damage = run_file::validate_header_fields(impl->header);
+        if (!header_damage.ok() && mode == RunOpen::kRefuseDamage) return header_damage;
         impl->committed = run_file::read_committed(impl->file, impl->header);
         if (recovered && !error) {
           const std::string table = impl->table_past_end(bytes);
@@ -206,9 +360,25 @@ Result<std::unique_ptr<RunReader>> RunReader::open(const std::string& path) {
         }
         return Status::ok_status();
       },
-      "use an intact copy or train the run again");
+      kAdvice);
+  // A damaged header explains whatever failed after it.
+  if (!header_damage.ok()) {
+    impl->damage = damaged(header_damage);
+    if (!status.ok() || mode == RunOpen::kRefuseDamage) return impl->damage;
+  }
   if (!status.ok()) return status;
   impl->summary.file_bytes = static_cast<std::int64_t>(std::filesystem::file_size(path, error));
+  if (impl->damage.ok()) {
+    Status damage = run_file::validate_committed(impl->committed);
+    if (damage.ok()) {
+      damage = h5::guard(context, StatusCode::kCorrupt,
+                         [&]() { return impl->check_tables(); }, kAdvice);
+    }
+    if (!damage.ok()) {
+      impl->damage = damaged(damage);
+      if (mode == RunOpen::kRefuseDamage) return impl->damage;
+    }
+  }
   return std::unique_ptr<RunReader>(new RunReader(std::move(impl)));
 }
 
@@ -270,14 +440,16 @@ Result<std::vector<TraceRecord>> RunReader::traces(int chain) const {
                                  " (the run has " + std::to_string(m.header.chains) + ")");
   }
   const std::int64_t rows = m.committed.traces[static_cast<std::size_t>(chain)];
-  std::vector<TraceRecord> out(static_cast<std::size_t>(rows));
+  std::vector<TraceRecord> out;
   Status status = h5::guard(m.context(), StatusCode::kCorrupt, [&]() {
+    out.resize(static_cast<std::size_t>(rows));
     H5::Group group = m.file.openGroup(kTraces).openGroup(trace_group(chain));
     std::vector<std::int64_t> step(out.size());
-    h5::read_rows(group.openDataSet(kStep), 0, rows, step.data(), h5::Type<std::int64_t>::mem());
+    h5::read_rows(group.openDataSet(kStep), 0, rows, -1, step.data(),
+                  h5::Type<std::int64_t>::mem());
     std::vector<double> column(out.size());
     auto read = [&](const char* name, double TraceRecord::*field) {
-      h5::read_rows(group.openDataSet(name), 0, rows, column.data(), h5::Type<double>::mem());
+      h5::read_rows(group.openDataSet(name), 0, rows, -1, column.data(), h5::Type<double>::mem());
       for (std::size_t i = 0; i < out.size(); ++i) out[i].*field = column[i];
     };
     read(kPotential, &TraceRecord::potential);

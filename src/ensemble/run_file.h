@@ -30,6 +30,17 @@ Preprocessing read_preprocessing(const H5::Group& group);
 /// Refuses a header the layout cannot hold (kInvalidInput or kInternal).
 Status validate_header(const RunHeader& header);
 
+// --- validation (validate.cc) ---
+
+struct Committed;
+/// The structural checks of a header being opened: the encodings tile the network's
+/// input, widths, category lists, preprocessing constants, classes, split rows, and the
+/// stored net against the parameter and layer counts. kCorrupt naming the dataset and
+/// index of the first damage found (without the file's path).
+Status validate_header_fields(const RunHeader& header);
+/// The same for the active checkpoint slot's counts and resumable chain states.
+Status validate_committed(const Committed& committed);
+
 // --- tables and checkpoints (checkpoint.cc) ---
 
 /// What the active checkpoint slot says: the committed counts and chain states.

@@ -29,6 +29,11 @@ Result<ParamLayout> resolve_layout(const NetSpec& spec, Index input_width, Index
                                  std::to_string(num_classes) +
                                  " class(es); a classifier needs at least 2");
   }
+  if (input_width > kMaxParams) {  // also keeps out * fan_in below from overflowing
+    return Status::invalid_input("building the network: " + std::to_string(input_width) +
+                                 " input columns give more than " + std::to_string(kMaxParams) +
+                                 " parameters");
+  }
   CREDENCE_RETURN_IF_ERROR(validate_net_spec(spec));
   ParamLayout layout;
   layout.input_width = input_width;

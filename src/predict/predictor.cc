@@ -12,6 +12,24 @@
 #include "util/log.h"
 
 namespace credence {
+namespace {
+
+constexpr const char* kNotFinite =
+    "the ensemble's output for this row is not finite (a value far outside the training "
+    "range overflows the network); check the row's values";
+
+// The first row (column) of a finished prediction that is not finite, or -1.
+Index non_finite_row(const Prediction& out) {
+  for (Index b = 0; b < out.rows(); ++b) {
+    if (!out.probabilities.col(b).allFinite() || !std::isfinite(out.entropy(b)) ||
+        !std::isfinite(out.mutual_information(b))) {
+      return b;
+    }
+  }
+  return -1;
+}
+
+}  // namespace
 
 Predictor::Predictor(Preprocessing preprocessing, ParamLayout layout, Eigen::MatrixXf samples,
                      Index block_rows, double temperature)
@@ -35,6 +53,13 @@ Result<Predictor> Predictor::from_parts(Preprocessing preprocessing, const std::
   if (samples.cols() == 0) {
     return Status::invalid_input(
         "the run holds no kept sample yet; train longer (or resume it) before predicting");
+  }
+  // RunReader refuses a run holding one; parts from elsewhere are checked here, because
+  // one non-finite member makes every averaged probability NaN.
+  if (!samples.allFinite()) {
+    return Status::invalid_input(
+        "a kept sample holds a non-finite value (NaN or infinity); no prediction is made "
+        "from it");
   }
   Result<NetSpec> spec = parse_net_text(net_text, "stored net text");
   if (!spec.ok()) {
@@ -111,6 +136,11 @@ Status Predictor::predict_encoded(Workspace<float>& ws, EnsembleAverager& averag
     averager.add_member(ws.log_probs());  // (K, B)
   }
   averager.finish(out);
+  // "No NaN output ever": finite weights can still overflow float32 on an input far
+  // outside the training range. Refuse the block rather than print NaN.
+  if (const Index b = non_finite_row(out); b >= 0) {
+    return Status::invalid_input(fmt::format("row {} of the block: {}", b + 1, kNotFinite));
+  }
   return Status::ok_status();
 }
 
@@ -120,7 +150,14 @@ Status Predictor::predict_rows(Workspace<float>& ws, EnsembleAverager& averager,
   out.unseen.clear();
   Result<Eigen::MatrixXf> x = transform_rows(preprocessing_, table, rows, &out.unseen);  // (D, B)
   if (!x.ok()) return x.status();
-  return predict_encoded(ws, averager, *x, out);
+  Status status = predict_encoded(ws, averager, *x, out);
+  // Only a refusal of the finished block leaves `out` holding this block's rows.
+  if (const Index b = status.ok() ? -1 : non_finite_row(out);
+      b >= 0 && out.rows() == static_cast<Index>(rows.size())) {
+    return Status::invalid_input(
+        table.cell_location(rows[static_cast<std::size_t>(b)], 0) + ": " + kNotFinite);
+  }
+  return status;
 }
 
 }  // namespace credence

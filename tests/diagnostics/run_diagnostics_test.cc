@@ -34,7 +34,7 @@ struct Written {
 
 Written write_run(const testing::TempDir& dir, const Plan& plan, std::mt19937_64& rng) {
   const int chains = static_cast<int>(plan.kept.size());
-  RunHeader header = testing::make_header(chains, 8);
+  RunHeader header = testing::make_header(chains, 12);
   header.settings = {{"method", plan.method}, {"burn_in", kBurnIn}, {"thin", std::int64_t{3}}};
   Written out;
   out.path = (dir.path() / (plan.method + std::to_string(chains) + ".h5")).string();
@@ -42,7 +42,7 @@ Written write_run(const testing::TempDir& dir, const Plan& plan, std::mt19937_64
   auto writer = RunWriter::create(out.path, header, true);
   EXPECT_TRUE(writer.ok()) << writer.status().to_string();
   std::normal_distribution<double> normal;
-  std::vector<float> theta(8, 0.5f), prob(header.probe_rows.size()), proj(4), norms(2);
+  std::vector<float> theta(12, 0.5f), prob(header.probe_rows.size()), proj(4), norms(2);
   const std::int64_t longest = *std::max_element(plan.kept.begin(), plan.kept.end());
   for (std::int64_t k = 0; k < longest; ++k) {
     for (int c = chains - 1; c >= 0; --c) {  // chains interleaved, highest first
@@ -167,7 +167,7 @@ TEST(RunDiagnostics, OneChainHasEssButNoRhat) {
 TEST(RunDiagnostics, EmptyRunIsRefused) {
   testing::TempDir dir;
   const std::string path = (dir.path() / "empty.h5").string();
-  auto writer = RunWriter::create(path, testing::make_header(2, 8), true);
+  auto writer = RunWriter::create(path, testing::make_header(2, 12), true);
   ASSERT_TRUE(writer.ok());
   ASSERT_TRUE((*writer)->finish(RunStatus::kInterrupted).ok());
   writer->reset();

@@ -30,7 +30,7 @@ int main(int argc, char** argv) {
   std::unique_ptr<RunWriter> writer;
   if (mode == "create") {
     Result<std::unique_ptr<RunWriter>> created =
-        RunWriter::create(path, credence::testing::make_header(kChains, 2000), true);
+        RunWriter::create(path, credence::testing::make_header(kChains, 2001), true);
     if (!created.ok()) {
       std::fprintf(stderr, "%s\n", created.status().to_string().c_str());
       return 1;

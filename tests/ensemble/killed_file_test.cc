@@ -20,7 +20,7 @@ using testing::state_after;
 using testing::TempDir;
 
 constexpr int kChains = 3;
-constexpr std::int64_t kParameters = 2000;
+constexpr std::int64_t kParameters = 2001;
 constexpr std::int64_t kRounds = 40;  // kept samples per chain before the writer dies
 
 // Writes kRounds committed rounds in a child that then ends without closing the file,

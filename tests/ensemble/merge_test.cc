@@ -31,8 +31,8 @@ std::string write_run(const TempDir& dir, const std::string& name, const RunHead
 
 TEST(MergeRuns, RenumbersChainsAndConcatenatesSamples) {
   TempDir dir;
-  const std::string a = write_run(dir, "a.h5", testing::make_header(2, 50), 4);
-  const std::string b = write_run(dir, "b.h5", testing::make_header(3, 50), 2);
+  const std::string a = write_run(dir, "a.h5", testing::make_header(2, 48), 4);
+  const std::string b = write_run(dir, "b.h5", testing::make_header(3, 48), 2);
   const std::string out = (dir.path() / "merged.h5").string();
   const std::vector<std::string> inputs = {a, b};
   Status merged = merge_runs(inputs, out, false);
@@ -74,19 +74,19 @@ TEST(MergeRuns, RenumbersChainsAndConcatenatesSamples) {
 
 TEST(MergeRuns, RefusesDifferentParameterCountOrNet) {
   TempDir dir;
-  const std::string a = write_run(dir, "a.h5", testing::make_header(2, 50), 1);
-  const std::string b = write_run(dir, "b.h5", testing::make_header(2, 60), 1);
-  RunHeader other_net = testing::make_header(2, 50);
-  other_net.net_text = "credence-net 1\nhidden 8 relu\n";
+  const std::string a = write_run(dir, "a.h5", testing::make_header(2, 48), 1);
+  const std::string b = write_run(dir, "b.h5", testing::make_header(2, 57), 1);
+  RunHeader other_net = testing::make_header(2, 48);
+  other_net.net_text = "credence-net 1\nhidden 5 relu\n";  // same parameter count
   const std::string c = write_run(dir, "c.h5", other_net, 1);
   const std::string out = (dir.path() / "merged.h5").string();
 
   std::vector<std::string> inputs = {a, b};
   expect_failure(merge_runs(inputs, out, false), StatusCode::kInvalidInput,
-                 {b, "60 parameters", "has 50"});
+                 {b, "57 parameters", "has 48"});
   inputs = {a, c};
   expect_failure(merge_runs(inputs, out, false), StatusCode::kInvalidInput,
-                 {"net text", "line 2", "hidden 8 relu", "hidden 4 tanh"});
+                 {"net text", "line 2", "hidden 5 relu", "hidden 5 tanh"});
   EXPECT_FALSE(std::filesystem::exists(out));
   // No temporary file is left behind either.
   int files = 0;
@@ -97,8 +97,8 @@ TEST(MergeRuns, RefusesDifferentParameterCountOrNet) {
 
 TEST(MergeRuns, RefusesDifferentPreprocessing) {
   TempDir dir;
-  const std::string a = write_run(dir, "a.h5", testing::make_header(1, 20, 5), 1);
-  const std::string b = write_run(dir, "b.h5", testing::make_header(1, 20, 6), 1);  // another split
+  const std::string a = write_run(dir, "a.h5", testing::make_header(1, 21, 5), 1);
+  const std::string b = write_run(dir, "b.h5", testing::make_header(1, 21, 6), 1);  // another split
   const std::vector<std::string> inputs = {a, b};
   expect_failure(merge_runs(inputs, (dir.path() / "m.h5").string(), false),
                  StatusCode::kInvalidInput, {"preprocessing", b});

@@ -248,7 +248,7 @@ TEST(RunFile, H5pyReaderFollowingTheDocsAgrees) {
 TEST(RunFile, ExistingFileNeedsOverwrite) {
   TempDir dir;
   const std::string path = dir.write("run.h5", "an older file\n");
-  RunHeader header = make_header(2, 10);
+  RunHeader header = make_header(2, 12);
   expect_failure(RunWriter::create(path, header, false).status(), StatusCode::kInvalidInput,
                  {path, "already exists", "--force"});
   std::ifstream still(path);
@@ -267,9 +267,9 @@ TEST(RunFile, ExistingFileNeedsOverwrite) {
 TEST(RunFile, FailedCreateLeavesNoFile) {
   TempDir dir;
   const std::string path = (dir.path() / "no_such_dir" / "run.h5").string();
-  expect_failure(RunWriter::create(path, make_header(2, 10), false).status(), StatusCode::kIoError,
+  expect_failure(RunWriter::create(path, make_header(2, 12), false).status(), StatusCode::kIoError,
                  {path});
-  RunHeader bad = make_header(2, 10);
+  RunHeader bad = make_header(2, 12);
   bad.settings.emplace_back("seed", std::int64_t{3});  // duplicate name
   const std::string other = (dir.path() / "run.h5").string();
   EXPECT_FALSE(RunWriter::create(other, bad, false).ok());

@@ -23,8 +23,13 @@ inline const char* kTestCsv =
     "33,east,0.75,low\n58,north,3.75,mid\n44,south,2.25,high\n36,east,1.25,low\n"
     "49,north,2.75,mid\n60,south,4.25,high\n31,east,0.25,low\n53,north,3.25,mid\n";
 
-/// A header whose preprocessing comes from the data module on kTestCsv.
+/// A header whose preprocessing comes from the data module on kTestCsv (5 inputs, 3
+/// classes). Its net has one hidden layer of (parameters - 3) / 9 units, so that
+/// `parameters` must be 9 h + 3 (12, 21, 48, 57, 300, 2001, ...): a reader refuses a file
+/// whose parameter count does not match its network.
 inline RunHeader make_header(int chains, std::int64_t parameters, std::uint64_t seed = 5) {
+  EXPECT_TRUE(parameters >= 12 && (parameters - 3) % 9 == 0)
+      << parameters << " parameters: no one-hidden-layer net on 5 inputs and 3 classes has them";
   ReadOptions read;
   read.text_columns = {"outcome"};
   Result<Table> table = parse_table(kTestCsv, "clinic.csv", read);
@@ -52,7 +57,7 @@ inline RunHeader make_header(int chains, std::int64_t parameters, std::uint64_t 
   h.val_rows = split->validation;
   h.test_rows = split->test;
   h.preprocessing = *pre;
-  h.net_text = "credence-net 1\nhidden 4 tanh\n";
+  h.net_text = "credence-net 1\nhidden " + std::to_string((parameters - 3) / 9) + " tanh\n";
   h.parameters = parameters;
   h.settings = {{"method", std::string("sghmc")},
                 {"seed", std::int64_t{42}},
