@@ -422,7 +422,7 @@ Result<Eigen::MatrixXd> RunReader::prior_precisions() const {
       return Status::corrupt(impl_->context() + ": samples/" + kPriorPrecision +
                              " has the wrong width");
     }
-    h5::read_rows(set, 0, impl_->committed.samples, out.data(), h5::Type<double>::mem());
+    h5::read_rows(set, 0, impl_->committed.samples, rows, out.data(), h5::Type<double>::mem());
     return Status::ok_status();
   });
   if (!status.ok()) return status;
