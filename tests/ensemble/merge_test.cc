@@ -108,11 +108,11 @@ TEST(MergeRuns, RefusesDifferentMethodsOrTemperaturesNamingBoth) {
   // Issue 17: runs of different methods were merged and then reported under the first
   // run's method. They are refused now, naming both.
   TempDir dir;
-  const std::string a = write_run(dir, "a.h5", testing::make_header(1, 20), 1);
-  RunHeader sgld = testing::make_header(1, 20);
+  const std::string a = write_run(dir, "a.h5", testing::make_header(1, 21), 1);
+  RunHeader sgld = testing::make_header(1, 21);
   sgld.settings[0].second = std::string("sgld");
   const std::string b = write_run(dir, "b.h5", sgld, 1);
-  RunHeader cold = testing::make_header(1, 20);
+  RunHeader cold = testing::make_header(1, 21);
   cold.settings.emplace_back("temperature", 0.5);
   const std::string c = write_run(dir, "c.h5", cold, 1);
   const std::string out = (dir.path() / "m.h5").string();
