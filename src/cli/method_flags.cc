@@ -35,6 +35,12 @@ bool step_matters(const Use& u) {
   return u.method != Method::kRsghmc || u.has("--speed") || u.has("--mass");
 }
 
+bool is_optimizer(const Use& u) { return !is_sampler(u.method); }
+
+constexpr std::string_view kEarlyStopOnly =
+    "it stops an optimizer early; {m} is a sampler, whose kept samples all count: leave it "
+    "out, or choose sgd, momentum, rsgd or adam";
+
 constexpr FlagRule kRules[] = {
     {"--lr", [](const Use& u) { return step_matters(u) && !u.has("--step-size"); },
      "{m} does not read --lr here: --step-size, when given, replaces it; rsghmc's move per "
@@ -79,15 +85,9 @@ constexpr FlagRule kRules[] = {
     {"--epochs", [](const Use& u) { return !is_sampler(u.method) && !u.has("--steps"); },
      "{m} does not read --epochs here: it is the optimizers' budget, and --steps replaces it; "
      "a sampler runs --burn-in + --thin x --samples steps"},
-    {"--check-every", [](const Use& u) { return !is_sampler(u.method); },
-     "--check-every stops an optimizer early; {m} is a sampler, whose kept samples all count: "
-     "leave it out, or choose sgd, momentum, rsgd or adam"},
-    {"--patience", [](const Use& u) { return !is_sampler(u.method); },
-     "--patience stops an optimizer early; {m} is a sampler, whose kept samples all count: "
-     "leave it out, or choose sgd, momentum, rsgd or adam"},
-    {"--min-steps", [](const Use& u) { return !is_sampler(u.method); },
-     "--min-steps stops an optimizer early; {m} is a sampler, whose kept samples all count: "
-     "leave it out, or choose sgd, momentum, rsgd or adam"},
+    {"--check-every", is_optimizer, kEarlyStopOnly},
+    {"--patience", is_optimizer, kEarlyStopOnly},
+    {"--min-steps", is_optimizer, kEarlyStopOnly},
     {"--batch", [](const Use& u) { return !is_full_batch(u.method); },
      "{m} uses every training row in each step and reads no --batch"},
     {"--prior-scale", [](const Use& u) { return !u.net_file; },
