@@ -115,6 +115,10 @@ struct PotentialSettings {
   // (METHODS.md section 15). Off for optimizers, which keep the fixed precisions (the
   // T -> 0 limit of the draw drives lambda to infinity); also off at T = 0. Default on.
   bool learn_prior_scale = true;
+  // Evidence updates of the block precisions instead (optimizers; METHODS.md section 15,
+  // posterior/precision_evidence.h) when the prior spec learns its scale and
+  // learn_prior_scale is off. Default off.
+  bool evidence_prior_scale = false;
   // One step reads every training row (hmc, rhmc: a step is one trajectory), so a pass
   // is one step; otherwise a pass is ceil(N / batch) steps. Default off.
   bool full_batch_steps = false;
