@@ -49,7 +49,8 @@ PrecisionEvidence::PrecisionEvidence(const ParamLayout& layout, std::span<const 
       workspace_(layout, 1),
       log_lik_(1),
       grad_(layout.num_params),
-      h_(static_cast<std::size_t>(layout.num_params)) {
+      h_(static_cast<std::size_t>(layout.num_params)),
+      next_(2 * layout.layers.size()) {
   assert(rows_n >= 1);
   // A fixed seeded subset: the first m of a partial Fisher-Yates shuffle of 0..N-1.
   std::vector<std::int64_t> all(static_cast<std::size_t>(rows_n));
@@ -101,7 +102,7 @@ Status PrecisionEvidence::update(ConstVecRef<float> theta, const Eigen::MatrixXf
 
   const GaussianPrior& prior = potential.prior();
   const std::span<const double> now = prior.block_precisions();
-  next_.resize(now.size());  // sized once: a no-op after the first update
+  assert(next_.size() == now.size());  // 2 blocks per layer, sized at construction
   for (Index b = 0; b < prior.num_blocks(); ++b) {
     const auto bi = static_cast<std::size_t>(b);
     const std::span<const double> hb(h_.data() + prior.block_offset(b),
