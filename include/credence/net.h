@@ -94,7 +94,8 @@ struct PriorSpec {
   // separately its biases) gets a precision lambda_b with a Gamma(shape a, rate r)
   // hyperprior, started at the fixed value above (fan_in/s^2 for weights, 1/bias_scale^2
   // for biases) and redrawn from its conditional by Gibbs updates in the samplers.
-  // Optimizers do not learn it: they keep the fixed values. Constants and the
+  // Optimizers learn it by evidence updates instead (posterior/precision_evidence.h).
+  // Constants and the
   // measurements behind them: docs/prior.md.
   bool learn_scale = false;  // Default off in the library; the CLI and net files default on.
   double hyper_shape = 1.0;  // a > 0. Default 1: a broad hyperprior.

@@ -112,9 +112,13 @@ struct PotentialSettings {
   double temperature = 1.0;  // T >= 0; 1 is the Bayes posterior, 0 the optimizer limit
   Tempering tempering = Tempering::kWholePosterior;  // what T tempers; default both
   // Gibbs updates of the block precisions when the prior spec learns its scale
-  // (METHODS.md section 15). Off for optimizers, which keep the fixed precisions (the
+  // (METHODS.md section 15). Off for optimizers, which cannot use the draw (the
   // T -> 0 limit of the draw drives lambda to infinity); also off at T = 0. Default on.
   bool learn_prior_scale = true;
+  // Evidence updates of the block precisions instead (optimizers; METHODS.md section 15,
+  // posterior/precision_evidence.h) when the prior spec learns its scale and
+  // learn_prior_scale is off. Default off.
+  bool evidence_prior_scale = false;
   // One step reads every training row (hmc, rhmc: a step is one trajectory), so a pass
   // is one step; otherwise a pass is ceil(N / batch) steps. Default off.
   bool full_batch_steps = false;

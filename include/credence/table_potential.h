@@ -13,7 +13,10 @@
 // When the prior learns its scale (PriorSpec::learn_scale, METHODS.md section 15) and the
 // settings allow it, before_step() redraws the block precisions every K steps (K = the
 // spec's passes over the training rows), and the state also holds "prior_rng" and
-// "prior_precision"; hyperparameters() are the current precisions.
+// "prior_precision"; hyperparameters() are the current precisions. For optimizers
+// (PotentialSettings::evidence_prior_scale) before_step() instead moves the precisions
+// towards the evidence maximum (posterior/precision_evidence.h); the state then holds
+// "prior_precision" only.
 //
 //   TrainingRows rows = gather_training_rows(data.x, data.labels, data.split.train);
 //   auto factory = [&](int chain) {
@@ -50,6 +53,7 @@ TrainingRows gather_training_rows(const Eigen::MatrixXf& x, std::span<const std:
 
 /// U~ over seeded minibatches of the training rows; see the file comment.
 class PrecisionGibbs;
+class PrecisionEvidence;
 
 class TablePotential final : public PotentialFn {
  public:
@@ -75,11 +79,12 @@ class TablePotential final : public PotentialFn {
     return potential_.noise_temperature();
   }
 
-  /// Gibbs update of the learned prior precisions when one is due (see the file comment).
+  /// Gibbs (samplers) or evidence (optimizers) update of the learned prior precisions
+  /// when one is due (see the file comment).
   Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed) override;
   /// The block precisions when the prior learns its scale; empty otherwise.
   std::span<const double> hyperparameters() const override;
-  /// Steps between Gibbs updates; 0 when the precisions stay fixed.
+  /// Steps between Gibbs updates; 0 when the precisions stay fixed or follow the evidence.
   std::int64_t prior_update_every() const;
 
   /// Adds words["batch_position"] = {epoch, cursor} of the next minibatch.
@@ -103,6 +108,7 @@ class TablePotential final : public PotentialFn {
   std::vector<std::int64_t> all_rows_;   // 0..N-1, the iterator's subset
   BatchIterator batches_;
   std::unique_ptr<PrecisionGibbs> gibbs_;  // null: the prior's precisions stay fixed
+  std::unique_ptr<PrecisionEvidence> evidence_;  // optimizers' evidence updates, or null
   Eigen::MatrixXf x_batch_;              // (D, B)
   std::vector<std::int32_t> labels_batch_;  // (B)
 };

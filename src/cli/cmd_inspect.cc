@@ -62,7 +62,8 @@ std::string prior_text(const RunHeader& header) {
                          ? fmt::format("learned scale (scale=auto): per-block precision with a "
                                        "Gamma(shape {:g}, rate {}) hyperprior, Gibbs update "
                                        "every {:g} pass(es), started at weight sd {}, {}; "
-                                       "samplers only (optimizers keep the start)",
+                                       "optimizers: evidence updates from 3x that sd, capped "
+                                       "at it (docs/prior.md)",
                                        p.hyper_shape,
                                        p.hyper_rate ? fmt::format("{:g}", *p.hyper_rate)
                                                     : std::string("matched"),

@@ -137,7 +137,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
       ->capture_default_str();
   net->add_option("--prior-scale", flags->prior_scale,
                   "auto: each layer's weights and biases learn their prior precision (Gamma "
-                  "hyperprior, Gibbs updates in samplers; optimizers keep scale 1); or a fixed "
+                  "hyperprior, Gibbs updates in samplers, evidence updates in optimizers); or a fixed "
                   "weight scale s (sd s/sqrt(fan-in)); with --hidden only (docs/prior.md)")
       ->capture_default_str();
 

@@ -96,8 +96,10 @@ PotentialSettings potential_settings_of(const TrainSettings& s) {
   PotentialSettings settings;
   settings.temperature = s.sampler.temperature;
   settings.tempering = s.tempering;
-  // Optimizers keep the fixed precisions; hmc and rhmc update between trajectories.
+  // Samplers draw the precisions (hmc and rhmc between trajectories).
   settings.learn_prior_scale = is_sampler(s.sampler.method);
+  // Optimizers learn it by evidence maximisation instead (METHODS.md section 15).
+  settings.evidence_prior_scale = !is_sampler(s.sampler.method);
   settings.full_batch_steps =
       s.sampler.method == Method::kHmc || s.sampler.method == Method::kRhmc;
   return settings;

@@ -1,6 +1,7 @@
 // TablePotential: minibatches of training rows feeding the posterior potential.
 #include "credence/table_potential.h"
 
+#include "posterior/precision_evidence.h"
 #include "posterior/precision_gibbs.h"
 #include "util/rng.h"
 
@@ -66,6 +67,21 @@ Result<std::unique_ptr<TablePotential>> TablePotential::create(const TrainingRow
         prior, made->potential_.prior(), std::max<std::int64_t>(1, every),
         settings.temperature, settings.tempering, stream_seed(seed, SeedPurpose::kGibbs, 0));
   }
+  if (prior.learn_scale && !learn && settings.evidence_prior_scale) {
+    const std::int64_t per_pass =
+        settings.full_batch_steps ? 1 : (n + batches.batch_rows - 1) / batches.batch_rows;
+    // Capped at the fixed start (posterior/precision_evidence.h says why).
+    made->evidence_ = std::make_unique<PrecisionEvidence>(
+        layout, made->potential_.prior().block_precisions(), n, per_pass, seed);
+    // Start loose (PrecisionEvidence::kStartScale): from the fixed start the warm-up
+    // flattens a network on a small table into the collapsed fixed point (weights near
+    // zero, gamma near zero) that the evidence never leaves (measured: digits100 adam
+    // 2.153 either way); the updates then move each block, at most to the fixed value.
+    std::vector<double> loose(made->potential_.prior().block_precisions().begin(),
+                              made->potential_.prior().block_precisions().end());
+    for (double& l : loose) l /= PrecisionEvidence::kStartScale * PrecisionEvidence::kStartScale;
+    (void)made->potential_.set_block_precisions(loose);
+  }
   return made;
 }
 
@@ -74,11 +90,15 @@ TablePotential::~TablePotential() = default;
 Status TablePotential::before_step(ConstThetaRef theta, std::int64_t step, bool& changed) {
   changed = gibbs_ && gibbs_->due(step);
   if (changed) gibbs_->draw<float>(theta, potential_);
+  if (evidence_ && evidence_->due(step)) {
+    changed = true;
+    return evidence_->update(theta, rows_.x, step, potential_);
+  }
   return Status::ok_status();
 }
 
 std::span<const double> TablePotential::hyperparameters() const {
-  if (!gibbs_) return {};
+  if (!gibbs_ && !evidence_) return {};
   return potential_.prior().block_precisions();
 }
 
@@ -118,6 +138,7 @@ void TablePotential::save_state(NamedArrays& out) const {
   out.words["batch_position"] = {static_cast<std::uint64_t>(at.epoch),
                                  static_cast<std::uint64_t>(at.cursor)};
   if (gibbs_) gibbs_->save_state(potential_.prior(), out);
+  if (evidence_) PrecisionEvidence::save_state(potential_.prior(), out);
 }
 
 Status TablePotential::restore_state(const NamedArrays& in) {
@@ -133,6 +154,10 @@ Status TablePotential::restore_state(const NamedArrays& in) {
   if (gibbs_) {
     CREDENCE_RETURN_IF_ERROR(
         gibbs_->restore_state(in, potential_).with_context("restoring the prior's precisions"));
+  }
+  if (evidence_) {
+    CREDENCE_RETURN_IF_ERROR(PrecisionEvidence::restore_state(in, potential_)
+                                 .with_context("restoring the prior's precisions"));
   }
   return batches_.seek(at).with_context("restoring the minibatch position");
 }

@@ -1,6 +1,7 @@
 // `credence train --prior-scale`: auto (the default) learns each block's precision in the
 // samplers and records it (net text, checkpoint state); a number keeps the prior fixed;
-// optimizers keep the fixed start; anything else is refused. METHODS.md section 15.
+// optimizers learn it by evidence updates and record it too; anything else is refused.
+// METHODS.md section 15.
 #include <gtest/gtest.h>
 
 #include "credence/ensemble.h"
@@ -24,10 +25,13 @@ class PriorScale : public ::testing::Test {
   static void TearDownTestSuite() { delete dir_; }
 
   // Trains with `extra` flags; returns the run file's path (empty on failure).
-  static std::string train(const std::string& name, const std::string& extra) {
+  static std::string train(const std::string& name, const std::string& extra,
+                           bool sampler = true) {
     const std::string run = (dir_->path() / name).string();
     auto out = run_credence("--quiet train '" + data_ + "' --target fault_14d --id unit_id "
-                            "--impute median --hidden 8 --chains 2 --out '" + run + "' " + extra);
+                            "--impute median --hidden 8 " +
+                            std::string(sampler ? "--chains 2 --burn-in 40 --thin 2 --samples 5 " : "") +
+                            "--out '" + run + "' " + extra);
     EXPECT_EQ(out.exit_code, 0) << out.output;
     return out.exit_code == 0 ? run : std::string();
   }
@@ -58,7 +62,7 @@ std::vector<std::vector<double>> stored_precisions(const std::string& run, NetSp
 }
 
 TEST_F(PriorScale, AutoIsTheDefaultAndLearnsInSamplers) {
-  const std::string run = train("auto.h5", "--method sgld --burn-in 40 --thin 2 --samples 5");
+  const std::string run = train("auto.h5", "--method sgld");
   ASSERT_FALSE(run.empty());
   NetSpec spec;
   const auto precisions = stored_precisions(run, spec);
@@ -95,9 +99,9 @@ TEST_F(PriorScale, AutoIsTheDefaultAndLearnsInSamplers) {
       << inspect.output;
 }
 
-TEST_F(PriorScale, FixedScalesAndOptimizersKeepFixedPrecisions) {
+TEST_F(PriorScale, FixedScalesKeepFixedPrecisions) {
   NetSpec spec;
-  const std::string fixed = train("fixed.h5", "--method sgld --prior-scale 2 --burn-in 40 --thin 2 --samples 5");
+  const std::string fixed = train("fixed.h5", "--method sgld --prior-scale 2");
   ASSERT_FALSE(fixed.empty());
   EXPECT_TRUE(stored_precisions(fixed, spec).empty());
   EXPECT_FALSE(spec.prior.learn_scale);
@@ -108,9 +112,33 @@ TEST_F(PriorScale, FixedScalesAndOptimizersKeepFixedPrecisions) {
   ASSERT_TRUE(per_sample.ok());
   EXPECT_EQ(per_sample->cols(), 10);
   EXPECT_TRUE(per_sample->array().isNaN().all());
-  const std::string adam = train("adam.h5", "--method adam --epochs 2");
+  const std::string adam = train("adam.h5", "--method adam --epochs 2 --prior-scale 2", false);
   ASSERT_FALSE(adam.empty());
   EXPECT_TRUE(stored_precisions(adam, spec).empty());
+}
+
+TEST_F(PriorScale, OptimizersRecordTheirEvidencePrecisions) {
+  // With auto, an optimizer's state holds its precisions (posterior/precision_evidence.h);
+  // past the warm-up (500 steps) they move, never above the fixed start.
+  NetSpec spec;
+  const std::string adam = train("adam_auto.h5", "--method adam --steps 900 --patience 0", false);
+  ASSERT_FALSE(adam.empty());
+  const auto precisions = stored_precisions(adam, spec);
+  EXPECT_TRUE(spec.prior.learn_scale);
+  ASSERT_FALSE(precisions.empty());
+  for (const std::vector<double>& chain : precisions) {
+    ASSERT_EQ(chain.size(), 4u);
+    // The fixed start (fan-in 20 and 8 for weights, 1 for biases) caps them; past the
+    // warm-up at least one block has moved below it.
+    const std::vector<double> start = {20, 1, 8, 1};
+    bool moved = false;
+    for (std::size_t b = 0; b < 4; ++b) {
+      EXPECT_GT(chain[b], 0);
+      EXPECT_LE(chain[b], start[b]);
+      moved = moved || chain[b] < start[b];
+    }
+    EXPECT_TRUE(moved) << chain[0] << " " << chain[1] << " " << chain[2] << " " << chain[3];
+  }
 }
 
 TEST_F(PriorScale, RefusesAnythingButAutoOrAPositiveNumber) {

@@ -134,3 +134,58 @@ TEST(TablePotentialState, LearnedPrecisionsUpdateEveryPassAndResume) {
 
 }  // namespace
 }  // namespace credence
+
+namespace credence {
+namespace {
+
+// An optimizer's evidence updates (posterior/precision_evidence.h): the precisions are the
+// whole state, so a potential restored after one update continues with the very updates
+// of the uninterrupted one; a fresh one (no restore) does not.
+TEST(TablePotentialState, EvidencePrecisionsResumeBitForBit) {
+  Fixture f = make_fixture();
+  f.prior.learn_scale = true;
+  PotentialSettings settings;
+  settings.temperature = 0;
+  settings.learn_prior_scale = false;
+  settings.evidence_prior_scale = true;
+  auto make_evidence = [&]() {
+    auto made = TablePotential::create(f.rows, f.layout, f.prior, settings, {.batch_rows = 16}, 5);
+    EXPECT_TRUE(made.ok());
+    return std::move(*made);
+  };
+  Eigen::VectorXf theta(f.layout.num_params);
+  initialize_params<float>(theta, f.layout, 3);
+  theta *= 4.0f;  // large weights: the evidence wants looser precisions than the start
+  auto original = make_evidence();
+  const std::vector<double> start(original->hyperparameters().begin(),
+                                  original->hyperparameters().end());
+  bool changed = false;
+  ASSERT_TRUE(original->before_step(theta, 499, changed).ok());
+  EXPECT_FALSE(changed);  // still warming up
+  ASSERT_TRUE(original->before_step(theta, 500, changed).ok());
+  EXPECT_TRUE(changed);
+  const std::vector<double> first(original->hyperparameters().begin(),
+                                  original->hyperparameters().end());
+  EXPECT_NE(first, start);
+  NamedArrays saved;
+  original->save_state(saved);
+  ASSERT_EQ(saved.doubles.at("prior_precision"), first);
+
+  auto restored = make_evidence();
+  ASSERT_TRUE(restored->restore_state(saved).ok());
+  auto unrestored = make_evidence();
+  for (std::int64_t step : {700, 900}) {
+    ASSERT_TRUE(original->before_step(theta, step, changed).ok());
+    ASSERT_TRUE(restored->before_step(theta, step, changed).ok());
+    ASSERT_TRUE(unrestored->before_step(theta, step, changed).ok());
+  }
+  const auto a = original->hyperparameters(), b = restored->hyperparameters(),
+             c = unrestored->hyperparameters();
+  ASSERT_EQ(a.size(), b.size());
+  EXPECT_EQ(std::memcmp(a.data(), b.data(), a.size() * sizeof(double)), 0);
+  EXPECT_NE(std::memcmp(a.data(), c.data(), a.size() * sizeof(double)), 0)
+      << a[0] << " " << a[1] << " " << a[2] << " " << a[3] << " / " << first[0] << " " << first[1] << " " << first[2] << " " << first[3] << " / " << start[0] << " " << start[1] << " " << start[2] << " " << start[3];
+}
+
+}  // namespace
+}  // namespace credence
