@@ -8,6 +8,7 @@
 
 #include <chrono>
 #include <cstdio>
+#include <cstdlib>
 #include <string>
 #include <thread>
 #include <vector>
@@ -176,6 +177,25 @@ TEST_F(Budget, EarlyStoppingFlagsAreRefusedForSamplers) {
                               path("refused.h5") + "'");
   EXPECT_EQ(refused.exit_code, 2) << refused.output;
   EXPECT_NE(refused.output.find("--patience"), std::string::npos) << refused.output;
+}
+
+TEST_F(Budget, RunFilesWrittenBeforeEarlyStoppingStillResume) {
+  // A run file from before early stopping has no early_stop_* settings; resume must read
+  // it as "off" (how it ran) instead of refusing it as damaged. The settings are taken
+  // out with h5py and the run marked interrupted, as a killed run of that age would be.
+  const std::string run = path("old.h5");
+  auto trained = run_credence("--quiet train " + flags() +
+                              "--method sgld --chains 2 --burn-in 40 --thin 2 --samples 5 "
+                              "--out '" + run + "'");
+  ASSERT_EQ(trained.exit_code, 0) << trained.output;
+  const std::string strip = std::string(CREDENCE_PYTHON) +
+                            " -c 'import h5py,sys; f=h5py.File(sys.argv[1],\"r+\"); "
+                            "[f[\"settings\"].attrs.__delitem__(k) for k in "
+                            "list(f[\"settings\"].attrs) if k.startswith(\"early_stop_\")]; "
+                            "f[\"run/status\"][0]=b\"interrupted\"' '" + run + "' 2>&1";
+  ASSERT_EQ(std::system(strip.c_str()), 0);
+  auto resumed = run_credence("--quiet train --resume '" + run + "'");
+  EXPECT_EQ(resumed.exit_code, 0) << resumed.output;
 }
 
 TEST_F(Budget, CompareSaysWhenItCutsSamples) {
