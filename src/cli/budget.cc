@@ -73,4 +73,13 @@ std::string size_budget(TrainSettings& s, std::int64_t train_rows, const BudgetG
       passes_text(c.thin * c.samples, per_pass));
 }
 
+std::string size_max_move(TrainSettings& s, std::int64_t train_rows, const BudgetGiven& given) {
+  if (s.sampler.method != Method::kRsghmc || given.max_move || train_rows < 1) return {};
+  s.sampler.relativistic.max_move =
+      std::min(kMaxMoveCap, kMaxMoveRows / std::sqrt(static_cast<double>(train_rows)));
+  return fmt::format("rsghmc's largest move per step sized to {} training rows: {:.3g} "
+                     "(default: min({:g}, {:g} / sqrt(rows)))",
+                     train_rows, s.sampler.relativistic.max_move, kMaxMoveCap, kMaxMoveRows);
+}
+
 }  // namespace credence::cli

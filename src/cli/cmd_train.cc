@@ -106,7 +106,9 @@ Status resolve(TrainFlags& flags) {
                                .epochs = flags.epochs->count() > 0,
                                .check_every = flags.check_every->count() > 0,
                                .patience = flags.patience->count() > 0,
-                               .min_steps = flags.min_steps->count() > 0};
+                               .min_steps = flags.min_steps->count() > 0,
+                               .max_move = flags.given.count("--max-move") > 0 ||
+                                           flags.given.count("--speed") > 0};
   // The split and the chains have seeds of their own: runs with one --seed and different
   // --chain-seed values share their split and can be merged.
   r.settings.chains.seed =
@@ -167,8 +169,9 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "sghmc/momentum: friction alpha (momentum 1 - alpha)")
       ->capture_default_str();
   method->add_option("--max-move", s.sampler.relativistic.max_move,
-                     "rsghmc/rsgd/rhmc: largest move of one weight per step (sets c)")
-      ->capture_default_str();
+                     "rsghmc/rsgd/rhmc: largest move of one weight per step (sets c) "
+                     "[default: 0.01; rsghmc: min(0.01, 0.2 / sqrt(training rows)), so the "
+                     "moves shrink with the posterior's width]");
   method->add_option("--speed", s.sampler.relativistic.speed,
                      "rsghmc/rsgd/rhmc: speed of light c (overrides --max-move)");
   method->add_option("--mass", s.sampler.relativistic.mass,

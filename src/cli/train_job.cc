@@ -181,6 +181,8 @@ Result<Prepared> prepare_new(const TrainRequest& request) {
   if (request.budget_given) {
     const std::string chosen = size_budget(p.settings, p.rows.x.cols(), *request.budget_given);
     if (!chosen.empty()) log().info("{}", chosen);
+    const std::string moved = size_max_move(p.settings, p.rows.x.cols(), *request.budget_given);
+    if (!moved.empty()) log().info("{}", moved);
   }
   if (p.layout.num_params > kParametersPerRowWarning * p.rows.x.cols()) {
     warn_once(fmt::format("{} parameters for {} training rows ({:.0f} per row, more than {}): the "

@@ -11,6 +11,7 @@
 #include <cstdlib>
 #include <string>
 #include <thread>
+#include <tuple>
 #include <vector>
 
 #include "credence/ensemble.h"
@@ -196,6 +197,30 @@ TEST_F(Budget, RunFilesWrittenBeforeEarlyStoppingStillResume) {
   ASSERT_EQ(std::system(strip.c_str()), 0);
   auto resumed = run_credence("--quiet train --resume '" + run + "'");
   EXPECT_EQ(resumed.exit_code, 0) << resumed.output;
+}
+
+TEST_F(Budget, RsghmcMovesShrinkWithTheTable) {
+  // 1,000 rows, 700 training rows: the largest move per step is 0.2 / sqrt(700) = 0.00756
+  // (budget.h), below the 0.01 that left a 700,000-row table's network near-constant; a
+  // --max-move given is kept.
+  const std::string data = path("thousand.csv");
+  auto synth = run_credence("--quiet synth --scenario cold-store --rows 1000 --seed 5 --out '" +
+                            data + "'");
+  ASSERT_EQ(synth.exit_code, 0) << synth.output;
+  const std::string common = "--quiet train '" + data + "' --target fault_14d --id unit_id "
+                             "--impute median --hidden 8 --method rsghmc --chains 1 "
+                             "--burn-in 10 --thin 1 --samples 2 ";
+  for (const auto& [name, extra, expected] :
+       {std::tuple<std::string, std::string, std::string>{"sized", "", "0.00756"},
+        {"given", "--max-move 0.05", "0.05"}}) {
+    const std::string run = path("mm_" + name + ".h5"), json = path("mm_" + name + ".json");
+    auto trained = run_credence(common + extra + " --out '" + run + "'");
+    ASSERT_EQ(trained.exit_code, 0) << trained.output;
+    auto inspected = run_credence("--quiet inspect '" + run + "' --json '" + json + "'");
+    ASSERT_EQ(inspected.exit_code, 0) << inspected.output;
+    EXPECT_EQ(json_value(json, "'%.3g' % d['settings']['relativistic_max_move']"), expected)
+        << name;
+  }
 }
 
 TEST_F(Budget, CompareSaysWhenItCutsSamples) {
