@@ -97,7 +97,8 @@ TEST(RunVerdict, NegligibleShiftOnALongTraceIsNotDrift) {
   // 40,000 iid rows, second half shifted by 0.1 sd: z is about 10, the shift is negligible.
   e.potential = iid_chains(1, 40000, rng);
   for (std::size_t i = 20000; i < 40000; ++i) e.potential[0][i] += 0.1;
-  const VerdictCheck* drift = judge_run(e).find("drift");
+  const RunVerdict drift_verdict = judge_run(e);  // outlives the pointer below
+  const VerdictCheck* drift = drift_verdict.find("drift");
   EXPECT_GT(drift->value, kDriftZ) << "the z-score alone would flag it";
   EXPECT_EQ(drift->outcome, CheckOutcome::kPassed) << drift->message;
 }
@@ -106,7 +107,8 @@ TEST(RunVerdict, ShortTraceLeavesDriftUnapplied) {
   std::mt19937_64 rng(testing::test_seed(1704));
   RunEvidence e = mixed_sampler(rng);
   e.potential = iid_chains(4, 2 * kDriftMinRowsPerHalf - 1, rng);
-  EXPECT_EQ(judge_run(e).find("drift")->outcome, CheckOutcome::kNotApplied);
+  const RunVerdict verdict = judge_run(e);
+  EXPECT_EQ(verdict.find("drift")->outcome, CheckOutcome::kNotApplied);
 }
 
 TEST(RunVerdict, SamePredictionForEveryRowIsConstant) {
@@ -121,7 +123,8 @@ TEST(RunVerdict, SamePredictionForEveryRowIsConstant) {
     e.probe_prob.push_back(iid_chains(4, 500, rng, pi[r % 3], 1e-3));
     e.probe_labels.push_back(r % 3);
   }
-  const VerdictCheck* constant = judge_run(e).find("constant");
+  const RunVerdict constant_verdict = judge_run(e);  // outlives the pointer below
+  const VerdictCheck* constant = constant_verdict.find("constant");
   ASSERT_EQ(constant->outcome, CheckOutcome::kFailed) << constant->message;
   EXPECT_LT(constant->value, kConstantLogOddsSd);
   EXPECT_NE(constant->message.find("sum to 1.000"), std::string::npos) << constant->message;
@@ -133,11 +136,13 @@ TEST(RunVerdict, ConfidentRightPredictionsAreNotConstant) {
   // Every row gets 0.99 on its own label: equal within a class, but the class means sum
   // to 1.98, which no constant prediction can give.
   for (auto& row : e.probe_prob) row = iid_chains(4, 500, rng, 0.99, 1e-4);
-  const VerdictCheck* constant = judge_run(e).find("constant");
+  const RunVerdict constant_verdict = judge_run(e);  // outlives the pointer below
+  const VerdictCheck* constant = constant_verdict.find("constant");
   EXPECT_LT(constant->value, kConstantLogOddsSd);
   EXPECT_EQ(constant->outcome, CheckOutcome::kPassed) << constant->message;
   e.probe_labels.clear();
-  EXPECT_EQ(judge_run(e).find("constant")->outcome, CheckOutcome::kNotApplied) << "labels unknown";
+  const RunVerdict verdict = judge_run(e);
+  EXPECT_EQ(verdict.find("constant")->outcome, CheckOutcome::kNotApplied) << "labels unknown";
 }
 
 RunEvidence optimizer(double norm_fraction) {
@@ -198,7 +203,8 @@ TEST(RunVerdict, SlowChainsAreNotMixedWithStepsToGo) {
 
   // 40 draws per chain (20 per half-chain): the figure is marked rough.
   for (auto& chain : e.probe_log_lik) chain.resize(40);
-  const VerdictCheck* few = judge_run(e).find("mixing");
+  const RunVerdict few_verdict = judge_run(e);  // outlives the pointer below
+  const VerdictCheck* few = few_verdict.find("mixing");
   ASSERT_EQ(few->outcome, CheckOutcome::kFailed);
   EXPECT_NE(few->message.find("a rough figure: 40 kept samples per chain"), std::string::npos) << few->message;
 }
@@ -207,7 +213,8 @@ TEST(RunVerdict, TooFewKeptSamplesFailMixing) {
   std::mt19937_64 rng(testing::test_seed(1708));
   RunEvidence e = mixed_sampler(rng);
   e.probe_log_lik = iid_chains(4, 3, rng);
-  EXPECT_EQ(judge_run(e).find("mixing")->outcome, CheckOutcome::kFailed);
+  const RunVerdict verdict = judge_run(e);
+  EXPECT_EQ(verdict.find("mixing")->outcome, CheckOutcome::kFailed);
 }
 
 TEST(RunVerdict, PredictionAgreementIsSeparateFromWeightScale) {
