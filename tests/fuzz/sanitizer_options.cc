@@ -11,3 +11,16 @@
 extern "C" const char* __asan_default_options() {
   return "allocator_may_return_null=1:max_allocation_size_mb=1024";
 }
+
+// HDF5 1.10.8 copies names it decodes from a file (attribute and link names, comments)
+// with strdup through H5MM_strdup / H5MM_xstrdup, trusting the file to end each name
+// with a zero byte. In a damaged file the name can run to the end of HDF5's own buffer,
+// and strdup reads past it: a CI campaign reported such a heap-buffer-overflow in strdup
+// (2026-12-04). It is inside the library, not in code we can change, and strdup is called
+// nowhere else (neither by credence nor by HDF5's C++ layer). So exactly these two
+// callers are exempt; any other out-of-bounds access, including one by HDF5 into a buffer
+// credence passed, is still reported. docs/reliability.md, "Findings in HDF5".
+extern "C" const char* __asan_default_suppressions() {
+  return "interceptor_via_fun:H5MM_strdup\n"
+         "interceptor_via_fun:H5MM_xstrdup\n";
+}
