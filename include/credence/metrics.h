@@ -255,8 +255,9 @@ struct TemperatureFit {
   bool at_bound = false;   // tau* is a bound of [e^-5, e^5] (the optimum may lie beyond)
 };
 
-/// Fits tau minimising mean_i -log softmax(z_i / tau)_{y_i}, where z are logits or, for an
-/// ensemble, log pbar (credence's default: scale the log of the model average). Fit it on
+/// Fits tau minimising mean_i -log softmax(z_i / tau)_{y_i}, where z are logits or the log
+/// of an average (an ensemble's own default is member by member: fit_ensemble_temperature,
+/// used by assess and applied by predict). Fit it on
 /// a validation split, never on the test rows. Fails with kInvalidInput when an entry is
 /// NaN or +inf, or a label has log-probability -inf (no tau gives it a finite NLL).
 /// REQUIRES: z is (K, n), n == labels.size() >= 1, labels in [0, K).

@@ -33,7 +33,7 @@ std::string speed_note(std::string_view method, double mean_ratio) {
   }
   if (mean_ratio > 0.8) {
     return "mean |v|/c near 1 (ultra-relativistic): momenta thermalise slowly; raise the mass "
-           "(--relativistic-mass) or lengthen burn-in";
+           "(--mass) or lengthen burn-in";
   }
   if (mean_ratio < 0.2) {
     return "mean |v|/c near 0 (nearly Newtonian): the speed bound rarely acts; a smaller mass "
