@@ -75,6 +75,14 @@ TEST_F(Compare, OneRowPerMethodWithEveryMetricAndOneBudget) {
 
 TEST_F(Compare, EveryMethodGetsAVerdictInTheTextAndTheJson) {
   ASSERT_EQ(compare_.exit_code, 0) << compare_.output;
+  // ... and in the report: one verdict block per method, a note or a warning.
+  const std::string html = read_text(path("cmp/report.html"));
+  ASSERT_NE(html.find("Can these runs be trusted?"), std::string::npos);
+  for (const char* method : {"adam", "rsgd", "sgld", "sghmc", "rsghmc"}) {
+    const bool done = html.find(std::string("</strong>") + method + ": done.") != std::string::npos;
+    const bool not_done = html.find(std::string("</strong>") + method + ": NOT done.") != std::string::npos;
+    EXPECT_TRUE(done != not_done) << method << " needs exactly one verdict block in the report";
+  }
   for (const char* method : {"adam", "rsgd", "sgld", "sghmc", "rsghmc"}) {
     EXPECT_NE(compare_.output.find(std::string("\nverdict ") + method + ": "), std::string::npos)
         << method << " has no verdict under the table:\n" << compare_.output;
@@ -116,7 +124,7 @@ TEST_F(Compare, ReportRendersInHeadlessChromium) {
   const std::string log = path("render.txt");
   const int code = run_python("'" + std::string(CREDENCE_SOURCE_DIR) +
                                   "/tests/tools/render_check.py' '" + path("cmp/report.html") +
-                                  "' --expect-sections 9",
+                                  "' --expect-sections 10",
                               log);
   if (code == 77) GTEST_SKIP() << "chromium is not installed (scripts/bootstrap installs it)";
   EXPECT_EQ(code, 0) << read_text(log);
@@ -129,6 +137,9 @@ TEST_F(Compare, ReportCommandWritesOnePage) {
   ASSERT_EQ(report.exit_code, 0) << report.output;
   const std::string html = read_text(path("one.html"));
   EXPECT_NE(html.find("Mixing diagnostics"), std::string::npos);
+  // The run's end-of-run verdict in plain words (report/verdict_section.h).
+  EXPECT_NE(html.find("Can these runs be trusted?"), std::string::npos);
+  EXPECT_NE(html.find("Do the chains predict alike?"), std::string::npos);
   EXPECT_EQ(html.find("https://"), std::string::npos);
   auto bad = run_credence("report '" + path("cmp/rsghmc.h5") + "' '" + path("none.csv") +
                           "' --out '" + path("two.html") + "'");
