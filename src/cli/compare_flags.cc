@@ -29,11 +29,13 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
   command.add_option("--epochs", flags.epochs,
                      fmt::format("Gradient budget per chain, in passes over the training rows "
                                  "(the same for every method) [default: sized to the table, as a "
-                                 "sampler's train defaults: burn-in max({} steps, {:g} passes) "
-                                 "plus as much again to sample, each at most {}]",
+                                 "sampler's train defaults: burn-in max({} steps, {:g} passes), "
+                                 "at most {}, then as much again to sample and at least {} steps "
+                                 "per kept sample]",
                                  BudgetDefaults::kSamplerBurnInFloor,
                                  BudgetDefaults::kSamplerBurnInPasses,
-                                 BudgetDefaults::kSamplerPhaseCap));
+                                 BudgetDefaults::kSamplerPhaseCap,
+                                 BudgetDefaults::kSamplerThinFloor));
   command.add_option("--chains", flags.chains,
                      "Chains per method (optimizers: independent restarts, averaged)")
       ->capture_default_str();
@@ -54,9 +56,10 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
       command
           .add_option("--extend-seconds", flags.extend_seconds,
                       fmt::format("A sampler whose end-of-run verdict is not done is re-run once "
-                                  "from the start with a longer budget (the verdict's estimate, "
-                                  "at most {} steps per chain) when that re-run should take at "
-                                  "most this many seconds; 0: never. Not with --epochs, whose "
+                                  "from the start with a longer budget: the verdict's estimate, "
+                                  "at most {} steps per chain and as many as the first run's "
+                                  "speed fits in this many seconds (no re-run when that is under "
+                                  "twice the first run); 0: never. Not with --epochs, whose "
                                   "budget is kept as given",
                                   kExtendMaxSteps))
           ->capture_default_str();
