@@ -8,16 +8,35 @@
 namespace credence::report {
 namespace {
 
-// What a reader should do about a failed check, in one sentence.
+// Each check: the plain question it answers, and what to do when the answer is no.
+struct CheckWords {
+  std::string_view name, question, remedy;
+};
+constexpr CheckWords kWords[] = {
+    {"drift", "Had the chains settled before the first kept sample?",
+     "give a longer burn-in (--burn-in, or more --epochs in compare)"},
+    {"constant", "Do predictions differ from row to row?",
+     "the network learned nothing from the inputs: check the table and the prior scale"},
+    {"pinned", "Are the weights free of the prior's pull to zero?",
+     "the prior holds the weights at zero: raise --prior-scale or give more rows"},
+    {"mixing", "Are there enough nearly independent draws?",
+     "keep more samples over a longer run (--samples, --epochs)"},
+    {"predictions", "Do the chains predict alike?",
+     "run the chains longer before trusting the ensemble's probabilities"},
+    {"scale", "Do the chains agree on the weights' scale?",
+     "run longer; predictions may still agree, but the weight scales do not yet"},
+};
+
+const CheckWords* words_for(std::string_view check_name) {
+  for (const CheckWords& w : kWords) {
+    if (w.name == check_name) return &w;
+  }
+  return nullptr;
+}
+
 std::string_view remedy(std::string_view check_name) {
-  if (check_name == "drift") return "give a longer burn-in (--burn-in, or more --epochs in compare)";
-  if (check_name == "constant") return "the network learned nothing from the inputs: check the table and the prior scale";
-  if (check_name == "pinned") return "the prior holds the weights at zero: raise --prior-scale or give more rows";
-  if (check_name == "collapsed") return "the learned prior holds the weights at zero: give a fixed --prior-scale or more rows";
-  if (check_name == "mixing") return "keep more samples over a longer run (--samples, --epochs)";
-  if (check_name == "predictions") return "run the chains longer before trusting the ensemble's probabilities";
-  if (check_name == "scale") return "run longer; predictions may still agree, but the weight scales do not yet";
-  return "see the check's message";
+  const CheckWords* w = words_for(check_name);
+  return w ? w->remedy : "see the check's message";
 }
 
 std::string plain_outcome(CheckOutcome outcome) {
@@ -32,14 +51,8 @@ std::string plain_outcome(CheckOutcome outcome) {
 }  // namespace
 
 std::string_view check_question(std::string_view check_name) {
-  if (check_name == "drift") return "Had the chains settled before the first kept sample?";
-  if (check_name == "constant") return "Do predictions differ from row to row?";
-  if (check_name == "pinned") return "Are the weights free of the prior's pull to zero?";
-  if (check_name == "collapsed") return "Did the learned prior leave the weights room to fit?";
-  if (check_name == "mixing") return "Are there enough nearly independent draws?";
-  if (check_name == "predictions") return "Do the chains predict alike?";
-  if (check_name == "scale") return "Do the chains agree on the weights' scale?";
-  return check_name;
+  const CheckWords* w = words_for(check_name);
+  return w ? w->question : check_name;
 }
 
 void verdict_section(HtmlReport& page, std::span<const LabelledVerdict> runs) {
