@@ -5,6 +5,7 @@
 #include <cstdio>
 
 #include "cli/commands.h"
+#include "cli/compare_extend.h"
 #include "cli/compare_flags.h"
 #include "cli/verdict_output.h"
 
@@ -63,6 +64,7 @@ void add_compare_command(CLI::App& app, const GlobalOptions& global, CommandList
       "compare",
       "Train several methods on one split, one network and one gradient budget; compare "
       "their accuracy and calibration side by side, with an HTML report");
+  flags->extend_seconds = kExtendSeconds;  // sweep keeps 0: it maps step sizes, not one run
   add_compare_flags(*sub, *flags, "adam,rsgd,sgld,sghmc,rsghmc");
   commands.push_back({sub, [flags, &global] { return run_compare_command(*flags, global); }});
 }

@@ -9,6 +9,7 @@
 
 #include "cli/commands.h"
 #include "cli/json.h"
+#include "cli/precision_output.h"
 #include "cli/verdict_output.h"
 #include "credence/ensemble.h"
 #include "credence/run_diagnostics.h"
@@ -210,11 +211,16 @@ Status run_diagnose(const DiagnoseOptions& options) {
   if (Result<RunEvidence> evidence = gather_run_evidence(**reader); evidence.ok()) {
     verdict = judge_run(*evidence);
   }
+  Result<Eigen::MatrixXd> precisions = (*reader)->prior_precisions();
+  if (!precisions.ok()) return precisions.status();
+  const std::vector<BlockPrecision> prior = summarize_prior_precisions(*precisions);
   std::string text = text_report(options.run_path, *diagnostics, options.all);
+  text += "\n" + precision_text(prior);
   if (verdict) text += "\n" + verdict_text(*verdict);
   std::fwrite(text.data(), 1, text.size(), stdout);
   if (!options.json_path.empty()) {
     std::string json = json_report(options.run_path, *diagnostics);
+    json = json.substr(0, json.rfind('}')) + ", \"prior_precision\": " + precision_json(prior) + "}\n";
     if (verdict) {
       JsonWriter j;
       write_verdict(j, *verdict);

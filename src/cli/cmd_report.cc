@@ -5,6 +5,7 @@
 
 #include "cli/commands.h"
 #include "cli/report_page.h"
+#include "cli/verdict_output.h"
 #include "util/atomic_file.h"
 
 namespace credence::cli {
@@ -34,6 +35,9 @@ Status run_report(const ReportFlags& flags, const GlobalOptions& global) {
   options.metrics.bootstrap.resamples = flags.bootstrap;
   Result<MethodRun> run = load_method_run(flags.run_path, flags.data_path, "", options);
   if (!run.ok()) return run.status();
+  // The end-of-run checks, as diagnose judges them: without the probe rows' labels the
+  // constant-prediction check does not apply.
+  run->verdict = judge_run_file(flags.run_path, {});
   std::vector<MethodRun> runs;
   runs.push_back(std::move(*run));
   CREDENCE_RETURN_IF_ERROR(write_file_atomically(

@@ -4,9 +4,12 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cmath>
 #include <filesystem>
 #include <sstream>
 
+#include "cli/compare_extend.h"
+#include "cli/compare_samples.h"
 #include "util/atomic_file.h"
 
 namespace credence::cli {
@@ -26,24 +29,45 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
   command.add_option("--epochs", flags.epochs,
                      fmt::format("Gradient budget per chain, in passes over the training rows "
                                  "(the same for every method) [default: sized to the table, as a "
-                                 "sampler's train defaults: burn-in max({} steps, {:g} passes) "
-                                 "plus as much again to sample, each at most {}]",
+                                 "sampler's train defaults: burn-in max({} steps, {:g} passes), "
+                                 "at most {}, then as much again to sample and at least {} steps "
+                                 "per kept sample]",
                                  BudgetDefaults::kSamplerBurnInFloor,
                                  BudgetDefaults::kSamplerBurnInPasses,
-                                 BudgetDefaults::kSamplerPhaseCap));
+                                 BudgetDefaults::kSamplerPhaseCap,
+                                 BudgetDefaults::kSamplerThinFloor));
   command.add_option("--chains", flags.chains,
                      "Chains per method (optimizers: independent restarts, averaged)")
       ->capture_default_str();
   command.add_option("--batch", flags.batch, "Minibatch rows")->capture_default_str();
   flags.samples_option =
-      command.add_option("--samples", flags.samples, "Kept samples per chain for samplers")
-          ->capture_default_str();
+      command.add_option("--samples", flags.samples,
+                         fmt::format("Kept samples per chain for samplers [default: {}, so that "
+                                     "R-hat over every probe row can resolve 1.01; fewer when a "
+                                     "run file would pass {} MiB]",
+                                     kCompareRhatDraws, kCompareSampleBytes >> 20));
   command.add_option("--out", flags.out_dir, "Folder for the run files, tables and report")
       ->required();
   command.add_option("--truth", flags.truth_path,
                      "A synth truth file: also score against the true probabilities");
   command.add_option("--bootstrap", flags.bootstrap, "Bootstrap resamples for the intervals")
       ->capture_default_str();
+  flags.extend_option =
+      command
+          .add_option("--extend-seconds", flags.extend_seconds,
+                      fmt::format("A sampler whose end-of-run verdict is not done is re-run once "
+                                  "from the start with a longer budget: the verdict's estimate, "
+                                  "at most {} steps per chain and as many as the first run's "
+                                  "speed fits in this many seconds (no re-run when that is under "
+                                  "twice the first run); 0: never. Not with --epochs, whose "
+                                  "budget is kept as given",
+                                  kExtendMaxSteps))
+          ->capture_default_str();
+  flags.chain_seed_option = command.add_option(
+      "--chain-seed", flags.chain_seed,
+      "Seed of every method's chains (starting points, minibatch order, noise), apart from the "
+      "split's --seed; default: --seed. Comparisons with one --seed and different chain seeds "
+      "share their split, so their run files can be merged");
 }
 
 Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Method>& methods) {
@@ -96,9 +120,22 @@ Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Me
   r.chains = flags.chains;
   r.batch_rows = flags.batch;
   r.samples = flags.samples;
+  r.samples_given = flags.samples_option != nullptr && flags.samples_option->count() > 0;
   r.out_dir = flags.out_dir;
   r.truth_path = flags.truth_path;
   r.bootstrap = flags.bootstrap;
+  r.extend_seconds = flags.extend_seconds;
+  if (flags.extend_option != nullptr && flags.extend_option->count() > 0 && flags.epochs > 0) {
+    return Status::invalid_input(
+        "--extend-seconds is not read with --epochs: a budget given in passes is kept as "
+        "given; drop one of them");
+  }
+  if (!(r.extend_seconds >= 0) || !std::isfinite(r.extend_seconds)) {
+    return Status::invalid_input("--extend-seconds: give 0 (never) or a positive number of seconds");
+  }
+  if (flags.chain_seed_option != nullptr && flags.chain_seed_option->count() > 0) {
+    r.chain_seed = flags.chain_seed;
+  }
   if (r.epochs < 0) return Status::invalid_input("--epochs: give a positive number of passes");
   if (r.chains < 1 || r.batch_rows < 1 || r.samples < 1 || r.bootstrap < 0) {
     return Status::invalid_input(

@@ -23,7 +23,11 @@ struct CompareFlags {
   std::string out_dir;
   std::string truth_path;
   int bootstrap = 1000;
+  std::uint64_t chain_seed = 0;  // --chain-seed, when given; else the split's --seed
+  double extend_seconds = 0;     // --extend-seconds; compare sets its default before adding flags
+  const CLI::Option* extend_option = nullptr;
   const CLI::Option* samples_option = nullptr;  // set by add_compare_flags: was --samples given?
+  const CLI::Option* chain_seed_option = nullptr;  // was --chain-seed given?
 };
 
 /// Adds DATA.csv, the data flags, --methods (default `default_methods`), the network and

@@ -3,10 +3,13 @@
 
 #include <fmt/format.h>
 
+#include <chrono>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
 
+#include "cli/compare_extend.h"
+#include "cli/compare_samples.h"
 #include "util/log.h"
 
 namespace credence::cli {
@@ -28,11 +31,11 @@ TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
   s.sampler.method = entry.method;
   if (entry.learning_rate) s.sampler.learning_rate = *entry.learning_rate;
   s.chains.chains = c.chains;
-  s.chains.seed = c.data.split.seed;
+  s.chains.seed = c.chain_seed.value_or(c.data.split.seed);
   s.summary_seed = c.data.split.seed;
   s.batches.batch_rows = c.batch_rows;
   if (is_sampler(entry.method)) {
-    const SamplerShare share = sampler_share(budget.steps, c.samples);
+    const SamplerShare share = sampler_share(budget);
     s.chains.samples = share.samples;
     s.chains.thin = share.thin;
     s.chains.burn_in = share.burn_in;
@@ -62,6 +65,11 @@ SamplerShare sampler_share(std::int64_t steps, std::int64_t samples) {
   return share;
 }
 
+SamplerShare sampler_share(const Budget& budget) {
+  if (!budget.sized_burn_in || !budget.sized_thin) return sampler_share(budget.steps, budget.samples);
+  return {*budget.sized_burn_in, *budget.sized_thin, budget.samples, {}};
+}
+
 Result<Budget> compare_budget(const CompareRequest& request) {
   if (request.epochs < 0 || !std::isfinite(request.epochs)) {
     return Status::invalid_input(
@@ -71,6 +79,19 @@ Result<Budget> compare_budget(const CompareRequest& request) {
   if (!data.ok()) return data.status();
   Budget budget;
   budget.train_rows = static_cast<std::int64_t>(data->split.train.size());
+  if (request.samples_given) {
+    budget.samples = request.samples;
+  } else {
+    // A net file's size is known only once it is parsed; its samples are not cut.
+    const std::int64_t parameters =
+        request.net_path.empty()
+            ? dense_parameters(data->preprocessing.input_width, request.hidden,
+                               static_cast<int>(data->preprocessing.class_names.size()))
+            : 0;
+    const CompareSamples sized = default_compare_samples(parameters, request.chains);
+    budget.samples = sized.samples;
+    budget.samples_note = sized.note;
+  }
   const std::int64_t per_pass = steps_per_pass(budget.train_rows, request.batch_rows);
   if (request.epochs > 0) {
     budget.steps = static_cast<std::int64_t>(std::ceil(request.epochs * static_cast<double>(per_pass)));
@@ -81,9 +102,11 @@ Result<Budget> compare_budget(const CompareRequest& request) {
   // needs: burn-in plus a sampling phase, each in passes with floors and caps.
   TrainSettings sampler;
   sampler.batches.batch_rows = request.batch_rows;
-  sampler.chains.samples = request.samples;
+  sampler.chains.samples = budget.samples;
   (void)size_budget(sampler, budget.train_rows, BudgetGiven{.samples = true});
   budget.steps = sampler.chains.burn_in + sampler.chains.thin * sampler.chains.samples;
+  budget.sized_burn_in = sampler.chains.burn_in;
+  budget.sized_thin = sampler.chains.thin;
   return budget;
 }
 
@@ -113,10 +136,11 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
                  request.epochs > 0 ? "" : "; sized to the table, --epochs sets it");
   }
   // Said once, before any training, and again in the summary of each sampler it touches.
-  const std::string cut = sampler_share(budget->steps, request.samples).note;
+  const std::string cut = sampler_share(*budget).note;
   bool any_sampler = false;
   for (const CompareEntry& entry : request.entries) any_sampler = any_sampler || is_sampler(entry.method);
   if (any_sampler && !cut.empty()) log().warn("{}", cut);
+  if (any_sampler && !budget->samples_note.empty()) log().warn("{}", budget->samples_note);
   AssessJobOptions assess;
   assess.split = AssessSplit::kTest;
   assess.truth_path = request.truth_path;
@@ -128,10 +152,32 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
     outcome.entry = entry;
     TrainRequest train = request_for(request, entry, *budget);
     outcome.run_path = train.out_path;
-    if (is_sampler(entry.method)) outcome.budget_note = sampler_share(budget->steps, request.samples).note;
+    if (is_sampler(entry.method)) {
+      outcome.budget_note = sampler_share(*budget).note;
+      if (!budget->samples_note.empty()) {
+        outcome.budget_note += (outcome.budget_note.empty() ? "" : "; ") + budget->samples_note;
+      }
+    }
     std::optional<RunVerdict> verdict;
     train.verdict = &verdict;
+    const auto started = std::chrono::steady_clock::now();
     Status trained = run_train(train);
+    if (trained.ok() && verdict && is_sampler(entry.method) && request.epochs == 0) {
+      const double seconds =
+          std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+      const ExtendPlan plan = plan_extension(*verdict, budget->steps, seconds, request.extend_seconds);
+      if (!plan.why.empty()) {
+        log().info("{}: {}", entry.label, plan.why);
+        outcome.budget_note += (outcome.budget_note.empty() ? "" : "; ") + plan.why;
+      }
+      if (plan.steps > 0) {
+        const ExtendShare share = extend_share(plan.steps, train.settings.chains.samples);
+        train.settings.chains.burn_in = share.burn_in;
+        train.settings.chains.thin = share.thin;
+        verdict.reset();
+        trained = run_train(train);
+      }
+    }
     if (trained.code() == StatusCode::kInterrupted || trained.code() == StatusCode::kInvalidInput) {
       return trained;  // Ctrl-C stops the whole comparison; bad input is the user's to fix
     }

@@ -31,10 +31,19 @@ struct CompareRequest {
   double epochs = 0;
   int chains = 4;                // every method runs this many chains (optimizers: restarts)
   std::int64_t batch_rows = 128;
-  std::int64_t samples = 100;    // kept samples per chain for samplers
+  /// Kept samples per chain for samplers when `samples_given`; otherwise sized by
+  /// default_compare_samples (compare_samples.h).
+  std::int64_t samples = 100;
+  bool samples_given = false;
   std::string out_dir;
   std::string truth_path;        // optional synth truth file
   int bootstrap = 1000;
+  /// A sampler whose verdict is not done after a budget sized to the table (no --epochs)
+  /// is re-run once, longer, when the re-run's estimated wall time fits in this many
+  /// seconds (compare_extend.h); 0: never.
+  double extend_seconds = 0;
+  /// Seed of every entry's chains; empty: the split's seed (as train's --chain-seed).
+  std::optional<std::uint64_t> chain_seed;
   bool quiet = false;
   std::string command_line;
 };
@@ -50,12 +59,17 @@ struct CompareOutcome {
 };
 
 /// The steps per chain every method gets: ceil(epochs * train rows / batch) when epochs
-/// is given; by default the budget a sampler gets from `credence train` (budget.h), at
-/// least kCompareFloor steps, so samplers burn in and keep --samples samples at
-/// thin >= 10 on tables of a few hundred rows.
+/// is given; by default the budget a sampler gets from `credence train` (budget.h) for
+/// the samples compare keeps, so samplers burn in and keep them at thin >= 10.
 struct Budget {
   std::int64_t train_rows = 0;
   std::int64_t steps = 0;
+  std::int64_t samples = 0;  // kept samples per sampler chain asked for (--samples or sized)
+  std::string samples_note;  // why the sized default is below kCompareRhatDraws, or empty
+  /// Sized to the table (no --epochs): a sampler's burn-in and thinning exactly as train
+  /// sizes them (thin >= 10); with --epochs, empty and split by sampler_share.
+  std::optional<std::int64_t> sized_burn_in;
+  std::optional<std::int64_t> sized_thin;
 };
 
 /// How a sampler spends a budget of `steps`: half (at least) burns in, the rest is
@@ -68,6 +82,9 @@ struct SamplerShare {
   std::string note;  // empty unless samples were cut
 };
 SamplerShare sampler_share(std::int64_t steps, std::int64_t samples);
+/// The share a sampler gets of `budget`: the sized burn-in and thinning when the budget
+/// was sized to the table, else sampler_share(budget.steps, budget.samples).
+SamplerShare sampler_share(const Budget& budget);
 Result<Budget> compare_budget(const CompareRequest& request);
 
 /// Trains every entry into out_dir/<file_stem>.h5 (overwriting), then assesses each on

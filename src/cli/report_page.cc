@@ -11,6 +11,7 @@
 #include "cli/verdict_output.h"
 #include "credence/plot.h"
 #include "credence/version.h"
+#include "report/verdict_section.h"
 #include "util/log.h"
 
 namespace credence::cli {
@@ -420,6 +421,9 @@ std::string report_page(const std::string& title, const std::vector<MethodRun>& 
                             first.assessment.rows.size(), first.assessment.split_name));
   data_section(page, runs, data_path);
   scores_section(page, runs);
+  std::vector<report::LabelledVerdict> verdicts;
+  for (const MethodRun& run : runs) verdicts.push_back({run.label, run.verdict ? &*run.verdict : nullptr});
+  report::verdict_section(page, verdicts);
   reliability_section(page, runs);
   abstain_section(page, runs);
   doubt_section(page, runs);

@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "credence/diagnostics.h"
+#include "diagnostics/quantile.h"
 
 namespace credence {
 namespace {
@@ -63,8 +64,9 @@ std::vector<double> average_ranks(const std::vector<double>& values) {
   return ranks;
 }
 
-// numpy.quantile's default: linear interpolation at position p (n - 1).
-double quantile(std::vector<double> values, double p) {
+}  // namespace
+
+double linear_quantile(std::vector<double> values, double p) {
   std::sort(values.begin(), values.end());
   const double position = p * static_cast<double>(values.size() - 1);
   const auto below = static_cast<std::size_t>(std::floor(position));
@@ -72,8 +74,6 @@ double quantile(std::vector<double> values, double p) {
   const double fraction = position - static_cast<double>(below);
   return values[below] + fraction * (values[above] - values[below]);
 }
-
-}  // namespace
 
 Chains common_length(const Chains& chains) {
   std::size_t shortest = chains.empty() ? 0 : chains[0].size();
@@ -107,7 +107,7 @@ Chains rank_normalize(const Chains& chains) {
 Chains fold(const Chains& chains) {
   std::vector<double> all = pooled(chains);
   if (all.empty()) return chains;
-  const double median = quantile(all, 0.5);
+  const double median = linear_quantile(all, 0.5);
   for (double& value : all) value = std::abs(value - median);
   return reshaped(chains, all);
 }
@@ -115,7 +115,7 @@ Chains fold(const Chains& chains) {
 Chains quantile_indicator(const Chains& chains, double p) {
   std::vector<double> all = pooled(chains);
   if (all.empty()) return chains;
-  const double q = quantile(all, p);
+  const double q = linear_quantile(all, p);
   for (double& value : all) value = value <= q ? 1.0 : 0.0;
   return reshaped(chains, all);
 }

@@ -228,7 +228,7 @@ TEST_F(Budget, CompareSaysWhenItCutsSamples) {
   // Before the fix this was silent.
   const std::string out = path("cmp_cut");
   auto compared = run_credence("compare " + flags() + "--methods adam,sgld --chains 2 --epochs 2 "
-                               "--bootstrap 0 --out '" + out + "'");
+                               "--samples 100 --bootstrap 0 --out '" + out + "'");
   ASSERT_EQ(compared.exit_code, 0) << compared.output;
   EXPECT_NE(compared.output.find("--samples 100 cut to 1"), std::string::npos) << compared.output;
   const std::string summary = out + "/summary.json";
@@ -243,16 +243,18 @@ TEST_F(Budget, CompareSaysWhenItCutsSamples) {
 TEST_F(Budget, CompareDefaultsGiveSamplersTheirTrainBudget) {
   const std::string out = path("cmp_default");
   auto compared = run_credence("compare " + flags() + "--methods adam,sgld --chains 2 "
-                               "--bootstrap 0 --out '" + out + "'");
+                               "--extend-seconds 0 --bootstrap 0 --out '" + out + "'");
   ASSERT_EQ(compared.exit_code, 0) << compared.output;
-  EXPECT_NE(compared.output.find("every method: 4000 steps per chain"), std::string::npos)
+  // Samplers keep 400 samples per chain (compare_samples.h) at train's thinning floor of
+  // 10 after train's burn-in floor of 2000 steps: 2000 + 10 x 400 = 6000 steps.
+  EXPECT_NE(compared.output.find("every method: 6000 steps per chain"), std::string::npos)
       << compared.output;
   EXPECT_EQ(compared.output.find("cut to"), std::string::npos) << compared.output;
   const std::string json = path("cmp_default_sgld.json");
   ASSERT_EQ(run_credence("--quiet inspect '" + out + "/sgld.h5' --json '" + json + "'").exit_code, 0);
   EXPECT_EQ(json_value(json, "d['settings']['burn_in']"), "2000");
-  EXPECT_EQ(json_value(json, "d['settings']['thin']"), "20");
-  EXPECT_EQ(json_value(json, "d['chain_details'][0]['kept']"), "100");
+  EXPECT_EQ(json_value(json, "d['settings']['thin']"), "10");
+  EXPECT_EQ(json_value(json, "d['chain_details'][0]['kept']"), "400");
 }
 
 }  // namespace

@@ -75,6 +75,14 @@ TEST_F(Compare, OneRowPerMethodWithEveryMetricAndOneBudget) {
 
 TEST_F(Compare, EveryMethodGetsAVerdictInTheTextAndTheJson) {
   ASSERT_EQ(compare_.exit_code, 0) << compare_.output;
+  // ... and in the report: one verdict block per method, a note or a warning.
+  const std::string html = read_text(path("cmp/report.html"));
+  ASSERT_NE(html.find("Can these runs be trusted?"), std::string::npos);
+  for (const char* method : {"adam", "rsgd", "sgld", "sghmc", "rsghmc"}) {
+    const bool done = html.find(std::string("</strong>") + method + ": done.") != std::string::npos;
+    const bool not_done = html.find(std::string("</strong>") + method + ": NOT done.") != std::string::npos;
+    EXPECT_TRUE(done != not_done) << method << " needs exactly one verdict block in the report";
+  }
   for (const char* method : {"adam", "rsgd", "sgld", "sghmc", "rsghmc"}) {
     EXPECT_NE(compare_.output.find(std::string("\nverdict ") + method + ": "), std::string::npos)
         << method << " has no verdict under the table:\n" << compare_.output;
@@ -116,7 +124,7 @@ TEST_F(Compare, ReportRendersInHeadlessChromium) {
   const std::string log = path("render.txt");
   const int code = run_python("'" + std::string(CREDENCE_SOURCE_DIR) +
                                   "/tests/tools/render_check.py' '" + path("cmp/report.html") +
-                                  "' --expect-sections 9",
+                                  "' --expect-sections 10",
                               log);
   if (code == 77) GTEST_SKIP() << "chromium is not installed (scripts/bootstrap installs it)";
   EXPECT_EQ(code, 0) << read_text(log);
@@ -129,11 +137,87 @@ TEST_F(Compare, ReportCommandWritesOnePage) {
   ASSERT_EQ(report.exit_code, 0) << report.output;
   const std::string html = read_text(path("one.html"));
   EXPECT_NE(html.find("Mixing diagnostics"), std::string::npos);
+  // The run's end-of-run verdict in plain words (report/verdict_section.h).
+  EXPECT_NE(html.find("Can these runs be trusted?"), std::string::npos);
+  EXPECT_NE(html.find("Do the chains predict alike?"), std::string::npos);
   EXPECT_EQ(html.find("https://"), std::string::npos);
   auto bad = run_credence("report '" + path("cmp/rsghmc.h5") + "' '" + path("none.csv") +
                           "' --out '" + path("two.html") + "'");
   EXPECT_EQ(bad.exit_code, 2) << bad.output;
   EXPECT_FALSE(std::filesystem::exists(path("two.html")));
+}
+
+TEST_F(Compare, ChainSeedKeepsTheSplitAndChangesTheChains) {
+  // compare --chain-seed, as train's: the split follows --seed alone, the chains follow
+  // the chain seed, and two comparisons on one split merge into one run. Reference: the
+  // run files read back with h5py (docs/run-file.md: data/test_rows, samples/theta,
+  // settings attributes chain_seed and data_split_seed).
+  auto run = [&](const std::string& out, const std::string& seeds) {
+    return run_credence("--quiet compare '" + data_ + "' --target fault_14d --id unit_id --impute "
+                        "median --methods sgld --epochs 2 --chains 2 --samples 8 --hidden 4 "
+                        "--bootstrap 0 --seed 5 " + seeds + " --out '" + path(out) + "'");
+  };
+  auto first = run("seed_a", "--chain-seed 11");
+  ASSERT_EQ(first.exit_code, 0) << first.output;
+  auto second = run("seed_b", "--chain-seed 12");
+  ASSERT_EQ(second.exit_code, 0) << second.output;
+  auto plain = run("seed_c", "");
+  ASSERT_EQ(plain.exit_code, 0) << plain.output;
+  const std::string script =
+      "import sys, h5py, numpy as np\n"
+      "a, b, c = (h5py.File(p, 'r') for p in sys.argv[1:4])\n"
+      "assert np.array_equal(a['data/test_rows'][:], b['data/test_rows'][:])\n"
+      "assert np.array_equal(a['data/train_rows'][:], c['data/train_rows'][:])\n"
+      "seeds = [int(f['settings'].attrs['chain_seed']) for f in (a, b, c)]\n"
+      "assert seeds == [11, 12, 5], seeds\n"
+      "assert all(int(f['settings'].attrs['data_split_seed']) == 5 for f in (a, b, c))\n"
+      "assert not np.allclose(a['samples/theta'][:4], b['samples/theta'][:4])\n"
+      "print('ok')\n";
+  const std::string file = path("chain_seed.py");
+  std::ofstream(file) << script;
+  const std::string log = path("chain_seed.txt");
+  EXPECT_EQ(run_python("'" + file + "' '" + path("seed_a/sgld.h5") + "' '" + path("seed_b/sgld.h5") +
+                           "' '" + path("seed_c/sgld.h5") + "'",
+                       log),
+            0)
+      << read_text(log);
+  auto merged = run_credence("--quiet merge '" + path("seed_a/sgld.h5") + "' '" +
+                             path("seed_b/sgld.h5") + "' --out '" + path("merged.h5") + "'");
+  EXPECT_EQ(merged.exit_code, 0) << merged.output;
+}
+
+TEST_F(Compare, SamplerNotDoneIsReRunLongerWithinItsLimitAndSaysSo) {
+  // 20 kept samples cannot reach the ESS target (100 per chain), so the verdict is "NOT
+  // done" with an estimate; with the budget sized to the table (no --epochs) compare
+  // re-runs the sampler once, longer, within --extend-seconds, and says what it did.
+  // Reference: the run file's settings read back with h5py (docs/run-file.md).
+  auto compared = run_credence("compare '" + data_ + "' --target fault_14d --id unit_id --impute "
+                               "median --methods sgld --chains 2 --samples 20 --hidden 4 "
+                               "--bootstrap 0 --extend-seconds 6 --out '" + path("extend") + "'");
+  ASSERT_EQ(compared.exit_code, 0) << compared.output;
+  EXPECT_NE(compared.output.find("sgld: re-run from the start at "), std::string::npos)
+      << compared.output;
+  EXPECT_NE(read_text(path("extend/summary.txt")).find("note, sgld: re-run from the start at "),
+            std::string::npos);
+  // The first run's sized budget: burn-in 2000 then 20 samples at thin 100 (4000 steps).
+  // The re-run is at least twice that, burning in for half of it.
+  const std::string script =
+      "import sys, h5py\n"
+      "a = h5py.File(sys.argv[1], 'r')['settings'].attrs\n"
+      "steps = int(a['burn_in']) + int(a['thin']) * int(a['samples'])\n"
+      "print(dict(a))\n"
+      "assert int(a['samples']) == 20 and steps >= 8000 and int(a['burn_in']) >= steps // 2, steps\n";
+  const std::string file = path("extend.py");
+  std::ofstream(file) << script;
+  const std::string log = path("extend.txt");
+  EXPECT_EQ(run_python("'" + file + "' '" + path("extend/sgld.h5") + "'", log), 0) << read_text(log);
+  // A budget in passes is kept as given: the flag is refused beside --epochs.
+  auto refused = run_credence("compare '" + data_ + "' --target fault_14d --id unit_id --impute "
+                              "median --methods sgld --epochs 2 --extend-seconds 4 --out '" +
+                              path("extend_refused") + "'");
+  EXPECT_EQ(refused.exit_code, 2) << refused.output;
+  EXPECT_NE(refused.output.find("--extend-seconds is not read with --epochs"), std::string::npos)
+      << refused.output;
 }
 
 TEST_F(Compare, SweepMarksDivergenceAndKeepsGoing) {

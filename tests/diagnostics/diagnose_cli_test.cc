@@ -6,6 +6,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <cstdlib>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
@@ -125,6 +126,47 @@ TEST_F(Diagnose, RelativisticRunReportsSpeedRatio) {
   ASSERT_EQ(out.exit_code, 0) << out.output;
   EXPECT_NE(out.output.find("mean |v|/c per chain"), std::string::npos) << out.output;
   EXPECT_NE(out.output.find("mass"), std::string::npos) << out.output;
+}
+
+TEST_F(Diagnose, LearnedPriorPrecisionsMatchNumpyOnTheStoredSamples) {
+  // The default prior learns its scale; diagnose summarises each block's precision over
+  // the kept samples. Reference: samples/prior_precision read with h5py and summarised
+  // with numpy.mean and numpy.quantile (docs/run-file.md layout), 1e-9 relative.
+  const std::string json = path("prior.json");
+  auto out = train_and_diagnose("prior.h5", "--method sgld --chains 2 --burn-in 100 --thin 2 --samples 60",
+                                "--json '" + json + "'");
+  ASSERT_EQ(out.exit_code, 0) << out.output;
+  EXPECT_NE(out.output.find("learned prior precisions"), std::string::npos) << out.output;
+  const std::string script = path("prior_check.py");
+  std::ofstream(script)
+      << "import json, sys, h5py, numpy as np\n"
+         "f = h5py.File(sys.argv[1], 'r')\n"
+         "slot = f['checkpoint/slot_%d' % int(f['run/active_slot'][0])]\n"
+         "s = int(slot['committed_samples'][0])\n"
+         "lam = f['samples/prior_precision'][:s]\n"
+         "ours = json.load(open(sys.argv[2]))['prior_precision']\n"
+         "assert len(ours) == lam.shape[1], (len(ours), lam.shape)\n"
+         "for k, block in enumerate(ours):\n"
+         "    assert block['layer'] == k // 2 + 1 and block['block'] == ('biases' if k % 2 else 'weights'), block\n"
+         "    col = lam[:, k]\n"
+         "    assert block['samples'] == len(col), block\n"
+         "    for key, want in (('mean', np.mean(col)), ('q05', np.quantile(col, 0.05)),\n"
+         "                      ('q95', np.quantile(col, 0.95)), ('sd_at_mean', 1 / np.sqrt(np.mean(col)))):\n"
+         "        assert abs(block[key] - want) <= 1e-9 * abs(want), (k, key, block[key], want)\n"
+         "    assert block['q05'] < block['q95'], block\n"
+         "print('ok', len(ours))\n";
+  const std::string log = path("prior_check.txt");
+  const int status = std::system((std::string(CREDENCE_PYTHON) + " '" + script + "' '" + path("prior.h5") +
+                                  "' '" + json + "' > '" + log + "' 2>&1").c_str());
+  EXPECT_EQ(status, 0) << read_text(log) << "\n" << read_text(json);
+
+  // A fixed prior has nothing learned: JSON null and one plain line.
+  const std::string fixed_json = path("fixed.json");
+  auto fixed = train_and_diagnose("fixed.h5", "--method sgld --chains 2 --burn-in 50 --samples 20 --prior-scale 1",
+                                  "--json '" + fixed_json + "'");
+  ASSERT_EQ(fixed.exit_code, 0) << fixed.output;
+  EXPECT_NE(fixed.output.find("learned prior: none"), std::string::npos) << fixed.output;
+  EXPECT_NE(read_text(fixed_json).find("\"prior_precision\": null"), std::string::npos);
 }
 
 TEST_F(Diagnose, BadInputExitsTwoAndWritesNothing) {

@@ -1,0 +1,56 @@
+// compare's second chance for a sampler whose end-of-run verdict says it is not done:
+// one re-run from the start with a longer budget, sized from the verdict's own estimate
+// and bounded in steps and in wall time, so that a table where longer chains help gets
+// them and every other table pays at most the stated limits.
+//
+// Why a re-run and not a continuation: the first run's burn-in and thinning were sized
+// for its length; a longer run burns in for half its steps (the drift check compares the
+// halves of what follows) and thins the rest to the same number of kept samples.
+// Measured on the demo table (data/demo.csv, 4 chains, 400 kept samples per chain): at
+// 4,000 steps per chain the worst probe-probability R-hat was 2.9 (sgld), 1.7 (sghmc) and
+// 1.4 (rsghmc); at 100,000 steps 1.41, 1.06 and 1.04, the median probe row's 1.11, 1.014
+// and 1.007; rsghmc at 300,000 steps 1.011 (median 1.003, probe log-likelihood 1.013).
+#pragma once
+
+#include <cstdint>
+#include <optional>
+#include <string>
+
+#include "credence/run_verdict.h"
+
+namespace credence::cli {
+
+/// Longest re-run, in steps per chain: room for the demo's estimate (about 360,000) and
+/// for rsghmc's measured 300,000 (about 50 s per sampler for the demo's network, 4
+/// chains on two cores at ~30,000 steps/s; a step's cost depends on the network and the
+/// batch, not on the table's rows, and --extend-seconds bounds it on slower machines).
+inline constexpr std::int64_t kExtendMaxSteps = 400000;
+/// compare's default bound on one re-run's estimated wall time (--extend-seconds).
+inline constexpr double kExtendSeconds = 60;
+/// Without an estimate from the verdict, a re-run is this many times the first run.
+inline constexpr std::int64_t kExtendFactorWithoutEstimate = 8;
+
+struct ExtendPlan {
+  std::int64_t steps = 0;  // per chain; 0: no re-run
+  std::string why;         // what was decided and why, for the log and the summary
+};
+
+/// What to do after a sampler's first run of `steps_run` steps per chain that took
+/// `seconds_run` wall seconds: nothing when the verdict is done or only failed checks
+/// that more steps cannot fix (constant, pinned); otherwise a re-run of
+/// min(wanted, kExtendMaxSteps, steps the time bound allows) steps, where wanted is
+/// steps_run + 2 x the verdict's more_steps_per_chain (half of the re-run burns in), or
+/// kExtendFactorWithoutEstimate x steps_run without an estimate. No re-run when that is
+/// under twice the first run (`why` then says so). `max_seconds` <= 0: never.
+ExtendPlan plan_extension(const RunVerdict& verdict, std::int64_t steps_run, double seconds_run,
+                          double max_seconds);
+
+/// Burn-in and thinning of a re-run of `steps` per chain keeping `samples`: half burns in
+/// (more when the thinning rounds down), the rest is thinned to `samples`.
+struct ExtendShare {
+  std::int64_t burn_in = 0;
+  std::int64_t thin = 1;
+};
+ExtendShare extend_share(std::int64_t steps, std::int64_t samples);
+
+}  // namespace credence::cli
