@@ -127,7 +127,9 @@ struct RelativisticSettings {
   /// every coordinate of a large network crawl). Not available for rhmc.
   bool joint = false;
   /// Friction D; 0 means "derive" D_i = alpha m_i / eps, which matches SGHMC's
-  /// alpha in the Newtonian limit (METHODS.md 5.4). Default 0.
+  /// alpha in the Newtonian limit (METHODS.md 5.4). A derived D follows m while mass
+  /// adaptation changes it, so eps D_i / m_i stays alpha; a given D stays fixed. The
+  /// injected noise 2 D T uses the same D either way. Default 0.
   double friction = 0.0;
   /// alpha used to derive D. Default 0.1 (as SghmcSettings::alpha).
   double alpha = 0.1;

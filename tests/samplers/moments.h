@@ -60,4 +60,12 @@ inline double mean_square(const Eigen::VectorXf& x) {
   return x.cast<double>().squaredNorm() / static_cast<double>(x.size());
 }
 
+/// Mean of p_i^2 over the momentum "p" a momentum sampler stores in its state.
+inline double mean_square_momentum(const Sampler& sampler) {
+  const auto p = sampler.save_state().floats.at("p");
+  double sum = 0;
+  for (float x : p) sum += static_cast<double>(x) * x;
+  return sum / static_cast<double>(p.size());
+}
+
 }  // namespace credence::testing

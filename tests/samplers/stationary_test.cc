@@ -137,10 +137,7 @@ TEST(RsghmcStationary, VarianceWithinThreePercentOfTheTarget) {
     auto theta2 = testing::stationary_series(
         **sampler, potential, kChains, 1200, 2400,
         [&](const Eigen::VectorXf& theta, const Sampler& sm) {
-          const auto p = sm.save_state().floats.at("p");
-          double sum = 0;
-          for (float x : p) sum += static_cast<double>(x) * x;
-          p2.push_back(sum / static_cast<double>(p.size()));
+          p2.push_back(testing::mean_square_momentum(sm));
           return testing::mean_square(theta);
         },
         {}, 4);

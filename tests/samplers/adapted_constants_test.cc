@@ -1,0 +1,90 @@
+// Constants that burn-in adapts, checked against the formulas they must keep
+// (docs/methods.md sections 3, 5.3, 5.4 and 6): rsghmc's friction under mass
+// adaptation, pSGLD's Gamma term under the bias-corrected average, and rhmc's move
+// bound under dual averaging.
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <cmath>
+#include <vector>
+
+#include "credence/samplers.h"
+#include "samplers/hamiltonian.h"
+#include "samplers/moments.h"
+#include "samplers/relativistic.h"
+#include "testing/seed.h"
+#include "testing/targets.h"
+
+namespace credence {
+namespace {
+
+using testing::Estimate;
+using testing::IndependentGaussian;
+
+TEST(AdaptedConstants, RsghmcFrictionFollowsTheAdaptedMass) {
+  // Newtonian match of "Relativistic Monte Carlo" (AISTATS 2017) with SGHMC (ICML 2014),
+  // docs/methods.md 5.4: alpha = eps D / m, so the derived D = alpha m / eps gives a
+  // friction factor of alpha per step. Mass adaptation (5.6) moves m from 0.05 (E|v|/c
+  // ~ 0.96 at c = 1) to about the u* = 1.8285 of the 5.2 table; D must move with it.
+  // The moments are the analytic ones of exp(-(U + K)/T) on U = theta^2/2, T = 1:
+  // Var(theta) = 1 and Var(p) = m T K_2(u)/K_1(u), u = m c^2 / T (docs/methods.md 5.2,
+  // Bessel functions from the C++ standard library), tolerances of 5.8 (3%, 15%).
+  constexpr Eigen::Index kChains = 20000;
+  constexpr double kEps = 0.05, kAlpha = 0.1;
+  SamplerSettings s;
+  s.method = Method::kRsghmc;
+  s.step_size = kEps;
+  s.relativistic.speed = 1;
+  s.relativistic.mass = 0.05;
+  s.relativistic.alpha = kAlpha;  // friction derived: D = alpha m / eps
+  s.relativistic.adapt_window = 50;
+  IndependentGaussian potential(Eigen::VectorXf::Ones(kChains));
+  auto sampler = Sampler::create(s, kChains, 1, testing::test_seed(91));
+  ASSERT_TRUE(sampler.ok());
+  std::vector<double> p2;
+  auto theta2 = testing::stationary_series(
+      **sampler, potential, kChains, 3000, 2400,
+      [&](const Eigen::VectorXf& theta, const Sampler& sm) {
+        p2.push_back(testing::mean_square_momentum(sm));
+        return testing::mean_square(theta);
+      },
+      {}, 4);
+  const SamplerState state = (*sampler)->save_state();
+  const double mass = state.floats.at("mass")[0];
+  const double friction = state.floats.at("friction")[0];
+  const double factor = kEps * friction / mass;
+  const double u = mass;  // m c^2 / T with c = T = 1
+  const double var_p_target = mass * std::cyl_bessel_k(2.0, u) / std::cyl_bessel_k(1.0, u);
+  const Estimate var_theta = testing::batch_means(theta2);
+  const Estimate var_p = testing::batch_means(p2);
+  std::printf(
+      "adapted m %.4f, D %.4f, eps D / m %.5f (alpha %.2f); Var(theta) %.4f, Var(p) %.4f "
+      "(target %.4f)\n",
+      mass, friction, factor, kAlpha, var_theta.value, var_p.value, var_p_target);
+  EXPECT_GT(mass, 0.5) << "the mass did not adapt, so the test checks nothing";
+  EXPECT_NEAR(factor / kAlpha, 1.0, 1e-5);
+  EXPECT_NEAR(var_theta.value, 1.0, 0.03);
+  EXPECT_NEAR(var_p.value / var_p_target, 1.0, 0.15);
+}
+
+TEST(AdaptedConstants, RsghmcGivenFrictionStaysAsGiven) {
+  // A friction the user sets is a setting, not a derived value: adaptation leaves it.
+  SamplerSettings s;
+  s.method = Method::kRsghmc;
+  s.step_size = 0.05;
+  s.relativistic.speed = 1;
+  s.relativistic.mass = 0.05;
+  s.relativistic.friction = 1;
+  s.relativistic.adapt_window = 50;
+  IndependentGaussian potential(Eigen::VectorXf::Ones(1000));
+  auto sampler = Sampler::create(s, 1000, 1, testing::test_seed(92));
+  ASSERT_TRUE(sampler.ok());
+  testing::stationary_series(**sampler, potential, 1000, 2000, 1,
+                             [](const Eigen::VectorXf&, const Sampler&) { return 0.0; });
+  const SamplerState state = (*sampler)->save_state();
+  EXPECT_GT(state.floats.at("mass")[0], 0.5f);
+  EXPECT_EQ(state.floats.at("friction")[0], 1.0f);
+}
+
+}  // namespace
+}  // namespace credence
