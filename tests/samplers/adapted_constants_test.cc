@@ -86,5 +86,81 @@ TEST(AdaptedConstants, RsghmcGivenFrictionStaysAsGiven) {
   EXPECT_EQ(state.floats.at("friction")[0], 1.0f);
 }
 
+// pSGLD's preconditioner at step t as a function of the newest theta, in double, as
+// the AAAI 2016 paper defines it with the bias-corrected average of docs/methods.md 3:
+// G_t(x) = 1 / (lambda + sqrt((rho V_{t-1} + (1 - rho) gbar(x)^2) / (1 - rho^t))),
+// here with gbar(x) = x (U = x^2 / 2, N = 1).
+double preconditioner_at(double x, double v_previous, double rho, double lambda, int t) {
+  const double v = rho * v_previous + (1 - rho) * x * x;
+  return 1 / (lambda + std::sqrt(v / (1 - std::pow(rho, t))));
+}
+
+TEST(AdaptedConstants, PsgldGammaIsTheDerivativeOfTheBiasCorrectedPreconditioner) {
+  // Gamma_i = d G_ii / d theta_i (AAAI 2016; docs/methods.md 3) at t = 2, where
+  // 1 / (1 - rho^2) = 50.25 at rho = 0.99, against a central finite difference of G_2.
+  // On U = theta^2/2 the secant Hessian of the code is exact (1), so the two agree.
+  constexpr double kRho = 0.99, kLambda = 1e-5;
+  SamplerSettings s;
+  s.method = Method::kPsgld;
+  s.step_size = 0.02;
+  s.psgld.rho = kRho;
+  s.psgld.lambda = kLambda;
+  s.psgld.gamma_correction = true;
+  IndependentGaussian potential(Eigen::VectorXf::Ones(1));
+  auto sampler = Sampler::create(s, 1, potential.rows(), testing::test_seed(93));
+  ASSERT_TRUE(sampler.ok());
+  Eigen::VectorXf theta = Eigen::VectorXf::Constant(1, 1.5f);
+  std::vector<double> at;  // theta at which step t's gradient is taken
+  for (int t = 0; t < 2; ++t) {
+    at.push_back(theta[0]);
+    StepContext context;
+    context.step = t;
+    context.step_size = s.step_size;
+    context.burn_in = true;
+    StepReport report;
+    ASSERT_TRUE((*sampler)->step(theta, potential, context, report).ok());
+  }
+  const double v1 = (1 - kRho) * at[0] * at[0];
+  const double h = 1e-6 * std::max(1.0, std::abs(at[1]));
+  const double expected = (preconditioner_at(at[1] + h, v1, kRho, kLambda, 2) -
+                           preconditioner_at(at[1] - h, v1, kRho, kLambda, 2)) /
+                          (2 * h);
+  const double gamma = (*sampler)->save_state().floats.at("gamma")[0];
+  std::printf("theta_1 %.6f: Gamma_2 %.6g, finite difference %.6g\n", at[1], gamma, expected);
+  EXPECT_NEAR(gamma / expected, 1.0, 1e-4);
+}
+
+TEST(AdaptedConstants, PsgldGammaIsZeroWhereThePreconditionerIsCapped) {
+  // Where the cap G_i <= 1e3 median(G) binds (docs/methods.md 3), G_i is the cap, which
+  // does not move with theta_i: d G_ii / d theta_i = 0 (up to the median's O(1/P) share).
+  // Coordinate 2 has a nearly flat potential (variance 1e12): uncapped G would be
+  // 1 / (lambda + |gbar|) ~ 1e5, so it is capped; coordinates 0 and 1 are not.
+  SamplerSettings s;
+  s.method = Method::kPsgld;
+  s.step_size = 0.02;
+  s.psgld.gamma_correction = true;
+  IndependentGaussian potential(Eigen::Vector3f(1.0f, 1.0f, 1e12f));
+  auto sampler = Sampler::create(s, 3, potential.rows(), testing::test_seed(95));
+  ASSERT_TRUE(sampler.ok());
+  Eigen::VectorXf theta = Eigen::Vector3f(1.5f, -0.8f, 1.0f);
+  for (int t = 0; t < 2; ++t) {
+    StepContext context;
+    context.step = t;
+    context.step_size = s.step_size;
+    context.burn_in = true;
+    StepReport report;
+    ASSERT_TRUE((*sampler)->step(theta, potential, context, report).ok());
+  }
+  const SamplerState state = (*sampler)->save_state();
+  const auto& g = state.floats.at("preconditioner");
+  const auto& gamma = state.floats.at("gamma");
+  std::printf("G (%.4g, %.4g, %.4g), Gamma (%.4g, %.4g, %.4g)\n", g[0], g[1], g[2], gamma[0],
+              gamma[1], gamma[2]);
+  ASSERT_LT(g[2], 2e3f) << "coordinate 2 is not capped, so the test checks nothing";
+  EXPECT_NE(gamma[0], 0.0f);
+  EXPECT_NE(gamma[1], 0.0f);
+  EXPECT_EQ(gamma[2], 0.0f);
+}
+
 }  // namespace
 }  // namespace credence
