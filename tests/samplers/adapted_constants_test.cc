@@ -185,8 +185,8 @@ Trajectory rhmc_trajectory(double eps, const Eigen::VectorXf& k) {
   rule.momentum() = static_cast<float>(eps) * k;
   Trajectory out;
   out.theta = Eigen::Vector3f(0.5f, -1.0f, 2.0f);
-  EXPECT_TRUE(rule.leapfrog(out.theta, potential, static_cast<float>(eps), 40, out.energy_change)
-                  .ok());
+  EXPECT_TRUE(
+      rule.leapfrog(out.theta, potential, static_cast<float>(eps), 40, out.energy_change).ok());
   return out;
 }
 
