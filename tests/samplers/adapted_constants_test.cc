@@ -41,22 +41,16 @@ TEST(AdaptedConstants, RsghmcFrictionFollowsTheAdaptedMass) {
   IndependentGaussian potential(Eigen::VectorXf::Ones(kChains));
   auto sampler = Sampler::create(s, kChains, 1, testing::test_seed(91));
   ASSERT_TRUE(sampler.ok());
-  std::vector<double> p2;
-  auto theta2 = testing::stationary_series(
-      **sampler, potential, kChains, 3000, 2400,
-      [&](const Eigen::VectorXf& theta, const Sampler& sm) {
-        p2.push_back(testing::mean_square_momentum(sm));
-        return testing::mean_square(theta);
-      },
-      {}, 4);
+  const auto series =
+      testing::position_momentum_series(**sampler, potential, kChains, 3000, 2400, 4);
   const SamplerState state = (*sampler)->save_state();
   const double mass = state.floats.at("mass")[0];
   const double friction = state.floats.at("friction")[0];
   const double factor = kEps * friction / mass;
   const double u = mass;  // m c^2 / T with c = T = 1
   const double var_p_target = mass * std::cyl_bessel_k(2.0, u) / std::cyl_bessel_k(1.0, u);
-  const Estimate var_theta = testing::batch_means(theta2);
-  const Estimate var_p = testing::batch_means(p2);
+  const Estimate var_theta = testing::batch_means(series.theta2);
+  const Estimate var_p = testing::batch_means(series.p2);
   std::printf(
       "adapted m %.4f, D %.4f, eps D / m %.5f (alpha %.2f); Var(theta) %.4f, Var(p) %.4f "
       "(target %.4f)\n",
@@ -86,6 +80,23 @@ TEST(AdaptedConstants, RsghmcGivenFrictionStaysAsGiven) {
   EXPECT_EQ(state.floats.at("friction")[0], 1.0f);
 }
 
+// Runs `steps` burn-in steps of the sampler's own step size from theta; returns
+// theta[0] before each step, where that step's gradient is taken.
+std::vector<double> burn_in_steps(Sampler& sampler, PotentialFn& potential, Eigen::VectorXf& theta,
+                                  int steps) {
+  std::vector<double> at;
+  for (int t = 0; t < steps; ++t) {
+    at.push_back(theta[0]);
+    StepContext context;
+    context.step = t;
+    context.step_size = sampler.base_step_size();
+    context.burn_in = true;
+    StepReport report;
+    EXPECT_TRUE(sampler.step(theta, potential, context, report).ok());
+  }
+  return at;
+}
+
 // pSGLD's preconditioner at step t as a function of the newest theta, in double, as
 // the AAAI 2016 paper defines it with the bias-corrected average of docs/methods.md 3:
 // G_t(x) = 1 / (lambda + sqrt((rho V_{t-1} + (1 - rho) gbar(x)^2) / (1 - rho^t))),
@@ -110,16 +121,7 @@ TEST(AdaptedConstants, PsgldGammaIsTheDerivativeOfTheBiasCorrectedPreconditioner
   auto sampler = Sampler::create(s, 1, potential.rows(), testing::test_seed(93));
   ASSERT_TRUE(sampler.ok());
   Eigen::VectorXf theta = Eigen::VectorXf::Constant(1, 1.5f);
-  std::vector<double> at;  // theta at which step t's gradient is taken
-  for (int t = 0; t < 2; ++t) {
-    at.push_back(theta[0]);
-    StepContext context;
-    context.step = t;
-    context.step_size = s.step_size;
-    context.burn_in = true;
-    StepReport report;
-    ASSERT_TRUE((*sampler)->step(theta, potential, context, report).ok());
-  }
+  const std::vector<double> at = burn_in_steps(**sampler, potential, theta, 2);
   const double v1 = (1 - kRho) * at[0] * at[0];
   const double h = 1e-6 * std::max(1.0, std::abs(at[1]));
   const double expected = (preconditioner_at(at[1] + h, v1, kRho, kLambda, 2) -
@@ -143,14 +145,7 @@ TEST(AdaptedConstants, PsgldGammaIsZeroWhereThePreconditionerIsCapped) {
   auto sampler = Sampler::create(s, 3, potential.rows(), testing::test_seed(95));
   ASSERT_TRUE(sampler.ok());
   Eigen::VectorXf theta = Eigen::Vector3f(1.5f, -0.8f, 1.0f);
-  for (int t = 0; t < 2; ++t) {
-    StepContext context;
-    context.step = t;
-    context.step_size = s.step_size;
-    context.burn_in = true;
-    StepReport report;
-    ASSERT_TRUE((*sampler)->step(theta, potential, context, report).ok());
-  }
+  burn_in_steps(**sampler, potential, theta, 2);
   const SamplerState state = (*sampler)->save_state();
   const auto& g = state.floats.at("preconditioner");
   const auto& gamma = state.floats.at("gamma");

@@ -68,4 +68,23 @@ inline double mean_square_momentum(const Sampler& sampler) {
   return sum / static_cast<double>(p.size());
 }
 
+/// A momentum sampler's series of mean theta_i^2 and mean p_i^2, from theta = 0,
+/// recorded every `every` steps after `burn_in` (see stationary_series).
+struct PositionMomentumSeries {
+  std::vector<double> theta2, p2;
+};
+inline PositionMomentumSeries position_momentum_series(Sampler& sampler, PotentialFn& potential,
+                                                       Eigen::Index parameters, int burn_in,
+                                                       int steps, int every) {
+  PositionMomentumSeries out;
+  out.theta2 = stationary_series(
+      sampler, potential, parameters, burn_in, steps,
+      [&](const Eigen::VectorXf& theta, const Sampler& s) {
+        out.p2.push_back(mean_square_momentum(s));
+        return mean_square(theta);
+      },
+      {}, every);
+  return out;
+}
+
 }  // namespace credence::testing
