@@ -110,10 +110,13 @@ struct RelativisticSlice {
 /// rsghmc's, rsgd's and rhmc's relativistic kinetic energy (METHODS.md section 5).
 struct RelativisticSettings {
   /// Speed of light c per coordinate: default c = max_move / eps, so no coordinate
-  /// moves more than max_move per step. 0 means "derive".
+  /// moves more than max_move per step at the starting step eps. 0 means "derive".
+  /// rhmc keeps c while dual averaging and jitter change eps: its bound per leapfrog
+  /// step is eps c, which is what the adaptation tunes (see src/samplers/rhmc.cc).
   double speed = 0.0;
   /// Largest move of one coordinate per step, used to derive c. Default 1e-2
-  /// (METHODS.md 5.6: 1e-2 times a unit prior scale of standardised data).
+  /// (METHODS.md 5.6: 1e-2 times a unit prior scale of standardised data). For rhmc
+  /// with step adaptation it is the bound at the starting step only.
   double max_move = 1e-2;
   /// Rest mass m; 0 means "derive": m = u* T / c^2 for the target speed ratio
   /// below (u* from METHODS.md 5.2's table), or m = 1 at T = 0.
@@ -127,7 +130,9 @@ struct RelativisticSettings {
   /// every coordinate of a large network crawl). Not available for rhmc.
   bool joint = false;
   /// Friction D; 0 means "derive" D_i = alpha m_i / eps, which matches SGHMC's
-  /// alpha in the Newtonian limit (METHODS.md 5.4). Default 0.
+  /// alpha in the Newtonian limit (METHODS.md 5.4). A derived D follows m while mass
+  /// adaptation changes it, so eps D_i / m_i stays alpha; a given D stays fixed. The
+  /// injected noise 2 D T uses the same D either way. Default 0.
   double friction = 0.0;
   /// alpha used to derive D. Default 0.1 (as SghmcSettings::alpha).
   double alpha = 0.1;

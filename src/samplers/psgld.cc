@@ -5,12 +5,14 @@
 //   V_t = rho V_{t-1} + (1 - rho) gbar_t^2,   gbar = g / N,   Vhat = V_t / (1 - rho^t)
 //   G_t = 1 / (lambda + sqrt(Vhat_t))
 //   theta_{t+1} = theta_t - (eps/2) (G_t g_t - T Gamma_t) + sqrt(eps T G_t) xi
-// Gamma is dropped by default (the paper's choice); with it switched on,
-//   Gamma_i ~ -(1 - rho) gbar_i Hbar_ii / (sqrt(Vhat_i) (lambda + sqrt(Vhat_i))^2)
+// Gamma is dropped by default (the paper's choice); with it switched on, G_i is
+// differentiated through the bias-corrected average (docs/methods.md section 3),
+//   Gamma_i ~ -(1 - rho) / (1 - rho^t) gbar_i Hbar_ii / (sqrt(Vhat_i) (lambda + sqrt(Vhat_i))^2)
 // with Hbar_ii a secant estimate from the last two steps. After burn-in G is frozen
 // by default, which makes Gamma exactly 0.
 #include <algorithm>
 #include <cmath>
+#include <limits>
 
 #include "samplers/rule.h"
 
@@ -59,12 +61,15 @@ class PsgldRule final : public Rule {
           const float gbar = grad_[i] * inv_n;
           const float d_theta = theta[i] - previous_theta_[i];
           const float root = std::sqrt(v_[i] / correction);
-          // A secant through nearly equal points says nothing about the curvature.
-          const bool usable = std::abs(d_theta) > 1e-12f && root > 0;
+          // A secant through nearly equal points says nothing about the curvature; a
+          // capped G_i is the cap, which does not move with theta_i.
+          const bool usable = std::abs(d_theta) > 1e-12f && root > 0 && g_precond_[i] < cap_;
           const float hessian = usable ? (gbar - previous_gbar_[i]) / d_theta : 0.0f;
-          gamma_[i] =
-              usable ? -(1.0f - rho) * gbar * hessian / (root * (lambda + root) * (lambda + root))
-                     : 0.0f;
+          // d Vhat / d theta = (1 - rho) 2 gbar Hbar / (1 - rho^t): the bias correction
+          // divides the newest increment too (50x at t = 2, rho = 0.99).
+          gamma_[i] = usable ? -((1.0f - rho) / correction) * gbar * hessian /
+                                   (root * (lambda + root) * (lambda + root))
+                             : 0.0f;
         }
         previous_theta_ = theta;
         previous_gbar_ = grad_ * inv_n;
@@ -141,6 +146,7 @@ class PsgldRule final : public Rule {
     const auto middle = scratch_.data() + scratch_.size() / 2;
     std::nth_element(scratch_.data(), middle, scratch_.data() + scratch_.size());
     const auto cap = static_cast<float>(ratio * static_cast<double>(*middle));
+    cap_ = cap;
     for (Eigen::Index i = 0; i < g_precond_.size(); ++i) {
       g_precond_[i] = std::min(g_precond_[i], cap);
     }
@@ -154,6 +160,8 @@ class PsgldRule final : public Rule {
   Eigen::VectorXf previous_theta_;  // (P) for the secant Hessian estimate
   Eigen::VectorXf previous_gbar_;   // (P)
   std::uint64_t adapted_ = 0;       // t in the bias correction 1 - rho^t
+  // This step's cap on G (infinite without one); recomputed before Gamma reads it.
+  float cap_ = std::numeric_limits<float>::infinity();
 };
 
 }  // namespace

@@ -4,6 +4,20 @@
 //   K(p) = sum_i m_i c_i^2 sqrt(p_i^2 / (m_i c_i)^2 + 1),  v_i = c_i p_i / hypot(p_i, m_i c_i)
 // Momentum refresh: closed-form slice sampling per coordinate (METHODS.md 5.2), a few
 // sweeps from the current p (30 at the first iteration, which starts from p = 0).
+//
+// c and m are derived once, from the starting step eps_0 (c = max_move / eps_0,
+// m = u* T / c^2), and are deliberately not re-derived when dual averaging changes eps.
+// Writing p = eps k, a leapfrog step is k -= grad U / 2, theta += S k / sqrt(k^2 + a^2),
+// and K / T = S sqrt(k^2 + a^2) / T, with S = eps c and a = m c / eps: the dynamics
+// depend on eps only through the per-step bound S = eps c (at fixed c and m, dual
+// averaging keeps u = m c^2 / T, the target speed ratio, and scales S by eps / eps_0).
+// Re-deriving c and m from each adapted eps would make S = max_move and a fixed, so
+// every eps would give the same trajectory and the same acceptance: dual averaging would
+// drift without bound and tune nothing. Re-deriving them once at the freeze would undo
+// the adaptation (or, keeping m, change the speed ratio it was tuned at). So for rhmc,
+// max_move is the bound at eps_0, and the adapted bound is eps c (times the jitter,
+// up to 1 + HmcSettings::jitter). The Metropolis test keeps the target exact for any c.
+// Tests: tests/samplers/adapted_constants_test.cc.
 #include <cmath>
 
 #include "samplers/hamiltonian.h"

@@ -28,11 +28,10 @@ class RsghmcRule final : public Rule {
         vhat_(Eigen::VectorXf::Zero(s.relativistic.correct_gradient_noise ? p : 0)),
         window_sum_(static_cast<std::size_t>(layout_.groups), 0.0),
         window_count_(static_cast<std::size_t>(layout_.groups), 0.0) {
-    const RelativisticSettings& rs = s.relativistic;
-    if (rs.friction > 0) {
-      friction_.setConstant(static_cast<float>(rs.friction));
+    if (s.relativistic.friction > 0) {
+      friction_.setConstant(static_cast<float>(s.relativistic.friction));
     } else {
-      friction_ = layout_.mass * static_cast<float>(rs.alpha / base_step_);
+      derive_friction(0, p);
     }
     [[maybe_unused]] const Status refreshed = refresh_constants();  // uniform by construction
   }
@@ -166,6 +165,16 @@ class RsghmcRule final : public Rule {
     return Status::ok_status();
   }
 
+  // D = alpha m / eps on [offset, offset + length) under the current masses, so the
+  // Newtonian friction factor eps D / m is alpha (docs/methods.md 5.4). The noise reads
+  // the same D (2 D T), so the target exp(-(U + K)/T) holds for any D; only the damping
+  // per step would drift from alpha if D stayed at the starting mass.
+  void derive_friction(std::int64_t offset, std::int64_t length) {
+    friction_.segment(offset, length) =
+        layout_.mass.segment(offset, length) *
+        static_cast<float>(settings_.relativistic.alpha / base_step_);
+  }
+
   // Joint form: v = scale p with scale = c / sqrt(|p|^2 + m^2 c^2).
   double joint_scale() const {
     const double mc = static_cast<double>(layout_.mass[0]) * layout_.speed[0];
@@ -285,7 +294,8 @@ class RsghmcRule final : public Rule {
     return abs_sum * joint_scale_ / static_cast<double>(layout_.speed[0]);
   }
 
-  // METHODS.md 5.6: E|v|/c falls as m grows, so a fast slice gets heavier.
+  // METHODS.md 5.6: E|v|/c falls as m grows, so a fast slice gets heavier. A derived
+  // friction follows the new mass; a friction the user gave stays as given.
   void adapt_masses() {
     const RelativisticSettings& rs = settings_.relativistic;
     for (const CoordinateRange& range : layout_.ranges) {
@@ -296,6 +306,8 @@ class RsghmcRule final : public Rule {
       if (ratio > rs.target_speed_ratio + 0.1) factor = 1.1f;
       if (ratio < rs.target_speed_ratio - 0.1) factor = 1.0f / 1.1f;
       layout_.mass.segment(range.offset, range.length) *= factor;
+      // Also when m did not move: a run file from before D followed m catches up here.
+      if (rs.friction <= 0) derive_friction(range.offset, range.length);
     }
     std::fill(window_sum_.begin(), window_sum_.end(), 0.0);
     std::fill(window_count_.begin(), window_count_.end(), 0.0);

@@ -60,4 +60,31 @@ inline double mean_square(const Eigen::VectorXf& x) {
   return x.cast<double>().squaredNorm() / static_cast<double>(x.size());
 }
 
+/// Mean of p_i^2 over the momentum "p" a momentum sampler stores in its state.
+inline double mean_square_momentum(const Sampler& sampler) {
+  const auto p = sampler.save_state().floats.at("p");
+  double sum = 0;
+  for (float x : p) sum += static_cast<double>(x) * x;
+  return sum / static_cast<double>(p.size());
+}
+
+/// A momentum sampler's series of mean theta_i^2 and mean p_i^2, from theta = 0,
+/// recorded every `every` steps after `burn_in` (see stationary_series).
+struct PositionMomentumSeries {
+  std::vector<double> theta2, p2;
+};
+inline PositionMomentumSeries position_momentum_series(Sampler& sampler, PotentialFn& potential,
+                                                       Eigen::Index parameters, int burn_in,
+                                                       int steps, int every) {
+  PositionMomentumSeries out;
+  out.theta2 = stationary_series(
+      sampler, potential, parameters, burn_in, steps,
+      [&](const Eigen::VectorXf& theta, const Sampler& s) {
+        out.p2.push_back(mean_square_momentum(s));
+        return mean_square(theta);
+      },
+      {}, every);
+  return out;
+}
+
 }  // namespace credence::testing

@@ -133,19 +133,10 @@ TEST(RsghmcStationary, VarianceWithinThreePercentOfTheTarget) {
     IndependentGaussian potential(Eigen::VectorXf::Ones(kChains));
     auto sampler = Sampler::create(s, kChains, 1, testing::test_seed(36));
     ASSERT_TRUE(sampler.ok());
-    std::vector<double> p2;
-    auto theta2 = testing::stationary_series(
-        **sampler, potential, kChains, 1200, 2400,
-        [&](const Eigen::VectorXf& theta, const Sampler& sm) {
-          const auto p = sm.save_state().floats.at("p");
-          double sum = 0;
-          for (float x : p) sum += static_cast<double>(x) * x;
-          p2.push_back(sum / static_cast<double>(p.size()));
-          return testing::mean_square(theta);
-        },
-        {}, 4);
-    Estimate var_theta = testing::batch_means(theta2);
-    Estimate var_p = testing::batch_means(p2);
+    const auto series =
+        testing::position_momentum_series(**sampler, potential, kChains, 1200, 2400, 4);
+    Estimate var_theta = testing::batch_means(series.theta2);
+    Estimate var_p = testing::batch_means(series.p2);
     std::printf(
         "rsghmc m=%g c=%g T=%g D=%g: Var(theta) %.4f (target %g), Var(p) %.4f (target %g)\n", k.m,
         k.c, k.t, k.d, var_theta.value, k.t, var_p.value, k.var_p);
