@@ -129,7 +129,7 @@ TEST(Schema, UnknownOverrideNameIsRefused) {
   SchemaOptions options = target("y");
   options.drop = {"agee"};
   auto s = schema_of(base_table(), options);
-  expect_invalid(s.status(), {"--drop names column 'agee'", "available columns: 'age'"});
+  expect_invalid(s.status(), {"--drop names column 'agee'", "did you mean 'age'?"});
 }
 
 TEST(Schema, NumericClassNamesSortNumerically) {
