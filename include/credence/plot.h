@@ -38,7 +38,7 @@ inline constexpr double kAutoRange = std::numeric_limits<double>::quiet_NaN();
 
 /// Outer size of a chart in CSS pixels (the SVG scales with its container in a page).
 struct PlotFrame {
-  int width = 560;   // total width including margins; at least 200
+  int width = 500;   // total width with margins, at least 200; two fit side by side in a page
   int height = 380;  // total height including title, legend and axis labels; at least 160
 };
 
@@ -104,7 +104,7 @@ struct ReliabilityChart {
   std::string x_label = "confidence";
   std::string y_label = "accuracy";
   std::vector<ReliabilitySeries> series;
-  PlotFrame frame{560, 470};
+  PlotFrame frame{500, 470};
 };
 
 /// One named set of values for a histogram (NaN and infinities are left out).

@@ -216,7 +216,12 @@ std::string compose_panels(const std::vector<std::string>& panels,
     const int column = static_cast<int>(i) % columns;
     const int row = static_cast<int>(i) / columns;
     std::string panel = panels[i];
-    // Each panel is a nested <svg> placed by its x and y.
+    // Each panel is a nested <svg> placed by its x and y; it inherits the namespace, so
+    // the page that inlines the whole keeps a single URL-like attribute to drop.
+    constexpr std::string_view kNamespace = " xmlns=\"http://www.w3.org/2000/svg\"";
+    if (const std::size_t at = panel.find(kNamespace); at < panel.find('>')) {
+      panel.erase(at, kNamespace.size());
+    }
     if (panel.rfind("<svg ", 0) == 0) {
       panel.insert(5, fmt::format("class=\"panel\" data-panel=\"{}\" x=\"{}\" y=\"{}\" ", i,
                                   kGap + column * (cell_width + kGap),

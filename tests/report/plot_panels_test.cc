@@ -100,6 +100,9 @@ TEST(Figures, RobustLimitsFollowNumpysLinearQuantiles) {
 TEST(Figures, TracesGetOnePanelPerChainBurnInAndRobustLimits) {
   const std::string svg = render_trace_chart(spiky_traces(4));
   EXPECT_EQ(svg_elements(svg, "svg", "panel").size(), 4u);
+  // One namespace declaration, on the outer document (HtmlReport::figure drops it, and a
+  // report page must hold no URL).
+  EXPECT_EQ(svg.find("http://"), svg.rfind("http://"));
   const auto marks = svg_elements(svg, "line", "x-mark");
   ASSERT_EQ(marks.size(), 4u);
   for (const auto& m : marks) EXPECT_EQ(number(m, "data-x"), 100.0);
