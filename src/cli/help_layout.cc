@@ -33,7 +33,6 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       {"--friction", "method"}, {"--max-move", "method"}, {"--speed", "method"},
       {"--mass", "method"}, {"--fixed-mass", "method"}, {"--leapfrog", "method"},
       {"--target-accept", "method"}, {"--temperature-scale", "method"},
-      {"--threshold", "method"}, {"--cost-fp", "method"}, {"--cost-fn", "method"},
       // Budget: how much work, on how many chains and threads.
       {"--chains", "budget"}, {"--burn-in", "budget"}, {"--thin", "budget"},
       {"--samples", "budget"}, {"--batch", "budget"}, {"--steps", "budget"},
@@ -45,6 +44,9 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       {"--bins", "output"}, {"--binning", "output"}, {"--bootstrap", "output"},
       {"--save-temperature", "output"}, {"--flag-above", "output"}, {"--flag-by", "output"},
       {"--flush-seconds", "output"}, {"--all", "output"}, {"--list", "output"},
+      // Decisions drawn from the probabilities (issue 19, item 1), when present.
+      {"--threshold", "output"}, {"--cost-fp", "output"}, {"--cost-fn", "output"},
+      {"--target-sensitivity", "output"}, {"--level", "output"}, {"--interval", "output"},
       // General: every command.
       {"--help", "general"}, {"--quiet", "general"}, {"--log-level", "general"},
       {"--version", "general"},
