@@ -219,9 +219,11 @@ void traces_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
   page.section("Training traces");
   for (const MethodRun& run : runs) {
     if (run.traces.empty()) continue;
-    page.figure(render_trace_chart(trace_chart(run)),
-                "One panel per chain on shared axes; the y range leaves out the top and bottom 1% "
-                "of values, so an early spike runs off the top; the dashed line ends burn-in.");
+    const TraceChart chart = trace_chart(run);
+    page.figure(render_trace_chart(chart),
+                std::string("One panel per chain on shared axes; the y range leaves out the top "
+                            "and bottom 1% of values, so an early spike runs off the top") +
+                    (std::isfinite(chart.burn_in) ? "; the dashed line ends burn-in." : "."));
   }
 }
 
