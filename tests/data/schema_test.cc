@@ -13,11 +13,7 @@ namespace {
 using testing::expect_invalid;
 using testing::schema_of;
 
-SchemaOptions target(std::string name) {
-  SchemaOptions options;
-  options.target = std::move(name);
-  return options;
-}
+using testing::target;
 
 // 24 rows, two classes, a numeric and a categorical feature: a valid base table.
 std::string base_table() {

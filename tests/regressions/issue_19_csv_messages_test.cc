@@ -22,11 +22,7 @@ namespace {
 using testing::expect_invalid;
 using testing::schema_of;
 
-SchemaOptions target(std::string name) {
-  SchemaOptions options;
-  options.target = std::move(name);
-  return options;
-}
+using testing::target;
 
 // 24 rows; 'pressure' repeats four decimal-comma values, so that as text it is a small
 // set of categories (which the old reader accepted) rather than free text.
