@@ -9,7 +9,9 @@
 //   distance), and a header that reads as one column hints at the delimiter.
 #include <gtest/gtest.h>
 
+#include <cstdint>
 #include <string>
+#include <vector>
 
 #include "credence/data.h"
 #include "data/closest_name.h"
@@ -69,6 +71,27 @@ TEST(Issue19, SemicolonFileReadWithCommasHintsAtTheDelimiter) {
 TEST(Issue19, SemicolonHeaderAboveWholeNumbersHintsAtTheDelimiter) {
   auto s = schema_of("unit;age;fault\n1;40;no\n2;51;yes\n", target("fault"));
   expect_invalid(s.status(), {"'fault' is not in the header", "--delimiter ';'"});
+}
+
+TEST(Issue19, DecimalCommaInNewRowsIsNamedAtPredictTime) {
+  // Fitted on points; the rows to predict were saved with a decimal comma (quoted).
+  const char* csv = "x,y\n1.5,a\n2.5,b\n3.5,a\n4.5,b\n";
+  ReadOptions read;
+  read.text_columns = {"y"};
+  Result<Table> table = testing::parse(csv, read);
+  ASSERT_TRUE(table.ok());
+  Result<Schema> schema = infer_schema(*table, target("y"));
+  ASSERT_TRUE(schema.ok()) << schema.status().to_string();
+  const std::vector<std::int64_t> train = {0, 1, 2, 3};
+  Result<Preprocessing> prep = fit_preprocessing(*table, *schema, train, {});
+  ASSERT_TRUE(prep.ok()) << prep.status().to_string();
+  ReadOptions fresh_read;
+  fresh_read.text_columns = text_columns_of(*prep);
+  Result<Table> fresh = parse_table("x\n2.0\n\"3,25\"\n", "new.csv", fresh_read);
+  ASSERT_TRUE(fresh.ok());
+  expect_invalid(transform_table(*prep, *fresh).status(),
+                 {"new.csv:3:1:", "'3,25' is not a number in column 'x'", "decimal comma",
+                  "points as decimal marks"});
 }
 
 TEST(Issue19, DecimalCommaNumberShapes) {
