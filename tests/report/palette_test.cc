@@ -13,6 +13,7 @@
 // 3:1 for graphical objects.
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <numbers>
