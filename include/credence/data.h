@@ -90,6 +90,11 @@ struct Table {
   std::string cell_location(std::int64_t row, int column) const;
   /// The header names, quoted and comma separated ("'a', 'b'"), for messages.
   std::string column_list() const;
+  /// What to tell a user who named a column `name` that is not in the header: the
+  /// closest header name by edit distance ("did you mean 'fault_14d'?") when one is
+  /// close, else the header's names (of a long header its first six and last two, and a
+  /// count), or a hint when the header reads as one column holding ';', a tab or '|'.
+  std::string column_hint(std::string_view name) const;
 };
 
 /// Reads a whole CSV file (RFC 4180: quoted fields with delimiters, doubled quotes

@@ -15,15 +15,18 @@
 //   std::string svg = render_line_chart(chart);
 //
 // The look is our own: a warm off-white ground, thin slate axes, a light grid, the legend
-// in a row above the plot, and series colours from plot_palette() in an order whose
-// neighbours differ in lightness as well as hue (so they stay apart for colour-blind
-// readers and in greyscale); line series beyond the fourth are also dashed.
+// in a row above the plot, one text scale for every chart, and series colours from
+// plot_palette(), whose first five stay apart for readers with red-green colour
+// blindness (checked under simulated deuteranopia and protanopia); line series beyond the
+// fourth are also dashed. Several methods or chains are drawn as small multiples (one
+// panel each, same axes) rather than piled on one plot.
 #pragma once
 
 #include <cstddef>
 #include <limits>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 #include "credence/metrics.h"
@@ -35,7 +38,7 @@ inline constexpr double kAutoRange = std::numeric_limits<double>::quiet_NaN();
 
 /// Outer size of a chart in CSS pixels (the SVG scales with its container in a page).
 struct PlotFrame {
-  int width = 560;   // total width including margins; at least 200
+  int width = 500;   // total width with margins, at least 200; two fit side by side in a page
   int height = 380;  // total height including title, legend and axis labels; at least 160
 };
 
@@ -45,6 +48,19 @@ struct LineSeries {
   std::string name;
   std::vector<double> x;  // same length as y
   std::vector<double> y;
+};
+
+/// A vertical line across the plot at x, labelled at its top (e.g. the end of burn-in).
+struct XMark {
+  double x = 0;
+  std::string label;
+};
+
+/// A point of series `series` at x that has no value (e.g. every chain diverged there):
+/// drawn as a cross in the series' colour on the top edge of the plot, inside the x range.
+struct MissingPoint {
+  std::size_t series = 0;
+  double x = 0;
 };
 
 /// A line chart of several series on shared axes.
@@ -61,6 +77,10 @@ struct LineChart {
   double x_min = kAutoRange, x_max = kAutoRange;
   double y_min = kAutoRange, y_max = kAutoRange;
   std::vector<LineSeries> series;
+  std::vector<XMark> x_marks;
+  std::vector<MissingPoint> missing;  // listed in the legend as "x = <missing_label>"
+  std::string missing_label = "no value";
+  int first_colour = 0;  // series i takes palette colour first_colour + i (small multiples)
   PlotFrame frame;
 };
 
@@ -71,6 +91,7 @@ LineSeries rejection_series(std::string name, const RejectionCurve& curve);
 struct ReliabilitySeries {
   std::string name;
   ReliabilityTable table;  // rows with NaN means (empty bins) draw no bar
+  int colour = -1;         // palette index; -1: the series' position in the chart
 };
 
 /// A reliability diagram: per bin, a bar up to the accuracy of the rows in it, with a
@@ -83,7 +104,7 @@ struct ReliabilityChart {
   std::string x_label = "confidence";
   std::string y_label = "accuracy";
   std::vector<ReliabilitySeries> series;
-  PlotFrame frame{560, 470};
+  PlotFrame frame{500, 470};
 };
 
 /// One named set of values for a histogram (NaN and infinities are left out).
@@ -110,6 +131,36 @@ struct HistogramChart {
 std::string render_line_chart(const LineChart& chart);
 std::string render_reliability_diagram(const ReliabilityChart& chart);
 std::string render_histogram(const HistogramChart& chart);
+
+/// Small multiples: one reliability diagram per series, on identical axes, in a grid of
+/// `columns` panels per row, each in the colour the series has in a shared chart, under
+/// one title. REQUIRES: columns >= 1.
+std::string render_reliability_panels(const ReliabilityChart& chart, int columns);
+
+/// Several line charts as panels of one SVG, `columns` per row, under one title (the
+/// panels keep their own titles, axes and sizes). REQUIRES: columns >= 1.
+std::string render_line_panels(const std::vector<LineChart>& panels, std::string_view title,
+                               int columns);
+
+/// Chain traces for one run as small multiples: one panel per chain, sharing an x range
+/// and robust y limits (robust_limits over every chain's values), with the end of
+/// burn-in marked when `burn_in` is finite.
+struct TraceChart {
+  std::string title;
+  std::string y_label;
+  std::vector<LineSeries> chains;  // x: step, y: the traced value
+  double burn_in = kAutoRange;     // step at which burn-in ends; NaN: not marked
+  PlotFrame panel{420, 210};       // size of each chain's panel
+  int columns = 2;
+};
+std::string render_trace_chart(const TraceChart& chart);
+
+/// Y limits that the bulk of `values` sets rather than a few extremes: the `tail` and
+/// 1 - `tail` quantiles (linear interpolation between order statistics, numpy's default
+/// method) widened by `pad` times their span on each side, and never beyond the data's own
+/// range. Non-finite values are ignored; {NaN, NaN} when none is finite.
+std::pair<double, double> robust_limits(std::vector<double> values, double tail = 0.01,
+                                        double pad = 0.08);
 
 // ---------------------------------------------------------------------------------------
 // Building blocks, public for tests and for callers that label their own numbers.

@@ -1,6 +1,7 @@
 // `credence sweep`: every method at every learning rate; how robust is each to its step?
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <sstream>
@@ -89,6 +90,7 @@ Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
   table.column("ECE", ColumnAlign::kAuto, BestValue::kLowest);
   table.column("diverged chains").column("mixing", ColumnAlign::kLeft);
   std::vector<LineSeries> nll_series, ece_series;
+  std::vector<MissingPoint> diverged_at;  // (method, learning rate) where every chain diverged
   for (Method m : methods) {
     nll_series.push_back({std::string(method_name(m)), {}, {}});
     ece_series.push_back({std::string(method_name(m)), {}, {}});
@@ -101,6 +103,7 @@ Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
       table.add_row({std::string(method_name(o.entry.method)), fmt::format("{:.3g}", lr), "-",
                      "-", "-", fmt::format("all {}", request->chains),
                      o.diverged ? "diverged" : "failed"});
+      if (o.diverged) diverged_at.push_back({which, lr});
       continue;  // no point: the line breaks there
     }
     const Assessment& a = o.run->assessment.scored.metrics;
@@ -126,6 +129,11 @@ Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
   nll_chart.log_x = true;
   nll_chart.markers = true;
   nll_chart.series = nll_series;
+  // The axis spans the swept rates, also where every chain diverged (marked with a cross).
+  nll_chart.x_min = *std::min_element(rates->begin(), rates->end());
+  nll_chart.x_max = *std::max_element(rates->begin(), rates->end());
+  nll_chart.missing = diverged_at;
+  nll_chart.missing_label = "every chain diverged";
   LineChart ece_chart = nll_chart;
   ece_chart.title = "ECE on the test rows against learning rate";
   ece_chart.y_label = "ECE (15 equal-width bins)";
@@ -146,7 +154,9 @@ Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
   page.subtitle(fmt::format("{} methods x {} learning rates, {} chains each, same budget",
                             methods.size(), rates->size(), request->chains));
   page.section("Robustness to the step size");
-  page.figure(render_line_chart(nll_chart), "Lower is better; a gap is a divergence.");
+  page.figure(render_line_chart(nll_chart),
+              "Lower is better; a cross on the top edge marks a learning rate at which every "
+              "chain diverged.");
   page.figure(render_line_chart(ece_chart), "Lower is better.");
   page.table(table, "Every training of the sweep on the same split and gradient budget.");
   page.cautions();

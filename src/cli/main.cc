@@ -6,6 +6,7 @@
 
 #include "cli/commands.h"
 #include "cli/exit_codes.h"
+#include "cli/help_layout.h"
 #include "cli/logging.h"
 #include "credence/version.h"
 
@@ -18,6 +19,7 @@ int run(int argc, char** argv) {
   CLI::App app{
       "credence: train uncertainty-aware classifiers on tabular data with stochastic-"
       "gradient MCMC or optimizers, and score how far their probabilities can be trusted."};
+  app.formatter(std::make_shared<HelpLayout>());  // before the commands: they copy it
   app.set_version_flag("--version", std::string("credence ") + kVersion);
   app.require_subcommand(1);
   app.fallthrough();

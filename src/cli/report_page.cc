@@ -77,19 +77,18 @@ HistogramChart right_wrong_histogram(const MethodRun& run, const Eigen::VectorXd
   return chart;
 }
 
-LineChart trace_chart(const MethodRun& run) {
-  LineChart chart;
+TraceChart trace_chart(const MethodRun& run) {
+  TraceChart chart;
   chart.title = fmt::format("{}: potential during training", run.label);
-  chart.x_label = "step";
   chart.y_label = "U (minibatch estimate)";
-  chart.frame = {420, 300};
+  if (run.diagnostics && run.diagnostics->burn_in) chart.burn_in = static_cast<double>(*run.diagnostics->burn_in);
   for (std::size_t c = 0; c < run.traces.size(); ++c) {
     LineSeries series{fmt::format("chain {}", c), {}, {}};
     for (const TraceRecord& t : run.traces[c]) {
       series.x.push_back(static_cast<double>(t.step));
       series.y.push_back(t.potential);
     }
-    chart.series.push_back(std::move(series));
+    chart.chains.push_back(std::move(series));
   }
   return chart;
 }
@@ -165,7 +164,7 @@ void reliability_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
   for (const MethodRun& run : runs) {
     chart.series.push_back({run.label, run.assessment.scored.metrics.width_bins});
   }
-  page.figure(render_reliability_diagram(chart),
+  page.figure(runs.size() > 1 ? render_reliability_panels(chart, 3) : render_reliability_diagram(chart),
               "Bars reach the accuracy of the rows in each bin; the tick marks their mean "
               "confidence. A calibrated model's ticks sit on the bar tops and the diagonal.");
   ReliabilityChart mass;
@@ -173,7 +172,7 @@ void reliability_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
   for (const MethodRun& run : runs) {
     mass.series.push_back({run.label, run.assessment.scored.metrics.mass_bins});
   }
-  page.figure(render_reliability_diagram(mass),
+  page.figure(runs.size() > 1 ? render_reliability_panels(mass, 3) : render_reliability_diagram(mass),
               "The same rows in bins of equal count, so sparse high-confidence bins do not "
               "hide in a wide interval.");
 }
@@ -221,7 +220,11 @@ void traces_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
   page.section("Training traces");
   for (const MethodRun& run : runs) {
     if (run.traces.empty()) continue;
-    page.figure(render_line_chart(trace_chart(run)), "One line per chain.");
+    const TraceChart chart = trace_chart(run);
+    page.figure(render_trace_chart(chart),
+                std::string("One panel per chain on shared axes; the y range leaves out the top "
+                            "and bottom 1% of values, so an early spike runs off the top") +
+                    (std::isfinite(chart.burn_in) ? "; the dashed line ends burn-in." : "."));
   }
 }
 

@@ -251,6 +251,30 @@ bool parse_number(std::string_view text, double& value) {
   return error == std::errc() && end == last && std::isfinite(value);
 }
 
+// "3,14", "-0,5", "1.234,5": a number written with a decimal comma (and perhaps points
+// between groups of thousands), as spreadsheets in many locales save CSV.
+bool decimal_comma_number(std::string_view text) {
+  const std::size_t comma = text.find(',');
+  if (comma == std::string_view::npos || comma == 0 || comma + 1 == text.size()) return false;
+  std::string_view whole = text.substr(0, comma);
+  const std::string_view fraction = text.substr(comma + 1);
+  if (whole.front() == '-' || whole.front() == '+') whole.remove_prefix(1);
+  const auto digits = [](std::string_view s) {
+    return !s.empty() && std::all_of(s.begin(), s.end(), [](char c) { return c >= '0' && c <= '9'; });
+  };
+  if (!digits(fraction)) return false;
+  // Groups of thousands: 1-3 digits, then ".ddd" groups.
+  std::size_t group_start = 0;
+  for (std::size_t dot = whole.find('.'); dot != std::string_view::npos;
+       dot = whole.find('.', group_start)) {
+    const std::string_view group = whole.substr(group_start, dot - group_start);
+    if (!digits(group) || (group_start > 0 ? group.size() != 3 : group.size() > 3)) return false;
+    group_start = dot + 1;
+  }
+  const std::string_view last = whole.substr(group_start);
+  return digits(last) && (group_start == 0 || last.size() == 3);
+}
+
 const char* parse_plain_number(const char* p, const char* end, double& value) {
   if (p == end || !((*p >= '0' && *p <= '9') || *p == '.' || *p == '-')) return nullptr;
   return scan_simple_decimal(p, end, value);

@@ -64,6 +64,11 @@ class CsvScanner {
 /// the whole of `text`, without locale or allocation. Returns false otherwise.
 bool parse_number(std::string_view text, double& value);
 
+/// Whether `text` is a number written with a decimal comma ("3,14", "-0,5", "1.234,5":
+/// points may only separate groups of three digits before the comma), as spreadsheets in
+/// many locales save CSV. parse_number refuses such text.
+bool decimal_comma_number(std::string_view text);
+
 /// The number that starts at `p` (optional '-', digits, optional point and digits,
 /// optional exponent), read as far as it goes; returns the first byte after it. nullptr
 /// when no such number starts there or it needs more than the fast path (over 15

@@ -109,9 +109,12 @@ Status encode_numeric(const FeatureEncoding& f, const Preprocessing& p, const Ta
       if (code >= 0 && !data::parse_number(column.levels[static_cast<std::size_t>(code)], v)) {
         return Status::invalid_input(fmt::format(
             "{}: '{}' is not a number in column '{}' (row {}), which the model reads as numeric; "
-            "fix the cell",
+            "{}",
             table.cell_location(rows[i], j), column.levels[static_cast<std::size_t>(code)],
-            column.name, rows[i] + 1));
+            column.name, rows[i] + 1,
+            data::decimal_comma_number(column.levels[static_cast<std::size_t>(code)])
+                ? "it looks like a decimal comma: save the table with points as decimal marks"
+                : "fix the cell"));
       }
     } else {
       v = column.numbers[r];
@@ -236,9 +239,8 @@ Result<Eigen::MatrixXf> transform_rows(const Preprocessing& p, const Table& tabl
     const int j = table.find_column(f.name);
     if (j < 0) {
       return Status::invalid_input(fmt::format(
-          "{}: column '{}', an input of the model, is not in the header; add it (columns "
-          "present: {})",
-          table.source, f.name, table.column_list()));
+          "{}: column '{}', an input of the model, is not in the header; add it ({})",
+          table.source, f.name, table.column_hint(f.name)));
     }
     if (f.type == ColumnType::kNumeric) {
       CREDENCE_RETURN_IF_ERROR(encode_numeric(f, p, table, j, rows, x));
@@ -268,9 +270,8 @@ Result<std::vector<std::int32_t>> encode_labels(const Preprocessing& p, const Ta
   const int j = table.find_column(p.target);
   if (j < 0) {
     return Status::invalid_input(fmt::format(
-        "{}: the target column '{}' is not in the header; labelled rows need it (columns "
-        "present: {})",
-        table.source, p.target, table.column_list()));
+        "{}: the target column '{}' is not in the header; labelled rows need it ({})",
+        table.source, p.target, table.column_hint(p.target)));
   }
   const TableColumn& column = table.columns[static_cast<std::size_t>(j)];
   std::unordered_map<std::string, std::int32_t> index;

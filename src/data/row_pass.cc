@@ -7,6 +7,7 @@
 #include <limits>
 #include <new>
 #include <omp.h>
+#include <utility>
 
 #include "data/csv_reader.h"
 
@@ -50,13 +51,29 @@ RowRun run_of(std::size_t from, std::size_t to, std::int64_t line, std::size_t f
 }
 
 Status ragged_row(const std::string& source, const CsvRecord& record, std::int64_t row,
-                  std::size_t expected) {
+                  const Table& table) {
   const std::size_t got = record.fields.size();
+  const std::size_t expected = table.columns.size();
+  std::string what_to_do =
+      got > expected ? "quote any field that contains the delimiter, or remove the extra field"
+                     : "add the missing field (leave it empty if the value is unknown)";
+  // A header of one column that holds ';' (or a tab, or '|'), above rows split by commas:
+  // most likely a file with another delimiter, and decimal commas in its numbers.
+  if (expected == 1 && got > 1) {
+    constexpr std::pair<char, std::string_view> kOthers[] = {{';', ";"}, {'\t', "tab"}, {'|', "|"}};
+    for (const auto& [byte, label] : kOthers) {
+      if (table.columns[0].name.find(byte) != std::string::npos) {
+        what_to_do = fmt::format(
+            "the header reads as one column, so the fields are probably separated by '{}': "
+            "pass --delimiter '{}' (and if its numbers hold decimal commas, save the table "
+            "again with points as decimal marks)",
+            label, label);
+      }
+    }
+  }
   return Status::invalid_input(fmt::format(
       "{}:{}:{}: row {} has {} field{} but the header has {}; {}", source, record.line,
-      std::min(got, expected) + 1, row + 1, got, got == 1 ? "" : "s", expected,
-      got > expected ? "quote any field that contains the delimiter, or remove the extra field"
-                     : "add the missing field (leave it empty if the value is unknown)"));
+      std::min(got, expected) + 1, row + 1, got, got == 1 ? "" : "s", expected, what_to_do));
 }
 
 // Line breaks in bytes [from, to). Counted in blocks of 255 into a byte-wide sum, which the
@@ -149,7 +166,7 @@ Status scan_run(const RowPassInput& in, RowRun& run, Table& table) {
     }
     CREDENCE_RETURN_IF_ERROR(scanner.next(record, got));
     if (!got) return Status::ok_status();
-    if (record.fields.size() != width) return ragged_row(*in.source, record, run.rows, width);
+    if (record.fields.size() != width) return ragged_row(*in.source, record, run.rows, table);
     const auto row = static_cast<std::size_t>(run.rows);
     if (row == run.capacity) return Status::internal("CSV rows outnumber the line breaks");
     lines[row] = record.line;

@@ -38,8 +38,8 @@ Status check_names(const Table& table, const std::vector<std::string>& names,
   for (const std::string& name : names) {
     if (table.find_column(name) < 0) {
       return Status::invalid_input(fmt::format(
-          "{}: {} names column '{}', which is not in the header; available columns: {}",
-          table.source, option, name, table.column_list()));
+          "{}: {} names column '{}', which is not in the header; {}", table.source, option,
+          name, table.column_hint(name)));
     }
   }
   return Status::ok_status();
@@ -49,8 +49,12 @@ std::int64_t line_of(const Table& table, std::int64_t row) {
   return table.row_lines[static_cast<std::size_t>(row)];
 }
 
+// How many bad cells one message names; the rest are counted.
+constexpr std::size_t kCellsListed = 5;
+
 // A feature that is mostly numbers with a few cells that are not is almost always a
-// typo; silently turning it into hundreds of categories would hide it.
+// typo; silently turning it into hundreds of categories would hide it. The message names
+// the first kCellsListed such cells and counts all of them, so one run finds them all.
 Status check_numeric_typo(const Table& table, int j, const SchemaOptions& options) {
   const TableColumn& column = table.columns[static_cast<std::size_t>(j)];
   const std::int64_t present = table.rows() - column.missing;
@@ -58,12 +62,65 @@ Status check_numeric_typo(const Table& table, int j, const SchemaOptions& option
     return Status::ok_status();
   }
   if (2 * column.numeric_cells < present) return Status::ok_status();
+  const std::int64_t bad = present - column.numeric_cells;
+  std::string others;
+  if (bad > 1 && column.is_text) {
+    std::vector<char> level_is_number(column.levels.size());
+    double ignored = 0;
+    for (std::size_t k = 0; k < column.levels.size(); ++k) {
+      level_is_number[k] = data::parse_number(column.levels[k], ignored);
+    }
+    std::size_t listed = 0;
+    for (std::int64_t r = column.first_text_row + 1; r < table.rows() && listed < kCellsListed - 1; ++r) {
+      const std::int32_t code = column.codes[static_cast<std::size_t>(r)];
+      if (code < 0 || level_is_number[static_cast<std::size_t>(code)]) continue;
+      others += fmt::format("{}row {} '{}' (line {})", listed == 0 ? "" : ", ", r + 1,
+                            column.levels[static_cast<std::size_t>(code)], line_of(table, r));
+      ++listed;
+    }
+    const std::int64_t unlisted = bad - 1 - static_cast<std::int64_t>(listed);
+    others = fmt::format("; {} more cell{} of the column {} not numbers: {}{}", bad - 1,
+                         bad == 2 ? "" : "s", bad == 2 ? "is" : "are", others,
+                         unlisted > 0 ? fmt::format(" and {} more", unlisted) : "");
+  }
   return Status::invalid_input(fmt::format(
       "{}: '{}' is not a number in column '{}' (row {}; {} of the column's {} values are "
-      "numbers); fix the cell, list it with --na if it means missing, or mark the column "
+      "numbers){}; fix the cell{}, list {} with --na if {} missing, or mark the column "
       "categorical with --categorical '{}'",
       table.cell_location(column.first_text_row, j), column.first_text, column.name,
-      column.first_text_row + 1, column.numeric_cells, present, column.name));
+      column.first_text_row + 1, column.numeric_cells, present, others, bad > 1 ? "s" : "",
+      bad > 1 ? "them" : "it", bad > 1 ? "they mean" : "it means", column.name));
+}
+
+// A column of numbers written with decimal commas reads as text, and would otherwise
+// become a category per distinct value (or fail later on a value never seen in training).
+Status check_decimal_comma(const Table& table, int j, const SchemaOptions& options) {
+  const TableColumn& column = table.columns[static_cast<std::size_t>(j)];
+  if (!column.is_text || contains(options.categorical, column.name)) return Status::ok_status();
+  std::int64_t comma_cells = 0;
+  std::int64_t first_row = -1;
+  for (std::size_t k = 0; k < column.levels.size(); ++k) {
+    if (data::decimal_comma_number(column.levels[k])) comma_cells += column.level_counts[k];
+  }
+  const std::int64_t present = table.rows() - column.missing;
+  if (comma_cells == 0 || 2 * (comma_cells + column.numeric_cells) < present) {
+    return Status::ok_status();
+  }
+  for (std::int64_t r = 0; r < table.rows() && first_row < 0; ++r) {
+    const std::int32_t code = column.codes[static_cast<std::size_t>(r)];
+    if (code >= 0 && data::decimal_comma_number(column.levels[static_cast<std::size_t>(code)])) {
+      first_row = r;
+    }
+  }
+  return Status::invalid_input(fmt::format(
+      "{}: column '{}' holds numbers written with a comma ('{}' in row {}; {} of its {} "
+      "values), which look like decimal commas; credence reads numbers with a point as the "
+      "decimal mark and no thousands separator: save the table again with points as decimal "
+      "marks (in a spreadsheet, a CSV export in an English-language locale), or pass "
+      "--categorical '{}' if these are labels rather than numbers",
+      table.cell_location(first_row, j), column.name,
+      column.levels[static_cast<std::size_t>(column.codes[static_cast<std::size_t>(first_row)])],
+      first_row + 1, comma_cells, present, column.name));
 }
 
 Status check_free_text(const Table& table, int j, const SchemaOptions& options) {
@@ -178,8 +235,8 @@ Result<Schema> infer_schema(const Table& table, const SchemaOptions& options) {
   const int target = table.find_column(options.target);
   if (target < 0) {
     return Status::invalid_input(fmt::format(
-        "{}: the target column '{}' is not in the header; available columns: {}", table.source,
-        options.target, table.column_list()));
+        "{}: the target column '{}' is not in the header; {}", table.source, options.target,
+        table.column_hint(options.target)));
   }
   CREDENCE_RETURN_IF_ERROR(check_names(table, options.categorical, "--categorical"));
   CREDENCE_RETURN_IF_ERROR(check_names(table, options.drop, "--drop"));
@@ -229,6 +286,7 @@ Result<Schema> infer_schema(const Table& table, const SchemaOptions& options) {
           "in ReadOptions::text_columns",
           column.name));
     }
+    CREDENCE_RETURN_IF_ERROR(check_decimal_comma(table, j, options));
     CREDENCE_RETURN_IF_ERROR(check_numeric_typo(table, j, options));
     if (c.type == ColumnType::kCategorical) {
       CREDENCE_RETURN_IF_ERROR(check_free_text(table, j, options));

@@ -9,9 +9,11 @@
 #include <numeric>
 #include <string>
 #include <unordered_map>
+#include <utility>
 
 #include "credence/data.h"
 #include "data/cells.h"
+#include "data/closest_name.h"
 #include "data/csv_reader.h"
 #include "data/row_pass.h"
 
@@ -37,6 +39,37 @@ std::string Table::column_list() const {
     out += "'" + column.name + "'";
   }
   return out;
+}
+
+std::string Table::column_hint(std::string_view name) const {
+  std::vector<std::string> names;
+  for (const TableColumn& column : columns) names.push_back(column.name);
+  // One column whose name holds another common delimiter: the file is split differently.
+  if (names.size() == 1) {
+    constexpr std::pair<char, std::string_view> kOthers[] = {{';', ";"}, {'\t', "tab"}, {'|', "|"}};
+    for (const auto& [byte, label] : kOthers) {
+      if (names[0].find(byte) != std::string::npos) {
+        return fmt::format(
+            "the header reads as one column '{}'; if '{}' separates the fields, pass "
+            "--delimiter '{}'",
+            names[0], label, label);
+      }
+    }
+  }
+  if (const int k = data::closest_name(names, name); k >= 0) {
+    return fmt::format("did you mean '{}'?", names[static_cast<std::size_t>(k)]);
+  }
+  // A long header: its first and last names (the class is often last), and a count.
+  constexpr std::size_t kFirst = 6;
+  constexpr std::size_t kLast = 2;
+  if (names.size() <= kFirst + kLast + 2) return "available columns: " + column_list();
+  std::string out = "available columns: ";
+  for (std::size_t k = 0; k < kFirst; ++k) out += "'" + names[k] + "', ";
+  out += fmt::format("... ({} more), ", names.size() - kFirst - kLast);
+  for (std::size_t k = names.size() - kLast; k < names.size(); ++k) {
+    out += "'" + names[k] + (k + 1 < names.size() ? "', " : "'");
+  }
+  return out + fmt::format(" ('credence schema {}' lists them all)", source);
 }
 
 namespace {

@@ -50,8 +50,9 @@ table.data .num { text-align: right; white-space: nowrap; }
 table.data td.best { font-weight: 700; background: var(--best); box-shadow: inset 0 -2px 0 var(--ochre); }
 p.caption, figcaption { font-size: 13px; color: var(--muted); margin: 4px 0 14px; }
 div.figures { display: flex; flex-wrap: wrap; gap: 14px 22px; margin: 4px 0 8px; }
-figure { margin: 0; flex: 1 1 480px; max-width: 620px; }
-figure svg { display: block; width: 100%; height: auto; border: 1px solid var(--rule); border-radius: 4px; }
+figure { margin: 0; flex: 0 1 auto; max-width: 100%; }
+figure svg { display: block; max-width: 100%; height: auto; border: 1px solid var(--rule); border-radius: 4px; }
+figcaption { max-width: 560px; }
 div.note, div.warning { border-left: 4px solid var(--note-edge); background: var(--note);
   padding: 8px 14px; margin: 0 0 12px; border-radius: 0 4px 4px 0; max-width: 90ch; }
 div.warning { border-left-color: var(--warn-edge); background: var(--warn); }

@@ -123,7 +123,7 @@ AxisTicks log_axis(double lo, double hi, double fixed_lo, double fixed_hi) {
 
 double widest_label(const AxisTicks& ticks) {
   double widest = 0;
-  for (const std::string& label : ticks.labels) widest = std::max(widest, text_width(label, 10.5));
+  for (const std::string& label : ticks.labels) widest = std::max(widest, text_width(label, kTickSize));
   return widest;
 }
 
@@ -133,11 +133,11 @@ void draw_x_axis(SvgDocument& doc, const Area& area, const Scale& x, const AxisT
     double px = x(ticks.values[i]);
     if (grid) doc.line(px, area.top, px, area.bottom, kGrid);
     doc.line(px, area.bottom, px, area.bottom + 4, kAxis);
-    doc.text(px, area.bottom + 16, ticks.labels[i], "middle", 10.5, kMuted, "class=\"xtick\"");
+    doc.text(px, area.bottom + 16, ticks.labels[i], "middle", kTickSize, kMuted, "class=\"xtick\"");
   }
   doc.line(area.left, area.bottom, area.right, area.bottom, kAxis);
   if (!label.empty()) {
-    doc.text((area.left + area.right) / 2, area.bottom + 34, label, "middle", 11.5, kInk,
+    doc.text((area.left + area.right) / 2, area.bottom + 34, label, "middle", kLabelSize, kInk,
              "class=\"xlabel\"");
   }
 }
@@ -148,12 +148,12 @@ void draw_y_axis(SvgDocument& doc, const Area& area, const Scale& y, const AxisT
     double py = y(ticks.values[i]);
     if (grid) doc.line(area.left, py, area.right, py, kGrid);
     doc.line(area.left - 4, py, area.left, py, kAxis);
-    doc.text(area.left - 7, py + 3.5, ticks.labels[i], "end", 10.5, kMuted, "class=\"ytick\"");
+    doc.text(area.left - 7, py + 3.5, ticks.labels[i], "end", kTickSize, kMuted, "class=\"ytick\"");
   }
   doc.line(area.left, area.top, area.left, area.bottom, kAxis);
   if (!label.empty()) {
     double cy = (area.top + area.bottom) / 2;
-    doc.text(label_x, cy, label, "middle", 11.5, kInk,
+    doc.text(label_x, cy, label, "middle", kLabelSize, kInk,
              fmt::format("class=\"ylabel\" transform=\"rotate(-90 {} {})\"", coord(label_x),
                          coord(cy)));
   }

@@ -45,11 +45,23 @@ std::string render_line_chart(const LineChart& chart) {
       y_lo = std::min(y_lo, series.y[i]);
       y_hi = std::max(y_hi, series.y[i]);
     }
-    int index = static_cast<int>(s);
+    int index = chart.first_colour + static_cast<int>(s);
+    if (series.name.empty()) continue;  // e.g. a panel whose title names its one series
     legend.push_back({series.name, report::series_colour(index), report::Swatch::kLine, index});
   }
-  bool any = x_lo <= x_hi;
-  if (!any) x_lo = x_hi = y_lo = y_hi = chart.log_x ? 1.0 : 0.0;
+  const bool any_values = x_lo <= x_hi;
+  // Missing points and marks belong to the x range even where no series has a value.
+  for (const MissingPoint& m : chart.missing) {
+    if (usable(m.x, 0, chart.log_x)) x_lo = std::min(x_lo, m.x), x_hi = std::max(x_hi, m.x);
+  }
+  for (const XMark& m : chart.x_marks) {
+    if (usable(m.x, 0, chart.log_x)) x_lo = std::min(x_lo, m.x), x_hi = std::max(x_hi, m.x);
+  }
+  if (!(x_lo <= x_hi)) x_lo = x_hi = chart.log_x ? 1.0 : 0.0;
+  if (!any_values) y_lo = y_hi = 0.0;
+  if (!chart.missing.empty()) {
+    legend.push_back({chart.missing_label, report::kInk, report::Swatch::kCross, 0});
+  }
 
   double top = report::draw_header(doc, chart.title, legend, width);
   AxisTicks x_axis = chart.log_x ? report::log_axis(x_lo, x_hi, chart.x_min, chart.x_max)
@@ -66,12 +78,31 @@ std::string render_line_chart(const LineChart& chart) {
 
   report::draw_x_axis(doc, area, x, x_axis, chart.x_label, true);
   report::draw_y_axis(doc, area, y, y_axis, chart.y_label, true, 22);
-  if (!any) {
+  std::string& b = doc.body();
+  for (const XMark& m : chart.x_marks) {
+    if (!usable(m.x, 0, chart.log_x)) continue;
+    const double px = x(m.x);
+    doc.line(px, area.top, px, area.bottom, report::kMuted, 1.2,
+             fmt::format("class=\"x-mark\" data-x=\"{}\" stroke-dasharray=\"4 3\"", m.x));
+    doc.text(px + 4, area.top + report::kTickSize, m.label, "start", report::kTickSize,
+             report::kMuted, "class=\"x-mark-label\"");
+  }
+  for (const MissingPoint& m : chart.missing) {
+    if (!usable(m.x, 0, chart.log_x)) continue;
+    const double px = x(m.x);
+    const double py = area.top + 6 + 9 * static_cast<double>(m.series % 4);
+    b += fmt::format(
+        "<path class=\"missing\" data-series=\"{}\" data-x=\"{}\" d=\"M{} {} L{} {} M{} {} "
+        "L{} {}\" stroke=\"{}\" stroke-width=\"2\" fill=\"none\"/>\n",
+        m.series, m.x, coord(px - 4), coord(py - 4), coord(px + 4), coord(py + 4), coord(px - 4),
+        coord(py + 4), coord(px + 4), coord(py - 4),
+        report::series_colour(chart.first_colour + static_cast<int>(m.series)));
+  }
+  if (!any_values) {
     report::draw_no_data(doc, area);
     return doc.finish();
   }
 
-  std::string& b = doc.body();
   b += fmt::format(
       "<clipPath id=\"@CLIP@\"><rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\"/></clipPath>\n"
       "<g clip-path=\"url(#@CLIP@)\" fill=\"none\" stroke-linejoin=\"round\" "
@@ -80,7 +111,7 @@ std::string render_line_chart(const LineChart& chart) {
       coord(area.height() + 8));
   for (std::size_t s = 0; s < chart.series.size(); ++s) {
     const LineSeries& series = chart.series[s];
-    int index = static_cast<int>(s);
+    int index = chart.first_colour + static_cast<int>(s);
     std::string_view colour = report::series_colour(index);
     std::size_t n = std::min(series.x.size(), series.y.size());
     // A skipped point ends the current piece; the next usable point starts a new one.

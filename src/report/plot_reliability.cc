@@ -36,7 +36,7 @@ std::string render_reliability_diagram(const ReliabilityChart& chart) {
     if (std::isfinite(series.table.ece) && !series.table.rows.empty()) {
       label += fmt::format("  ECE {:.3f}", series.table.ece);
     }
-    int index = static_cast<int>(s);
+    int index = series.colour >= 0 ? series.colour : static_cast<int>(s);
     legend.push_back({label, report::series_colour(index), report::Swatch::kBox, index});
     for (const ReliabilityBin& bin : series.table.rows) {
       if (!filled(bin)) continue;
@@ -71,8 +71,8 @@ std::string render_reliability_diagram(const ReliabilityChart& chart) {
   report::draw_x_axis(doc, strip, x, ticks, chart.x_label, false);
   doc.line(strip.left, strip.top, strip.left, strip.bottom, report::kAxis);
   doc.text(strip.left - 7, strip.top + 8, max_count > 0 ? fmt::format("{}", max_count) : "0",
-           "end", 9.5, report::kMuted, "class=\"count-max\"");
-  doc.text(strip.left - 7, strip.bottom - 2, "rows", "end", 9.5, report::kMuted);
+           "end", report::kTickSize, report::kMuted, "class=\"count-max\"");
+  doc.text(strip.left - 7, strip.bottom - 2, "rows", "end", report::kTickSize, report::kMuted);
 
   if (!any) {
     report::draw_no_data(doc, main);
@@ -80,7 +80,8 @@ std::string render_reliability_diagram(const ReliabilityChart& chart) {
   std::string& b = doc.body();
   const double slices = static_cast<double>(std::max<std::size_t>(chart.series.size(), 1));
   for (std::size_t s = 0; s < chart.series.size(); ++s) {
-    std::string_view colour = report::series_colour(static_cast<int>(s));
+    const int index = chart.series[s].colour >= 0 ? chart.series[s].colour : static_cast<int>(s);
+    std::string_view colour = report::series_colour(index);
     b += fmt::format("<g class=\"reliability-series\" data-series=\"{}\">\n", s);
     const auto& rows = chart.series[s].table.rows;
     for (std::size_t m = 0; m < rows.size(); ++m) {

@@ -3,6 +3,7 @@
 
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 namespace credence::report {
@@ -15,6 +16,13 @@ inline constexpr std::string_view kAxis = "#7a7468";
 inline constexpr std::string_view kGrid = "#e7e0d2";
 inline constexpr std::string_view kFontStack =
     "system-ui, -apple-system, 'Segoe UI', 'Noto Sans', 'DejaVu Sans', sans-serif";
+
+// One text scale for every chart: titles, then labels (axis titles, legend, notes), then
+// tick labels and small annotations. In a page every chart is drawn at its own size (never
+// stretched), so these are the sizes the reader sees.
+inline constexpr double kTitleSize = 14;
+inline constexpr double kLabelSize = 12;
+inline constexpr double kTickSize = 11;
 
 /// Rough width in pixels of `text` at `size` px in a sans-serif face (layout only).
 double text_width(std::string_view text, double size);
@@ -29,7 +37,7 @@ class SvgDocument {
   std::string& body() { return body_; }
   /// Text at (x, y); anchor is "start", "middle" or "end"; `extra` is raw attributes.
   void text(double x, double y, std::string_view content, std::string_view anchor = "start",
-            double size = 11, std::string_view colour = kInk, std::string_view extra = {});
+            double size = kLabelSize, std::string_view colour = kInk, std::string_view extra = {});
   void line(double x1, double y1, double x2, double y2, std::string_view colour,
             double width = 1, std::string_view extra = {});
   /// The finished document. A clip-path id placeholder "@CLIP@" in the body becomes an
@@ -59,7 +67,7 @@ struct Area {
 };
 
 /// How a legend entry's swatch is drawn.
-enum class Swatch { kLine, kBox, kTick };
+enum class Swatch { kLine, kBox, kTick, kCross };
 
 struct LegendEntry {
   std::string label;
@@ -98,6 +106,12 @@ void draw_x_axis(SvgDocument& doc, const Area& area, const Scale& x, const AxisT
                  std::string_view label, bool grid);
 void draw_y_axis(SvgDocument& doc, const Area& area, const Scale& y, const AxisTicks& ticks,
                  std::string_view label, bool grid, double label_x);
+
+/// Finished SVG documents (as SvgDocument::finish returns them, of the given sizes) as
+/// panels of one document: `columns` per row, under `title`.
+std::string compose_panels(const std::vector<std::string>& panels,
+                           const std::vector<std::pair<int, int>>& sizes, std::string_view title,
+                           int columns);
 
 /// A "no data" mark in the middle of the area.
 void draw_no_data(SvgDocument& doc, const Area& area);

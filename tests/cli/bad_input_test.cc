@@ -180,7 +180,7 @@ std::vector<BadInput> bad_inputs() {
       {"UTF-16 file", "train {d}/utf16.csv --target fault_14d --out {out}", "o.h5",
        "utf16.csv: the file starts with a UTF-16 byte-order mark", "save the table as UTF-8"},
       {"missing target column", "schema {d}/t.csv --target fault --json {out}", "o.json",
-       "'fault' is not in the header", "available columns"},
+       "'fault' is not in the header", "did you mean 'fault_14d'?"},
       {"one class only",
        "train {d}/oneclass.csv --target fault_14d --id unit_id --impute median --out {out}", "o.h5",
        "oneclass.csv: the target column 'fault_14d' holds one class only", "check --target"},

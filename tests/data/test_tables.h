@@ -16,6 +16,13 @@ inline Result<Table> parse(std::string_view csv, ReadOptions options = {}) {
   return parse_table(csv, "data.csv", options);
 }
 
+/// Schema options naming the target column, all else default.
+inline SchemaOptions target(std::string name) {
+  SchemaOptions options;
+  options.target = std::move(name);
+  return options;
+}
+
 /// Reads `csv` with the target (and categorical overrides) as text, then infers the schema.
 inline Result<Schema> schema_of(std::string_view csv, SchemaOptions options,
                                 ReadOptions read = {}) {

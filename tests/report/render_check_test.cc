@@ -37,19 +37,19 @@ std::string sample_report(std::uint64_t seed, int& figures, int& sections) {
             "before that are used.", NoteKind::kWarning);
 
   page.section("Training traces");
-  LineChart traces;
+  TraceChart traces;  // one panel per chain: 1 + 4 <svg> elements
   traces.title = "Potential per chain (sghmc)";
-  traces.x_label = "step";
   traces.y_label = "U / n";
+  traces.burn_in = 1000;
   for (int c = 0; c < 4; ++c) {
     LineSeries s{"chain " + std::to_string(c + 1), {}, {}};
     for (int t = 0; t < 400; ++t) {
       s.x.push_back(t * 10);
-      s.y.push_back(0.3 + 0.6 * std::exp(-t / 40.0) + 0.02 * noise(rng) + 0.01 * c);
+      s.y.push_back(t == 0 ? 40.0 : 0.3 + 0.6 * std::exp(-t / 40.0) + 0.02 * noise(rng) + 0.01 * c);
     }
-    traces.series.push_back(s);
+    traces.chains.push_back(s);
   }
-  page.figure(render_line_chart(traces), "Potential energy per row, every tenth step.");
+  page.figure(render_trace_chart(traces), "Potential energy per row, every tenth step.");
 
   page.section("Scores");
   TextTable scores;
@@ -85,7 +85,8 @@ std::string sample_report(std::uint64_t seed, int& figures, int& sections) {
   }
   page.table(scores, "Held-out rows. Best per column highlighted.");
   page.section("Calibration");
-  page.figure(render_reliability_diagram(reliability), "Reliability, equal-width bins.");
+  // Small multiples, one panel per method: 1 + 5 <svg> elements.
+  page.figure(render_reliability_panels(reliability, 3), "Reliability, equal-width bins.");
   page.figure(render_line_chart(rejection), "Accuracy-rejection curves.");
 
   page.section("Uncertainty of right and wrong predictions");
@@ -121,11 +122,13 @@ std::string sample_report(std::uint64_t seed, int& figures, int& sections) {
     }
     sweep.series.push_back(s);
   }
-  page.figure(render_line_chart(sweep), "A gap in a line marks a diverged run.");
+  sweep.missing = {{0, 0.1}};
+  sweep.missing_label = "every chain diverged";
+  page.figure(render_line_chart(sweep), "A cross marks a learning rate where every chain diverged.");
   page.note("Points missing from a curve are runs that diverged at that step size.");
   page.cautions();
   page.footer("Written by credence 0.1.0.");
-  figures = 6;
+  figures = 6 + 4 + 5;  // six charts, two of them with nested panels
   sections = 8;
   return page.render();
 }
