@@ -122,12 +122,12 @@ TEST(SklearnAgreement, BinaryScoresCurvesAndAuroc) {
   std::vector<std::uint8_t> positive(y.begin(), y.end());
   EXPECT_NEAR(*auroc(q, positive), ref.at("roc_auc")[0], kTolerance);
 
-  const PositiveClassCurve u = positive_class_curve(q, y, 10, CurveEdges::kUniform);
-  expect_all_near(u.prob_true, ref.at("curve_uniform_true"), "uniform prob_true");
-  expect_all_near(u.prob_pred, ref.at("curve_uniform_pred"), "uniform prob_pred");
-  const PositiveClassCurve qc = positive_class_curve(q, y, 10, CurveEdges::kQuantile);
-  expect_all_near(qc.prob_true, ref.at("curve_quantile_true"), "quantile prob_true");
-  expect_all_near(qc.prob_pred, ref.at("curve_quantile_pred"), "quantile prob_pred");
+  const PositiveClassCurve u = positive_class_curve(q, y, 10, CurveEdges::kWidth);
+  expect_all_near(u.observed, ref.at("curve_uniform_true"), "width observed (sklearn uniform)");
+  expect_all_near(u.mean_probability, ref.at("curve_uniform_pred"), "width mean probability");
+  const PositiveClassCurve qc = positive_class_curve(q, y, 10, CurveEdges::kMass);
+  expect_all_near(qc.observed, ref.at("curve_quantile_true"), "mass observed (sklearn quantile)");
+  expect_all_near(qc.mean_probability, ref.at("curve_quantile_pred"), "mass mean probability");
 }
 
 TEST(SklearnAgreement, BinaryLogLossAwayFromZero) {
