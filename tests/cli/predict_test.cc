@@ -104,6 +104,17 @@ TEST_F(Predict, MatchesNumpyFromTheRunFile) {
   EXPECT_EQ(check, 0) << read_text(path("numpy.txt"));
 }
 
+TEST_F(Predict, ThresholdAndPositiveClassAreRefusedForThreeClasses) {
+  // Issue 19: a decision threshold and a positive class belong to two-class targets.
+  for (const std::string flags : {"--threshold 0.3", "--positive-class worn"}) {
+    const std::string out = path("three.csv");
+    auto r = predict(data_, out, flags);
+    EXPECT_EQ(r.exit_code, 2) << flags << "\n" << r.output;
+    EXPECT_NE(r.output.find("two-class"), std::string::npos) << flags << "\n" << r.output;
+    EXPECT_FALSE(std::filesystem::exists(out)) << flags;
+  }
+}
+
 TEST_F(Predict, UncertaintySplitsIntoAleatoricAndEpistemic) {
   // METHODS.md 9.1: H[pbar] = E H + MI for every row (to output rounding, 1e-6).
   const std::string out = path("split.csv");
