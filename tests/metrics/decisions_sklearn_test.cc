@@ -12,6 +12,7 @@
 #include <string>
 
 #include "credence/metrics.h"
+#include "testing/python_reference.h"
 #include "testing/seed.h"
 #include "testing/temp_dir.h"
 
@@ -20,7 +21,7 @@ namespace {
 
 constexpr double kTolerance = 1e-9;
 
-using Reference = std::map<std::string, std::vector<double>>;
+using testing::Reference;
 
 template <typename T>
 void write_binary(const std::filesystem::path& path, const std::vector<T>& values) {
@@ -36,21 +37,7 @@ Reference run_reference(const PositiveScores& s, const std::vector<double>& thre
   write_binary(dir.path() / "positive.u8", s.positive);
   write_binary(dir.path() / "thresholds.f64", thresholds);
   write_binary(dir.path() / "levels.f64", levels);
-  const std::string command = std::string("'") + CREDENCE_PYTHON + "' '" + CREDENCE_SOURCE_DIR +
-                              "/tests/tools/sklearn_decisions.py' '" + dir.path().string() + "'";
-  EXPECT_EQ(std::system(command.c_str()), 0) << command;
-  Reference ref;
-  std::ifstream in(dir.path() / "reference.txt");
-  std::string line;
-  while (std::getline(in, line)) {
-    std::istringstream words(line);
-    std::string name;
-    words >> name;
-    if (name == "sklearn_version") continue;
-    double v = 0;
-    while (words >> v) ref[name].push_back(v);
-  }
-  return ref;
+  return testing::run_python_reference("sklearn_decisions.py", dir.path());
 }
 
 void expect_all_near(const std::vector<double>& got, const std::vector<double>& want,
