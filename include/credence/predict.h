@@ -103,12 +103,12 @@ class EnsembleAverager {
   Eigen::MatrixXd tempered_;        // (K, B) a tempered member, reused
   double interval_level_ = 0;
   std::vector<double> kept_;        // member s's (K, B) probabilities at [s K B, (s+1) K B)
-  mutable std::vector<double> column_;  // the S values of one entry, sorted in finish()
+  mutable std::vector<double> column_;  // the S values of one entry, reordered in finish()
 };
 
 /// The equal-tailed interval of `values` at `level`: numpy.quantile(values, [(1 - level)
-/// / 2, (1 + level) / 2]) with its default 'linear' method (sorted_quantile). Sorts
-/// `values` in place. REQUIRES: values non-empty, 0 < level < 1.
+/// / 2, (1 + level) / 2]) with its default 'linear' method (sorted_quantile), in O(n)
+/// by partial ordering. Reorders `values`. REQUIRES: values non-empty, 0 < level < 1.
 Interval interval_of_members(std::span<double> values, double level);
 
 /// The largest |z| = |x - mean| / scale over the numeric inputs of each encoded row x

@@ -101,10 +101,31 @@ void EnsembleAverager::finish(Prediction& out) const {
   }
 }
 
+namespace {
+// Moves the order statistics floor(h) and floor(h) + 1 of `values`, h = (n - 1) f, to
+// their sorted positions in O(n): all that sorted_quantile reads for 0 < f < 1, so a row's
+// interval costs O(S) instead of a sort.
+void place_order_statistics(std::span<double> values, double f) {
+  const double h = static_cast<double>(values.size() - 1) * f;
+  const auto i = static_cast<std::size_t>(std::floor(h));
+  if (i + 1 >= values.size()) {
+    std::nth_element(values.begin(), values.end() - 1, values.end());
+    return;
+  }
+  const auto at = values.begin() + static_cast<std::ptrdiff_t>(i);
+  std::nth_element(values.begin(), at, values.end());
+  std::iter_swap(at + 1, std::min_element(at + 1, values.end()));
+}
+}  // namespace
+
 Interval interval_of_members(std::span<double> values, double level) {
   assert(!values.empty() && level > 0 && level < 1);
-  std::sort(values.begin(), values.end());
-  return {sorted_quantile(values, (1 - level) / 2), sorted_quantile(values, (1 + level) / 2)};
+  Interval out;
+  place_order_statistics(values, (1 - level) / 2);
+  out.lo = sorted_quantile(values, (1 - level) / 2);
+  place_order_statistics(values, (1 + level) / 2);
+  out.hi = sorted_quantile(values, (1 + level) / 2);
+  return out;
 }
 
 // Standardised inputs are stored as z already, so the distance is read off the encoded

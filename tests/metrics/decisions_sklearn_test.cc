@@ -1,4 +1,4 @@
-// Binary decisions, precision-recall and ROC curves and the per-row interval's quantiles
+// Binary decisions, precision-recall and ROC curves and predict's per-row interval
 // against scikit-learn 1.2.1 and numpy 1.24 on identical numbers
 // (tests/tools/sklearn_decisions.py).
 #include <gtest/gtest.h>
@@ -10,8 +10,10 @@
 #include <random>
 #include <sstream>
 #include <string>
+#include <tuple>
 
 #include "credence/metrics.h"
+#include "credence/predict.h"
 #include "testing/python_reference.h"
 #include "testing/seed.h"
 #include "testing/temp_dir.h"
@@ -119,6 +121,27 @@ TEST(DecisionsSklearn, ConfusionCurvesAreasAndQuantiles) {
   for (std::size_t i = 0; i < levels.size(); ++i) {
     EXPECT_NEAR(sorted_quantile(sorted, levels[i]), want[i], kTolerance) << levels[i];
   }
+  // predict's per-row interval (partial ordering, not a sort) gives the same numbers:
+  // levels 0.9 and 0.95 are the pairs (0.05, 0.95) and (0.025, 0.975) above.
+  for (const auto& [level, lo, hi] : {std::tuple{0.9, 0, 1}, std::tuple{0.95, 2, 3}}) {
+    std::vector<double> values = s.q;
+    const Interval got = interval_of_members(values, level);
+    EXPECT_NEAR(got.lo, want[static_cast<std::size_t>(lo)], kTolerance) << level;
+    EXPECT_NEAR(got.hi, want[static_cast<std::size_t>(hi)], kTolerance) << level;
+  }
+}
+
+TEST(DecisionsSklearn, IntervalOfFewMembers) {
+  // numpy.quantile([3, 1, 2], [0.25, 0.75]) = [1.5, 2.5] (h = 0.5 and 1.5, by hand);
+  // one member: both ends are its value.
+  std::vector<double> three{3, 1, 2};
+  const Interval i = interval_of_members(three, 0.5);
+  EXPECT_DOUBLE_EQ(i.lo, 1.5);
+  EXPECT_DOUBLE_EQ(i.hi, 2.5);
+  std::vector<double> one{0.25};
+  const Interval j = interval_of_members(one, 0.9);
+  EXPECT_EQ(j.lo, 0.25);
+  EXPECT_EQ(j.hi, 0.25);
 }
 
 }  // namespace
