@@ -170,6 +170,9 @@ inline constexpr std::string_view kMissingLevel = "(missing)";
 struct SchemaOptions {
   /// Name of the class column. Required; no default.
   std::string target;
+  /// Two-class targets: the class that decisions, curves and intervals are about (the
+  /// event a risk score predicts). Empty (default): the class that sorts second.
+  std::string positive_class;
   /// Columns treated as categorical even when every value is a number. Default none.
   std::vector<std::string> categorical;
   /// Columns ignored entirely. Default none.

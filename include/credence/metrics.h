@@ -19,6 +19,7 @@
 #include <cstdint>
 #include <optional>
 #include <span>
+#include <string_view>
 #include <vector>
 
 #include "credence/status.h"
@@ -146,6 +147,11 @@ std::vector<double> equal_width_edges(int bins);
 /// Bin 0..M-1 of p in [0, 1]: the number of inner edges strictly below p (NumPy's
 /// searchsorted(edges[1:-1], p, 'left')). REQUIRES: bins >= 1, 0 <= p <= 1.
 int equal_width_bin(double p, int bins);
+/// NumPy's quantile(sorted, f) with its default 'linear' method on values already sorted
+/// ascending: h = (n - 1) f, then sorted[floor h] + (h - floor h) (sorted[floor h + 1] -
+/// sorted[floor h]), interpolated from the nearer end as NumPy 1.24 does.
+/// REQUIRES: sorted non-empty and ascending, 0 <= f <= 1.
+double sorted_quantile(std::span<const double> sorted, double f);
 /// NumPy's percentile(values, q) with its default linear interpolation, q in [0, 100].
 /// REQUIRES: values non-empty. Does not modify `values` (sorts a copy).
 double percentile_linear(std::span<const double> values, double q);
@@ -182,24 +188,26 @@ ReliabilityTable top_label_reliability(ProbsRef probs, LabelSpan labels, int bin
 /// Classwise ECE (1/K) sum_k sum_m (n_mk / n) |freq_mk - conf_mk|, equal-width bins.
 double classwise_ece(ProbsRef probs, LabelSpan labels, int bins);
 
-/// Edge rule of the binary positive-class curve (scikit-learn's calibration_curve).
+/// Edge rule of the positive-class reliability curve.
 enum class CurveEdges {
-  kUniform,   // equal-width edges
-  kQuantile,  // percentile edges of q with linear interpolation
+  kWidth,  // "width": equal-width edges (equal_width_edges)
+  kMass,   // "mass": edges at the percentiles of q (quantile_edges), about equal rows per bin
 };
 
-/// Fraction of positives against mean P(positive) per non-empty bin, in bin order, as
-/// scikit-learn's calibration_curve(y, q, n_bins=M, strategy=...) returns them.
+/// Observed rate of the positive class against mean P(positive) per non-empty bin, in bin
+/// order (the same numbers as scikit-learn's calibration_curve(y, q, n_bins=M) with its
+/// uniform and quantile strategies).
 struct PositiveClassCurve {
-  std::vector<double> edges;         // M + 1 edges used
-  std::vector<double> prob_true;     // per non-empty bin: mean [y == 1]
-  std::vector<double> prob_pred;     // per non-empty bin: mean q
-  std::vector<std::int64_t> counts;  // per non-empty bin: rows
+  std::vector<double> edges;            // M + 1 edges used
+  std::vector<double> observed;         // per non-empty bin: mean [y == positive]
+  std::vector<double> mean_probability; // per non-empty bin: mean q
+  std::vector<std::int64_t> counts;     // per non-empty bin: rows
 };
 
-/// REQUIRES: q in [0, 1], labels in {0, 1}, q.size() == labels.size() >= 1, bins >= 1.
+/// REQUIRES: q in [0, 1], labels in {0, 1} (1: positive), q.size() == labels.size() >= 1,
+/// bins >= 1.
 PositiveClassCurve positive_class_curve(std::span<const double> q, LabelSpan labels, int bins,
-                                        CurveEdges edges = CurveEdges::kUniform);
+                                        CurveEdges edges = CurveEdges::kWidth);
 
 // ---------------------------------------------------------------------------------------
 // AUROC and selective prediction (METHODS.md 9.5)
@@ -242,6 +250,128 @@ RejectionCurve accuracy_rejection(std::span<const double> uncertainty,
 
 /// [pred_i == y_i] per row (ties: lowest class index). (n)
 std::vector<std::uint8_t> correct_predictions(ProbsRef probs, LabelSpan labels);
+
+// ---------------------------------------------------------------------------------------
+// Binary decisions and their curves (src/metrics/decisions.cc, curves.cc)
+//
+// One class is the positive one (the event a risk score is about); a row is called
+// positive when its probability q of that class is at least a threshold t: q >= t.
+
+/// P(positive) and the truth [y == positive] per row. (n) each.
+struct PositiveScores {
+  std::vector<double> q;
+  std::vector<std::uint8_t> positive;
+};
+/// REQUIRES: probs (K, n), labels (n) in [0, K), 0 <= positive_class < K.
+PositiveScores positive_scores(ProbsRef probs, LabelSpan labels, int positive_class);
+
+/// Rows by truth and decision at one threshold.
+struct ConfusionCounts {
+  std::int64_t true_positive = 0;
+  std::int64_t false_positive = 0;
+  std::int64_t true_negative = 0;
+  std::int64_t false_negative = 0;
+};
+
+/// The confusion counts at threshold t and the rates read from them. A rate whose
+/// denominator is 0 is NaN (it is undefined, not 0).
+struct DecisionScores {
+  double threshold = 0.5;
+  ConfusionCounts counts;
+  double sensitivity = 0;  // TP / (TP + FN), also recall or true positive rate
+  double specificity = 0;  // TN / (TN + FP)
+  double ppv = 0;          // TP / (TP + FP), positive predictive value (precision)
+  double npv = 0;          // TN / (TN + FN), negative predictive value
+  double f1 = 0;           // 2 TP / (2 TP + FP + FN)
+};
+
+/// Decisions q >= threshold against the truth. REQUIRES: q.size() == positive.size().
+DecisionScores decide_at(std::span<const double> q, std::span<const std::uint8_t> positive,
+                         double threshold);
+
+/// How a decision threshold is chosen.
+enum class ThresholdRule {
+  kFixed,        // the threshold given
+  kCost,         // least total cost cost_fp * FP + cost_fn * FN on the rows given
+  kSensitivity,  // the highest threshold whose sensitivity reaches the target
+};
+/// "fixed" / "cost" / "sensitivity".
+std::string_view threshold_rule_name(ThresholdRule rule);
+
+struct ThresholdSettings {
+  ThresholdRule rule = ThresholdRule::kFixed;
+  double threshold = 0.5;           // kFixed, in (0, 1)
+  double cost_fp = 1;               // kCost: cost of one false positive, > 0
+  double cost_fn = 1;               // kCost: cost of one false negative, > 0
+  double target_sensitivity = 0.9;  // kSensitivity, in (0, 1]
+};
+
+/// A chosen threshold and how it did on the rows it was chosen on.
+struct ThresholdChoice {
+  ThresholdSettings settings;
+  double threshold = 0.5;
+  DecisionScores on_choice_rows;   // at `threshold`, on the rows it was chosen on
+  double mean_cost = 0;            // kCost: (cost_fp FP + cost_fn FN) / n on those rows
+};
+
+/// Chooses a threshold on labelled rows (validation rows, never the rows it is then
+/// reported on). Candidate cuts lie between neighbouring distinct values of q: a cut that
+/// calls the rows with q >= s_j positive sits halfway between s_j and the next lower
+/// distinct value (s_j / 2 below the lowest), and above every row at (s_max + 1) / 2, so
+/// a new row between two validation values is decided by the nearer neighbour. Ties in
+/// cost go to the higher threshold. kFixed needs no rows. kInvalidInput for settings out
+/// of range, no rows, or (kSensitivity) no positive row.
+Result<ThresholdChoice> choose_threshold(std::span<const double> q,
+                                         std::span<const std::uint8_t> positive,
+                                         const ThresholdSettings& settings);
+
+/// Precision against recall over every distinct threshold, from the highest threshold
+/// down. Point 0 is the convention (recall 0, precision 1, threshold +inf); point j >= 1
+/// calls positive the rows with q >= thresholds[j], the j-th largest distinct q. Reversed,
+/// these are scikit-learn's precision_recall_curve arrays.
+struct PrecisionRecallCurve {
+  std::vector<double> thresholds;
+  std::vector<double> precision;
+  std::vector<double> recall;
+  /// Average precision sum_j (recall_j - recall_{j-1}) precision_j, a step-wise area
+  /// under the curve with no interpolation (scikit-learn's average_precision_score).
+  double average_precision = 0;
+};
+/// Empty when no row is positive (recall is undefined). REQUIRES: equal sizes, q not NaN.
+std::optional<PrecisionRecallCurve> precision_recall_curve(std::span<const double> q,
+                                                           std::span<const std::uint8_t> positive);
+
+/// The ROC curve: false and true positive rates from the highest threshold down, starting
+/// at (0, 0) with threshold +inf. Points on a straight segment between their neighbours
+/// are dropped (they change neither the shape nor the area), as scikit-learn's roc_curve
+/// does by default.
+struct RocCurve {
+  std::vector<double> thresholds;
+  std::vector<double> false_positive_rate;
+  std::vector<double> true_positive_rate;
+  double area = 0;  // trapezoid rule: the AUROC, ties counting one half
+};
+/// Empty when every row is positive or every row negative. REQUIRES: as above.
+std::optional<RocCurve> roc_curve(std::span<const double> q,
+                                  std::span<const std::uint8_t> positive,
+                                  bool drop_collinear = true);
+
+/// The decisions of one two-class assessment: a threshold chosen on some rows (the
+/// validation rows) and reported on others (the scored rows), with the curves.
+struct DecisionReport {
+  ThresholdChoice choice;
+  std::int64_t choice_rows = 0;  // rows the threshold was chosen on; 0 for a fixed one
+  DecisionScores at_threshold;   // on the scored rows
+  std::vector<DecisionScores> operating_points;  // at 0.1, 0.2, ..., 0.9 on the scored rows
+  std::optional<PrecisionRecallCurve> precision_recall;  // on the scored rows
+  std::optional<RocCurve> roc;                           // on the scored rows
+};
+/// Chooses the threshold on `choice` (ignored, and may be null, for a fixed threshold)
+/// and scores `scored` at it. Errors: as choose_threshold, and kInvalidInput when a rule
+/// needs rows to choose on and `choice` is null.
+Result<DecisionReport> report_decisions(const PositiveScores& scored,
+                                        const PositiveScores* choice,
+                                        const ThresholdSettings& settings);
 
 // ---------------------------------------------------------------------------------------
 // Temperature scaling (METHODS.md 9.4)
@@ -324,6 +454,7 @@ struct AssessSettings {
   int bins = 15;                // M for equal-width and equal-mass ECE/MCE and the tables
   int classwise_bins = 15;      // M for classwise ECE
   int curve_bins = 10;          // M for the binary positive-class curves
+  int positive_class = 1;       // K == 2: the class whose probability the curves follow
   BootstrapSettings bootstrap;  // resamples = 0 skips the intervals
 };
 
@@ -338,8 +469,8 @@ struct Assessment {
   ReliabilityTable width_bins;                             // equal width, settings.bins
   ReliabilityTable mass_bins;                              // equal mass, settings.bins
   double classwise_ece = 0;                                // settings.classwise_bins
-  std::optional<PositiveClassCurve> curve_uniform;         // K == 2 only
-  std::optional<PositiveClassCurve> curve_quantile;        // K == 2 only
+  std::optional<PositiveClassCurve> curve_width;           // K == 2 only, positive class
+  std::optional<PositiveClassCurve> curve_mass;            // K == 2 only, positive class
   OneVsRestAuroc class_auroc;                              // p_k against [y == k]
   std::optional<double> misclassification_auroc;           // positive = correct, score = conf
   RejectionCurve rejection_by_confidence;                  // ranks by -conf

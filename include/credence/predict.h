@@ -29,6 +29,7 @@
 
 #include "credence/data.h"
 #include "credence/metrics.h"
+#include "credence/named_arrays.h"
 #include "credence/net.h"
 #include "credence/status.h"
 
@@ -47,6 +48,15 @@ struct Prediction {
   Eigen::VectorXd mutual_information;   // (B) MI = H - E H >= 0 (epistemic)
   std::vector<std::int32_t> predicted;  // (B) argmax_k pbar_k; ties go to the lowest index
   Eigen::VectorXd confidence;           // (B) pbar of the predicted class
+  /// (K, B) each, when EnsembleAverager::set_interval gave a level: the equal-tailed
+  /// interval of each class's probability over the members (interval_of_members).
+  Eigen::MatrixXd interval_lo;
+  Eigen::MatrixXd interval_hi;
+  /// (B) How far each encoded row lies from the training rows (input_distance): the
+  /// largest |z| over its numeric inputs, and how many categorical inputs hold a category
+  /// the training rows never showed (encoded as all zeros).
+  Eigen::VectorXd farthest_z;
+  Eigen::VectorXi unseen_inputs;
   /// Rows whose H - E H came out negative from rounding and were set to 0.
   std::int64_t clamped = 0;
   /// Unseen categories encoded as zeros (UnseenPolicy::kIgnore), per column; filled by
@@ -76,6 +86,10 @@ class EnsembleAverager {
   void add_member(const Eigen::Ref<const Eigen::MatrixXd>& log_probs);
   /// Members added since reset().
   std::int64_t members() const { return accumulator_.members(); }
+  /// Also keep every member's probabilities so that finish() writes the equal-tailed
+  /// interval at `level` of each class's probability (Prediction::interval_lo, _hi).
+  /// 0 (the default) turns it off. REQUIRES: 0 <= level < 1.
+  void set_interval(double level) { interval_level_ = level; }
   /// Writes the average and the uncertainty split into `out` (resized to (K, B)).
   /// REQUIRES: members() >= 1.
   void finish(Prediction& out) const;
@@ -87,11 +101,44 @@ class EnsembleAverager {
   mutable UncertaintySplit split_;  // finish()'s buffers, reused block after block
   double temperature_ = 1.0;
   Eigen::MatrixXd tempered_;        // (K, B) a tempered member, reused
+  double interval_level_ = 0;
+  std::vector<double> kept_;        // member s's (K, B) probabilities at [s K B, (s+1) K B)
+  mutable std::vector<double> column_;  // the S values of one entry, reordered in finish()
 };
+
+/// The equal-tailed interval of `values` at `level`: numpy.quantile(values, [(1 - level)
+/// / 2, (1 + level) / 2]) with its default 'linear' method (sorted_quantile), in O(n)
+/// by partial ordering. Reorders `values`. REQUIRES: values non-empty, 0 < level < 1.
+Interval interval_of_members(std::span<double> values, double level);
+
+/// The largest |z| = |x - mean| / scale over the numeric inputs of each encoded row x
+/// (D, B), and the count of its categorical inputs encoded as all zeros (a category the
+/// training rows never showed, under UnseenPolicy::kIgnore). Constant training columns
+/// (scale 1, mean subtracted) count too: any value but the constant lies outside them.
+void input_distance(const Preprocessing& preprocessing, const Eigen::Ref<const Eigen::MatrixXf>& x,
+                    Eigen::VectorXd& farthest_z, Eigen::VectorXi& unseen_inputs);
 
 /// `wanted` indices spread evenly over 0..available-1 (floor(i * available / wanted)),
 /// in increasing order; every index when wanted is 0 or >= available.
 std::vector<Index> spread_samples(Index available, Index wanted);
+
+// ---------------------------------------------------------------------------------------
+// The positive class of a two-class run: the event that thresholds, decisions, curves
+// and per-row intervals are about.
+
+struct PositiveClass {
+  int index = 1;       // into Preprocessing::class_names
+  std::string name;
+  std::string chosen_by;  // "--positive-class", "the run's setting", or the default's words
+};
+
+/// `requested` when given (a class name); else the run's setting `positive_class`
+/// (train --positive-class); else class 1, the class that sorts second. Empty for a run
+/// with more than two classes when nothing is requested. kInvalidInput naming the classes
+/// when a name is not one of them, or is given for a run with more than two classes.
+Result<std::optional<PositiveClass>> resolve_positive_class(
+    const Preprocessing& preprocessing, const Settings& settings,
+    const std::optional<std::string>& requested);
 
 // ---------------------------------------------------------------------------------------
 // Predictor: a kept ensemble ready to predict.
@@ -215,6 +262,21 @@ struct PredictCsvOptions {
   std::optional<double> flag_above;
   /// The uncertainty compared with flag_above. Default: predictive entropy.
   FlagBy flag_by = FlagBy::kEntropy;
+  /// Input columns passed through after the id columns, as written (--keep). A name the
+  /// input lacks is an error. Default none.
+  std::vector<std::string> keep_columns;
+  /// Two classes only: the class whose probability the threshold and the interval follow
+  /// (resolve_positive_class). Default 1, the class that sorts second.
+  int positive_class = 1;
+  /// Two classes only: `predicted` is the positive class where its probability is at
+  /// least this, else the other class. Empty (default): the most probable class.
+  std::optional<double> threshold;
+  /// Level of the per-row credible interval of the positive class's probability (each
+  /// class's, for more than two) across kept samples; 0 writes none. Default 0.90.
+  double interval_level = 0.90;
+  /// A row is marked `outside` when its farthest_z exceeds this or it holds an unseen
+  /// category. Default 10 (docs/predictions-csv.md: measured on shipped tables).
+  double outside_z = 10;
   /// Bytes of CSV read and parsed at a time (whole records). Default 4 MiB: a parsed
   /// piece takes about ten times its bytes (numbers, interned text, line starts), so
   /// predict's peak stays near 75 MB whatever the file's length.
@@ -227,6 +289,8 @@ struct PredictCsvSummary {
   Index samples = 0;                         // kept samples averaged
   std::int64_t flagged = 0;                  // rows with refer = 1
   std::int64_t clamped = 0;                  // rows whose MI was clamped to 0 (rounding)
+  std::int64_t outside = 0;                  // rows marked outside the training range
+  bool row_numbers = false;                  // a `row` column was written (no id column)
   std::vector<std::string> id_columns;       // passed through
   bool target_passed = false;                // the target column was passed through
   std::vector<std::string> ignored_columns;  // input columns the model does not use

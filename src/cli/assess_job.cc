@@ -146,6 +146,12 @@ Result<AssessJobResult> run_assess_job(const RunReader& run, const std::string& 
   if (options.unseen) pre.unseen = *options.unseen;
   AssessJobResult result;
   result.class_names = pre.class_names;
+  Result<std::optional<PositiveClass>> positive =
+      resolve_positive_class(pre, header.settings, options.positive_class);
+  if (!positive.ok()) return positive.status();
+  result.positive = *positive;
+  AssessJobOptions job = options;
+  if (result.positive) job.metrics.positive_class = result.positive->index;
 
   Result<std::string> sha = file_sha256_hex(data_path);
   if (!sha.ok()) {
@@ -219,9 +225,35 @@ Result<AssessJobResult> run_assess_job(const RunReader& run, const std::string& 
   Result<Eigen::MatrixXf> x = transform_rows(pre, *table, result.rows);
   if (!x.ok()) return x.status();
   const double base_temperature = options.fit_temperature ? 1.0 : predictor->temperature();
-  Result<ScoredEnsemble> scored = score(*predictor, *x, result.labels, base_temperature, options);
+  Result<ScoredEnsemble> scored = score(*predictor, *x, result.labels, base_temperature, job);
   if (!scored.ok()) return scored.status();
   result.scored = std::move(*scored);
+  if (result.positive) {
+    // The threshold is chosen on the validation rows, never on the rows it is scored on.
+    std::optional<PositiveScores> on_val;
+    if (job.threshold.rule != ThresholdRule::kFixed && result.data_matches_run &&
+        !header.val_rows.empty()) {
+      Result<Eigen::MatrixXf> x_val = transform_rows(pre, *table, header.val_rows);
+      if (!x_val.ok()) return x_val.status();
+      const std::vector<std::int32_t> y_val = pick(*labels, header.val_rows);
+      EvaluateOptions evaluate;
+      evaluate.temperature = base_temperature;
+      Result<EnsembleEvaluation> val = evaluate_ensemble(*predictor, *x_val, y_val, evaluate);
+      if (!val.ok()) return val.status();
+      on_val = positive_scores(val->split.log_mean.array().exp().matrix(), y_val,
+                               result.positive->index);
+    }
+    Result<DecisionReport> decisions = report_decisions(
+        positive_scores(result.scored.split.log_mean.array().exp().matrix(), result.labels,
+                        result.positive->index),
+        on_val ? &*on_val : nullptr, job.threshold);
+    if (!decisions.ok()) return decisions.status();
+    result.decisions = std::move(*decisions);
+  } else if (job.threshold.rule != ThresholdRule::kFixed || job.threshold.threshold != 0.5) {
+    return Status::invalid_input(fmt::format(
+        "decision thresholds apply to two-class targets; '{}' has {} classes", pre.target,
+        pre.class_names.size()));
+  }
 
   std::optional<Eigen::MatrixXd> truth;
   if (!options.truth_path.empty()) {
@@ -255,7 +287,7 @@ Result<AssessJobResult> run_assess_job(const RunReader& run, const std::string& 
                             header.val_rows.size(), kFewTemperatureRows));
     }
     Result<ScoredEnsemble> calibrated =
-        score(*predictor, *x, result.labels, fit->temperature, options);
+        score(*predictor, *x, result.labels, fit->temperature, job);
     if (!calibrated.ok()) return calibrated.status();
     result.calibrated = std::move(*calibrated);
     if (truth) {

@@ -31,6 +31,8 @@ struct AssessJobOptions {
   bool fit_temperature = false;         // fit tau on the validation rows and score both
   std::string truth_path;               // synth truth file (p_<class> per data row)
   std::optional<UnseenPolicy> unseen;   // empty: the run's own policy
+  std::optional<std::string> positive_class;  // two classes; empty: the run's, else the second
+  ThresholdSettings threshold;          // two classes: how the decision threshold is chosen
 };
 
 /// The true class probabilities of the scored rows, compared with the model's.
@@ -62,6 +64,8 @@ struct AssessJobResult {
   std::optional<TemperatureFit> fit; // when fit_temperature
   std::optional<ScoredEnsemble> calibrated;  // scored at the fitted temperature
   std::int64_t val_rows = 0;         // rows the temperature was fitted on
+  std::optional<PositiveClass> positive;     // two classes only
+  std::optional<DecisionReport> decisions;   // two classes only, of `scored`
 };
 
 /// Runs the whole assessment. Errors: kInvalidInput (exit 2) for a bad data file, a

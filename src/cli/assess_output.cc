@@ -6,6 +6,7 @@
 #include <cmath>
 #include <iterator>
 
+#include "cli/decision_output.h"
 #include "cli/json.h"
 #include "credence/html_report.h"
 #include "credence/plot.h"
@@ -38,7 +39,8 @@ std::string member_cell(const std::vector<MemberScores>& members, double MemberS
   return fmt::format("{} ± {}", num(m.mean), num(m.sd));
 }
 
-void metrics_block(std::string& out, const ScoredEnsemble& s, Binning binning, int bins) {
+void metrics_block(std::string& out, const ScoredEnsemble& s, Binning binning, int bins,
+                   const std::string& positive) {
   auto o = std::back_inserter(out);
   const Assessment& a = s.metrics;
   const bool ensemble = s.members.size() >= 2;
@@ -52,7 +54,10 @@ void metrics_block(std::string& out, const ScoredEnsemble& s, Binning binning, i
       member_cell(s.members, &MemberScores::nll));
   row("brier", a.brier, interval(a.intervals, &BootstrapIntervals::brier),
       member_cell(s.members, &MemberScores::brier));
-  if (a.brier_binary) row("brier (positive class)", *a.brier_binary, "", "");
+  if (a.brier_binary) {
+    row(positive.empty() ? "brier (positive class)" : fmt::format("brier of P({})", positive),
+        *a.brier_binary, "", "");
+  }
   const std::string ece_name = fmt::format("ece ({}, {} bins)", binning_words(binning), bins);
   const ReliabilityTable& head = headline_table(a, binning);
   row(ece_name, head.ece, interval(a.intervals, &BootstrapIntervals::ece),
@@ -115,6 +120,10 @@ void uncertainty_block(std::string& out, const ScoredEnsemble& s) {
 
 // --- JSON ---
 
+const std::string* positive_name(const AssessJobResult& r) {
+  return r.positive ? &r.positive->name : nullptr;
+}
+
 void json_table(JsonWriter& j, const ReliabilityTable& t) {
   j.begin_object();
   j.key("bins").value(t.bins);
@@ -141,17 +150,8 @@ void json_rejection(JsonWriter& j, const RejectionCurve& c) {
   j.end_object();
 }
 
-void json_curve(JsonWriter& j, const PositiveClassCurve& c) {
-  j.begin_object();
-  j.key("edges").numbers(c.edges);
-  j.key("prob_true").numbers(c.prob_true);
-  j.key("prob_pred").numbers(c.prob_pred);
-  j.key("counts").numbers(c.counts);
-  j.end_object();
-}
-
 void json_scored(JsonWriter& j, const ScoredEnsemble& s, const std::vector<std::string>& classes,
-                 Binning binning) {
+                 Binning binning, const std::string* positive) {
   const Assessment& a = s.metrics;
   j.begin_object();
   j.key("temperature").value(s.temperature);
@@ -206,14 +206,7 @@ void json_scored(JsonWriter& j, const ScoredEnsemble& s, const std::vector<std::
   j.key("mass");
   json_table(j, a.mass_bins);
   j.end_object();
-  if (a.curve_uniform && a.curve_quantile) {
-    j.key("positive_class_curve").begin_object();
-    j.key("uniform");
-    json_curve(j, *a.curve_uniform);
-    j.key("quantile");
-    json_curve(j, *a.curve_quantile);
-    j.end_object();
-  }
+  if (positive) positive_curve_json(j, a, *positive);
   j.key("rejection").begin_object();
   j.key("entropy");
   json_rejection(j, a.rejection_by_entropy);
@@ -240,6 +233,9 @@ std::string assess_text(const AssessJobResult& r, const AssessHeadline& h) {
   auto o = std::back_inserter(out);
   std::string classes;
   for (const std::string& c : r.class_names) classes += (classes.empty() ? "" : ", ") + c;
+  if (r.positive) {
+    classes += fmt::format("; positive: {}, {}", r.positive->name, r.positive->chosen_by);
+  }
   fmt::format_to(o, "assess {} on {}: {} split, {} rows, {} classes ({}), {} kept sample{}{}\n\n",
                  h.run_path, h.data_path, r.split_name, r.rows.size(), r.class_names.size(),
                  classes, r.samples, r.samples == 1 ? "" : "s",
@@ -247,9 +243,10 @@ std::string assess_text(const AssessJobResult& r, const AssessHeadline& h) {
                      ? fmt::format(", temperature {:.4g}", r.scored.temperature)
                      : "");
   const int bins = headline_table(r.scored.metrics, h.binning).bins;
-  metrics_block(out, r.scored, h.binning, bins);
+  metrics_block(out, r.scored, h.binning, bins, r.positive ? r.positive->name : "");
   uncertainty_block(out, r.scored);
   reliability_block(out, headline_table(r.scored.metrics, h.binning));
+  decision_text(out, r);
   rejection_block(out, r.scored.metrics);
   if (r.fit && r.calibrated) {
     fmt::format_to(o,
@@ -258,7 +255,7 @@ std::string assess_text(const AssessJobResult& r, const AssessHeadline& h) {
                    r.val_rows, r.fit->temperature,
                    r.fit->at_bound ? " (at the search bound)" : "", num(r.fit->nll_before),
                    num(r.fit->nll_after));
-    metrics_block(out, *r.calibrated, h.binning, bins);
+    metrics_block(out, *r.calibrated, h.binning, bins, r.positive ? r.positive->name : "");
   }
   fmt::format_to(o, "\n{}\n", cautions_text());
   return out;
@@ -294,7 +291,7 @@ std::string assess_json(const AssessJobResult& r, const AssessHeadline& h) {
   j.key("samples").value(r.samples);
   j.key("binning").value(binning_name(h.binning));
   j.key("metrics");
-  json_scored(j, r.scored, r.class_names, h.binning);
+  json_scored(j, r.scored, r.class_names, h.binning, positive_name(r));
   if (r.fit && r.calibrated) {
     j.key("temperature_scaling").begin_object();
     j.key("temperature").value(r.fit->temperature);
@@ -303,9 +300,10 @@ std::string assess_json(const AssessJobResult& r, const AssessHeadline& h) {
     j.key("validation_nll_after").value(r.fit->nll_after);
     j.key("at_bound").value(r.fit->at_bound);
     j.key("metrics");
-    json_scored(j, *r.calibrated, r.class_names, h.binning);
+    json_scored(j, *r.calibrated, r.class_names, h.binning, positive_name(r));
     j.end_object();
   }
+  decision_json(j, r);
   j.key("cautions").value(cautions_text());
   j.end_object();
   return j.str();

@@ -2,6 +2,7 @@
 #include <fmt/chrono.h>
 #include <fmt/format.h>
 
+#include <cmath>
 #include <cstdio>
 #include <ctime>
 
@@ -37,8 +38,49 @@ struct AssessFlags {
   std::optional<double> temperature;
   std::optional<std::string> unseen;  // overrides the run's unseen-category policy
   std::string truth_path;
+  std::optional<std::string> positive_class;
+  std::optional<double> threshold;
+  std::optional<double> cost_fp;
+  std::optional<double> cost_fn;
+  std::optional<double> target_sensitivity;
   std::string max_memory;  // --max-memory; empty: the default share of physical memory
 };
+
+// At most one rule: a fixed --threshold, costs, or a target sensitivity.
+Status threshold_rule(const AssessFlags& flags, ThresholdSettings& t) {
+  const bool cost = flags.cost_fp || flags.cost_fn;
+  if ((flags.threshold ? 1 : 0) + (cost ? 1 : 0) + (flags.target_sensitivity ? 1 : 0) > 1) {
+    return Status::invalid_input(
+        "give one way to set the decision threshold: --threshold P, or --cost-fp and "
+        "--cost-fn, or --target-sensitivity S");
+  }
+  if (flags.threshold) {
+    if (!(*flags.threshold > 0 && *flags.threshold < 1)) {
+      return Status::invalid_input(fmt::format(
+          "--threshold {}: give a probability strictly between 0 and 1, e.g. 0.3",
+          *flags.threshold));
+    }
+    t.threshold = *flags.threshold;
+  } else if (cost) {
+    t.rule = ThresholdRule::kCost;
+    t.cost_fp = flags.cost_fp.value_or(1.0);
+    t.cost_fn = flags.cost_fn.value_or(1.0);
+    if (!(t.cost_fp > 0 && std::isfinite(t.cost_fp) && t.cost_fn > 0 &&
+          std::isfinite(t.cost_fn))) {
+      return Status::invalid_input(fmt::format(
+          "--cost-fp {} --cost-fn {}: give two positive costs (the one not given is 1)",
+          t.cost_fp, t.cost_fn));
+    }
+  } else if (flags.target_sensitivity) {
+    t.rule = ThresholdRule::kSensitivity;
+    t.target_sensitivity = *flags.target_sensitivity;
+    if (!(t.target_sensitivity > 0 && t.target_sensitivity <= 1)) {
+      return Status::invalid_input(fmt::format(
+          "--target-sensitivity {}: give a fraction in (0, 1], e.g. 0.9", t.target_sensitivity));
+    }
+  }
+  return Status::ok_status();
+}
 
 Result<AssessJobOptions> job_options(const AssessFlags& flags) {
   AssessJobOptions o;
@@ -87,6 +129,8 @@ Result<AssessJobOptions> job_options(const AssessFlags& flags) {
     return Status::invalid_input("give either --temperature (a fixed value) or "
                                  "--temperature-scale (fit one), not both");
   }
+  CREDENCE_RETURN_IF_ERROR(threshold_rule(flags, o.threshold));
+  o.positive_class = flags.positive_class;
   o.metrics.bins = flags.bins;
   o.metrics.classwise_bins = flags.bins;
   o.metrics.curve_bins = flags.bins;
@@ -203,6 +247,23 @@ void add_assess_command(CLI::App& app, const GlobalOptions& global, CommandList&
                   "default: the policy the run was trained with");
   sub->add_option("--truth", flags->truth_path,
                   "A synth truth file: also score the probabilities against the true ones");
+  sub->add_option("--positive-class", flags->positive_class,
+                  "Two classes: the class decisions and curves are about (default: the run's, "
+                  "else the class that sorts second)")
+      ->group("Decisions");
+  sub->add_option("--threshold", flags->threshold,
+                  "Decide 'positive' where its probability is at least P (default 0.5)")
+      ->group("Decisions");
+  sub->add_option("--cost-fp", flags->cost_fp,
+                  "Cost of a false positive: choose the threshold of least total cost on the "
+                  "run's validation rows (with --cost-fn; the one not given is 1)")
+      ->group("Decisions");
+  sub->add_option("--cost-fn", flags->cost_fn, "Cost of a false negative (see --cost-fp)")
+      ->group("Decisions");
+  sub->add_option("--target-sensitivity", flags->target_sensitivity,
+                  "Choose the highest threshold whose sensitivity on the run's validation rows "
+                  "reaches S")
+      ->group("Decisions");
   add_max_memory_option(*sub, flags->max_memory);
   commands.push_back({sub, [flags, &global] { return run_assess(*flags, global); }});
 }

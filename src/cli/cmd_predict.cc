@@ -30,6 +30,11 @@ struct PredictFlags {
   std::string flag_by = "entropy";
   std::optional<double> temperature;
   std::optional<std::string> unseen;  // overrides the run's unseen-category policy
+  std::optional<std::string> positive_class;
+  std::optional<double> threshold;
+  double interval = 0.90;
+  std::vector<std::string> keep;
+  double outside_above = 10;
   std::string max_memory;  // --max-memory; empty: the default share of physical memory
 };
 
@@ -68,6 +73,25 @@ Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
   }
   options.flag_above = flags.flag_above;
   options.id_columns = flags.id;
+  options.keep_columns = flags.keep;
+  if (flags.threshold && !(*flags.threshold > 0 && *flags.threshold < 1)) {
+    return Status::invalid_input(fmt::format(
+        "--threshold {}: give a probability strictly between 0 and 1, e.g. 0.3",
+        *flags.threshold));
+  }
+  options.threshold = flags.threshold;
+  if (!(flags.interval > 0 && flags.interval < 1) && flags.interval != 0) {
+    return Status::invalid_input(fmt::format(
+        "--interval {}: give a level strictly between 0 and 1, e.g. 0.9 (0: no interval)",
+        flags.interval));
+  }
+  options.interval_level = flags.interval;
+  if (!(flags.outside_above > 0 && std::isfinite(flags.outside_above))) {
+    return Status::invalid_input(fmt::format(
+        "--outside-above {}: give a positive number of training standard deviations, e.g. 10",
+        flags.outside_above));
+  }
+  options.outside_z = flags.outside_above;
 
 #ifdef CREDENCE_HAVE_BLAS
   // Blocks run in parallel with OpenMP; BLAS threads inside each would fight them
@@ -82,6 +106,15 @@ Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
                run_status_name(status));
   }
   options.read = stored_read_options(header);
+  Result<std::optional<PositiveClass>> positive =
+      resolve_positive_class(header.preprocessing, header.settings, flags.positive_class);
+  if (!positive.ok()) return Status(positive.status().code(), flags.run_path + ": " + positive.status().message());
+  if (flags.threshold && !*positive) {
+    return Status::invalid_input(fmt::format(
+        "--threshold: a decision threshold applies to two-class targets; '{}' has {} classes",
+        header.preprocessing.target, header.preprocessing.class_names.size()));
+  }
+  if (*positive) options.positive_class = (*positive)->index;
   // Rows are streamed in blocks, so the ensemble and the block workspaces are the peak.
   CREDENCE_RETURN_IF_ERROR(
       check_ensemble_memory(**run, flags.run_path, flags.samples, "", flags.max_memory));
@@ -121,11 +154,26 @@ Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
       line += fmt::format("; {} rows flagged for referral ({} > {})", done->flagged,
                           flag_by_name(options.flag_by), *options.flag_above);
     }
+    if (*positive) {
+      line += fmt::format("; positive class '{}' ({})", (*positive)->name, (*positive)->chosen_by);
+      line += options.threshold
+                  ? fmt::format(", predicted where P({}) >= {}", (*positive)->name,
+                                *options.threshold)
+                  : std::string(", predicted: the more probable class");
+    }
+    if (done->row_numbers) line += "; no id column, so a 'row' column numbers the data rows";
     if (done->clamped > 0) {
       line += fmt::format("; mutual information rounded below 0 and set to 0 in {} rows",
                           done->clamped);
     }
     std::fprintf(stderr, "%s\n", line.c_str());
+  }
+  if (done->outside > 0) {
+    log().warn(
+        "{}: {} of {} rows lie outside the training range (an input more than {} training "
+        "standard deviations from its mean, or a category training never showed; column "
+        "'outside'). Their probabilities and doubt are extrapolations: check these rows",
+        flags.data_path, done->outside, done->rows, options.outside_z);
   }
   return Status::ok_status();
 }
@@ -158,6 +206,22 @@ void add_predict_command(CLI::App& app, const GlobalOptions& global, CommandList
   sub->add_option("--unseen", flags->unseen,
                   "A category the training rows never showed: error, or ignore (all zeros, "
                   "one warning per column); default: the policy the run was trained with");
+  sub->add_option("--positive-class", flags->positive_class,
+                  "Two classes: the class the threshold and the interval are about (default: "
+                  "the run's, else the class that sorts second)");
+  sub->add_option("--threshold", flags->threshold,
+                  "Two classes: 'predicted' is the positive class where its probability is at "
+                  "least P (default: the more probable class)");
+  sub->add_option("--interval", flags->interval,
+                  "Level of each row's credible interval of the positive class's probability "
+                  "(of every class's, for more classes) across kept samples; 0: none")
+      ->capture_default_str();
+  sub->add_option("--keep", flags->keep, "Input columns passed through to the output")
+      ->delimiter(',');
+  sub->add_option("--outside-above", flags->outside_above,
+                  "Mark a row 'outside' when an input lies more than Z training standard "
+                  "deviations from its mean (or holds an unseen category)")
+      ->capture_default_str();
   add_max_memory_option(*sub, flags->max_memory);
   commands.push_back({sub, [flags, &global] { return run_predict(*flags, global); }});
 }

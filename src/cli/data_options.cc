@@ -10,6 +10,10 @@ void add_data_options(CLI::App& command, DataFlags& flags) {
   // Required, but checked in resolve_data_options: `train --resume` takes it from the run.
   command.add_option("--target", o.schema.target, "Class column, by name (required)")
       ->group("Data");
+  command.add_option("--positive-class", o.schema.positive_class,
+                     "Two classes: the class decisions, curves and intervals are about "
+                     "(default: the class that sorts second)")
+      ->group("Data");
   command.add_option("--delimiter", flags.delimiter, "Field separator: one character, or 'tab'")
       ->capture_default_str()
       ->group("Data");

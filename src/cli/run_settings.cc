@@ -240,6 +240,10 @@ Settings to_values(const TrainSettings& settings, const DataOptions& data) {
   // Data flags are recorded for provenance only; resume uses the stored split and
   // preprocessing.
   values.emplace_back("data_target", data.schema.target);
+  // Read by resolve_positive_class; absent means the default (the class sorting second).
+  if (!data.schema.positive_class.empty()) {
+    values.emplace_back("positive_class", data.schema.positive_class);
+  }
   values.emplace_back("data_split_seed", static_cast<std::int64_t>(data.split.seed));
   values.emplace_back("data_test_fraction", data.split.test_fraction);
   values.emplace_back("data_val_fraction", data.split.val_fraction);

@@ -1,4 +1,6 @@
 // load_dataset: read, type, split, fit and encode a table in one call.
+#include <fmt/format.h>
+
 #include <algorithm>
 
 #include "credence/data.h"
@@ -18,6 +20,19 @@ Result<Dataset> load_dataset(const std::string& path, const DataOptions& options
   Result<Schema> schema = infer_schema(data.table, options.schema);
   if (!schema.ok()) return schema.status();
   data.schema = std::move(*schema);
+  if (const std::string& positive = options.schema.positive_class; !positive.empty()) {
+    const std::vector<std::string>& names = data.schema.class_names;
+    if (names.size() != 2 || std::find(names.begin(), names.end(), positive) == names.end()) {
+      std::string list;
+      for (const std::string& n : names) list += (list.empty() ? "'" : ", '") + n + "'";
+      return Status::invalid_input(fmt::format(
+          "{}: --positive-class '{}': {}", path, positive,
+          names.size() != 2
+              ? fmt::format("a positive class applies to two-class targets; '{}' has {} classes",
+                            options.schema.target, names.size())
+              : fmt::format("not a class of '{}'; name one of {}", options.schema.target, list)));
+    }
+  }
 
   Result<Split> split = stratified_split(data.schema.labels, data.schema.num_classes(), options.split);
   if (!split.ok()) return split.status().with_context(data.table.source);

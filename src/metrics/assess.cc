@@ -18,6 +18,9 @@ Result<Assessment> assess_predictions(ProbsRef log_probs, LabelSpan labels,
     return Status::invalid_input(
         "assessing predictions: bootstrap needs resamples >= 0, ece_bins >= 1 and 0 < level < 1");
   }
+  if (log_probs.rows() == 2 && settings.positive_class != 0 && settings.positive_class != 1) {
+    return Status::invalid_input("assessing predictions: the positive class must be 0 or 1");
+  }
   if (split != nullptr && split->mutual_info.size() != log_probs.cols()) {
     return Status::invalid_input("assessing predictions: the uncertainty split has " +
                                  std::to_string(split->mutual_info.size()) + " rows, not " +
@@ -40,10 +43,12 @@ Result<Assessment> assess_predictions(ProbsRef log_probs, LabelSpan labels,
 
   if (a.classes == 2) {
     a.brier_binary = binary_brier_score(probs, labels);
-    std::vector<double> q(n);
-    for (std::size_t i = 0; i < n; ++i) q[i] = probs(1, static_cast<Eigen::Index>(i));
-    a.curve_uniform = positive_class_curve(q, labels, settings.curve_bins, CurveEdges::kUniform);
-    a.curve_quantile = positive_class_curve(q, labels, settings.curve_bins, CurveEdges::kQuantile);
+    const PositiveScores scores = positive_scores(probs, labels, settings.positive_class);
+    std::vector<std::int32_t> is_positive(scores.positive.begin(), scores.positive.end());
+    a.curve_width =
+        positive_class_curve(scores.q, is_positive, settings.curve_bins, CurveEdges::kWidth);
+    a.curve_mass =
+        positive_class_curve(scores.q, is_positive, settings.curve_bins, CurveEdges::kMass);
   }
 
   const std::vector<std::uint8_t> correct = correct_predictions(probs, labels);

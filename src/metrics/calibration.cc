@@ -20,21 +20,6 @@ int bin_of(double p, std::span<const double> edges) {
   return static_cast<int>(std::lower_bound(inner_begin, inner_end, p) - inner_begin);
 }
 
-// NumPy 1.24's linear quantile of sorted data at fraction f: virtual index v = (n-1) f,
-// gamma = v - floor(v), and its _lerp, which interpolates from the nearer end.
-double sorted_quantile(std::span<const double> sorted, double f) {
-  const double n_minus_1 = static_cast<double>(sorted.size() - 1);
-  const double v = n_minus_1 * f;
-  if (v >= n_minus_1) return sorted.back();
-  if (v < 0) return sorted.front();
-  const double lower = std::floor(v);
-  const std::size_t i = static_cast<std::size_t>(lower);
-  const double gamma = v - lower;
-  const double a = sorted[i];
-  const double b = sorted[i + 1];
-  const double diff = b - a;
-  return gamma >= 0.5 ? b - diff * (1 - gamma) : a + diff * gamma;
-}
 
 // Fills count, means; NaN means for empty bins.
 void finish_bins(ReliabilityTable& table, const std::vector<double>& conf_sum,
@@ -58,6 +43,22 @@ void finish_bins(ReliabilityTable& table, const std::vector<double>& conf_sum,
 }
 
 }  // namespace
+
+// NumPy 1.24's linear quantile of sorted data at fraction f: virtual index v = (n-1) f,
+// gamma = v - floor(v), and its _lerp, which interpolates from the nearer end.
+double sorted_quantile(std::span<const double> sorted, double f) {
+  const double n_minus_1 = static_cast<double>(sorted.size() - 1);
+  const double v = n_minus_1 * f;
+  if (v >= n_minus_1) return sorted.back();
+  if (v < 0) return sorted.front();
+  const double lower = std::floor(v);
+  const std::size_t i = static_cast<std::size_t>(lower);
+  const double gamma = v - lower;
+  const double a = sorted[i];
+  const double b = sorted[i + 1];
+  const double diff = b - a;
+  return gamma >= 0.5 ? b - diff * (1 - gamma) : a + diff * gamma;
+}
 
 std::vector<double> equal_width_edges(int bins) {
   assert(bins >= 1);
@@ -202,7 +203,7 @@ PositiveClassCurve positive_class_curve(std::span<const double> q, LabelSpan lab
                                         CurveEdges edges) {
   assert(!q.empty() && q.size() == labels.size() && bins >= 1);
   PositiveClassCurve curve;
-  curve.edges = edges == CurveEdges::kUniform ? equal_width_edges(bins) : quantile_edges(q, bins);
+  curve.edges = edges == CurveEdges::kWidth ? equal_width_edges(bins) : quantile_edges(q, bins);
   const std::size_t m_bins = static_cast<std::size_t>(bins);
   std::vector<double> q_sum(m_bins, 0.0), true_sum(m_bins, 0.0);
   std::vector<std::int64_t> count(m_bins, 0);
@@ -216,8 +217,8 @@ PositiveClassCurve positive_class_curve(std::span<const double> q, LabelSpan lab
   for (std::size_t m = 0; m < m_bins; ++m) {
     if (count[m] == 0) continue;
     const double c = static_cast<double>(count[m]);
-    curve.prob_true.push_back(true_sum[m] / c);
-    curve.prob_pred.push_back(q_sum[m] / c);
+    curve.observed.push_back(true_sum[m] / c);
+    curve.mean_probability.push_back(q_sum[m] / c);
     curve.counts.push_back(count[m]);
   }
   return curve;

@@ -63,24 +63,43 @@ struct BlockResult {
   Status status;
   std::int64_t flagged = 0;
   std::int64_t clamped = 0;
+  std::int64_t outside = 0;
   std::vector<UnseenCategories> unseen;
 };
 
 struct OutputColumns {
-  std::vector<int> passed;  // table columns passed through: ids, then the target
+  bool row_number = false;  // a 1-based `row` column first, when no id column is passed
+  std::vector<int> passed;  // table columns passed through: ids, kept columns, the target
   bool has_refer = false;
+  std::vector<Index> interval_classes;  // classes whose interval is written
 };
 
+// "90" for 0.9, "97.5" for 0.975: the level as it goes into a column name.
+std::string level_text(double level) { return fmt::format("{:g}", level * 100); }
+
+// The class written in `predicted`: the positive class where its probability reaches the
+// threshold, else the other one; with no threshold, the most probable class.
+Index decided_class(const Prediction& p, Index b, const PredictCsvOptions& options) {
+  if (!options.threshold || p.probabilities.rows() != 2) {
+    return p.predicted[static_cast<std::size_t>(b)];
+  }
+  const Index positive = options.positive_class;
+  return p.probabilities(positive, b) >= *options.threshold ? positive : 1 - positive;
+}
+
 void format_block(const Predictor& predictor, const Table& table, const OutputColumns& columns,
-                  const PredictCsvOptions& options, const ThreadSlot& slot, BlockResult& result) {
+                  const PredictCsvOptions& options, const ThreadSlot& slot,
+                  std::int64_t rows_before, BlockResult& result) {
   const Prediction& p = slot.prediction;
   const std::vector<std::string>& classes = predictor.preprocessing().class_names;
   std::string& text = result.text;
   text.clear();
   result.flagged = 0;
+  result.outside = 0;
   auto out = std::back_inserter(text);
   for (std::size_t i = 0; i < slot.rows.size(); ++i) {
     const auto b = static_cast<Index>(i);
+    if (columns.row_number) fmt::format_to(out, "{},", rows_before + slot.rows[i] + 1);
     for (int j : columns.passed) {
       append_field(text, cell_text(table.columns[static_cast<std::size_t>(j)], slot.rows[i]));
       text += ',';
@@ -88,8 +107,9 @@ void format_block(const Predictor& predictor, const Table& table, const OutputCo
     for (Index k = 0; k < p.probabilities.rows(); ++k) {
       fmt::format_to(out, "{:.9g},", p.probabilities(k, b));
     }
-    append_field(text, classes[static_cast<std::size_t>(p.predicted[i])]);
-    fmt::format_to(out, ",{:.9g},{:.9g},{:.9g},{:.9g}", p.confidence(b), p.entropy(b),
+    const Index decided = decided_class(p, b, options);
+    append_field(text, classes[static_cast<std::size_t>(decided)]);
+    fmt::format_to(out, ",{:.9g},{:.9g},{:.9g},{:.9g}", p.probabilities(decided, b), p.entropy(b),
                    p.expected_entropy(b), p.mutual_information(b));
     if (columns.has_refer) {
       const double doubt =
@@ -98,6 +118,12 @@ void format_block(const Predictor& predictor, const Table& table, const OutputCo
       result.flagged += refer ? 1 : 0;
       text += refer ? ",1" : ",0";
     }
+    for (Index k : columns.interval_classes) {
+      fmt::format_to(out, ",{:.9g},{:.9g}", p.interval_lo(k, b), p.interval_hi(k, b));
+    }
+    const bool outside = p.farthest_z(b) > options.outside_z || p.unseen_inputs(b) > 0;
+    result.outside += outside ? 1 : 0;
+    fmt::format_to(out, ",{:.9g},{},{}", p.farthest_z(b), p.unseen_inputs(b), outside ? 1 : 0);
     text += '\n';
   }
 }
@@ -133,10 +159,32 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
       if (c.role == ColumnRole::kId) ids.push_back(c.name);
     }
   }
+  const bool binary = pre.class_names.size() == 2;
+  if ((options.threshold || options.positive_class != 1) &&
+      !(binary && (options.positive_class == 0 || options.positive_class == 1))) {
+    return Status::invalid_input(fmt::format(
+        "a threshold and a positive class apply to two-class runs; this run has {} classes",
+        pre.class_names.size()));
+  }
+  if (options.threshold && !(*options.threshold > 0 && *options.threshold < 1)) {
+    return Status::invalid_input(fmt::format(
+        "threshold {}: give a probability strictly between 0 and 1, e.g. 0.5", *options.threshold));
+  }
+  if (!(options.interval_level >= 0 && options.interval_level < 1)) {
+    return Status::invalid_input(fmt::format(
+        "interval level {}: give a fraction in (0, 1), e.g. 0.9 (or 0 for none)",
+        options.interval_level));
+  }
+  if (!(options.outside_z > 0)) {
+    return Status::invalid_input(fmt::format(
+        "outside-range limit {}: give a positive number of standard deviations, e.g. 10",
+        options.outside_z));
+  }
   // Passed-through columns are read as text so they come out exactly as written.
   ReadOptions read = options.read;
   for (const std::string& name : text_columns_of(pre)) read.text_columns.push_back(name);
   for (const std::string& name : ids) read.text_columns.push_back(name);
+  for (const std::string& name : options.keep_columns) read.text_columns.push_back(name);
   // The file streams through in pieces of whole records, so memory holds two pieces (and
   // one block per thread) whatever the number of rows.
   Result<CsvChunkReader> reader = CsvChunkReader::open(input_path, read, options.chunk_bytes);
@@ -165,6 +213,17 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
           input_path, name, table->column_list()));
     }
   }
+  columns.row_number = columns.passed.empty();
+  summary.row_numbers = columns.row_number;
+  for (const std::string& name : options.keep_columns) {
+    const int j = table->find_column(name);
+    if (j < 0) {
+      return Status::invalid_input(fmt::format(
+          "{}: column '{}' to keep is not in the header; name one of the columns present ({})",
+          input_path, name, table->column_list()));
+    }
+    if (!contains(ids, name) && name != pre.target) columns.passed.push_back(j);
+  }
   if (const int j = table->find_column(pre.target); j >= 0 && !contains(ids, pre.target)) {
     columns.passed.push_back(j);
     summary.target_passed = true;
@@ -172,7 +231,8 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
   std::vector<std::string> known;
   for (const ColumnSpec& c : pre.columns) known.push_back(c.name);
   for (const TableColumn& c : table->columns) {
-    if (!contains(known, c.name) && !contains(ids, c.name))
+    if (!contains(known, c.name) && !contains(ids, c.name) &&
+        !contains(options.keep_columns, c.name))
       summary.ignored_columns.push_back(c.name);
   }
   if (!summary.ignored_columns.empty()) {
@@ -181,7 +241,16 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
                quoted_list(summary.ignored_columns));
   }
 
-  std::string header;
+  if (options.interval_level > 0) {
+    if (binary) {
+      columns.interval_classes.push_back(options.positive_class);
+    } else {
+      for (std::size_t k = 0; k < pre.class_names.size(); ++k) {
+        columns.interval_classes.push_back(static_cast<Index>(k));
+      }
+    }
+  }
+  std::string header = columns.row_number ? "row," : "";
   for (int j : columns.passed) {
     append_field(header, table->columns[static_cast<std::size_t>(j)].name);
     header += ',';
@@ -191,7 +260,16 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
     header += ',';
   }
   header += "predicted,confidence,entropy,expected_entropy,mutual_information";
-  header += columns.has_refer ? ",refer\n" : "\n";
+  if (columns.has_refer) header += ",refer";
+  const std::string level = level_text(options.interval_level);
+  for (Index k : columns.interval_classes) {
+    const std::string& name = pre.class_names[static_cast<std::size_t>(k)];
+    header += ',';
+    append_field(header, "p_" + name + "_lo" + level);
+    header += ',';
+    append_field(header, "p_" + name + "_hi" + level);
+  }
+  header += ",farthest_z,unseen_inputs,outside\n";
 
   Result<predict::TempOutput> output = predict::TempOutput::create(output_path);
   if (!output.ok()) return output.status();
@@ -204,7 +282,9 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
   // two pieces, one workspace per thread and one piece's output text.
   const int threads = std::max(1, omp_get_max_threads());
   std::vector<ThreadSlot> slots(static_cast<std::size_t>(threads));
+  for (ThreadSlot& slot : slots) slot.averager.set_interval(options.interval_level);
   std::vector<BlockResult> results;
+  std::int64_t rows_before = 0;  // data rows in the pieces already written
   while (got) {
     const std::int64_t n = table->rows();
     std::int64_t blocks = (n + predictor.block_rows() - 1) / predictor.block_rows();
@@ -224,7 +304,7 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
       result.status =
           predictor.predict_rows(*slot.workspace, slot.averager, *table, slot.rows, slot.prediction);
       if (!result.status.ok()) return;
-      format_block(predictor, *table, columns, options, slot, result);
+      format_block(predictor, *table, columns, options, slot, rows_before, result);
       result.clamped = slot.prediction.clamped;
       result.unseen = slot.prediction.unseen;
     };
@@ -247,10 +327,12 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
       CREDENCE_RETURN_IF_ERROR(output->write(result.text));
       summary.rows += std::min(block_rows, n - block * block_rows);
       summary.flagged += result.flagged;
+      summary.outside += result.outside;
       summary.clamped += result.clamped;
       add_unseen(result.unseen, summary.unseen);
     }
     CREDENCE_RETURN_IF_ERROR(read_status);
+    rows_before += n;
     got = next_got;
     current = 1 - current;
     table = &next;

@@ -127,6 +127,43 @@ TEST_F(Assess, ValidationSplitAndOtherBinsAlsoMatch) {
                            "--split val --bins 10 --bootstrap 50 --seed 4");
 }
 
+TEST_F(Assess, DecisionsAtACostThresholdMatchScikitLearn) {
+  // The threshold of least cost (a missed 'benign' costs 5) chosen on the validation rows
+  // and reported on the test rows, with 'benign' as the positive class (not the default
+  // 'malignant', so the class plumbing is exercised). References in sklearn_assess.py:
+  // confusion_matrix, recall_score, precision_score, f1_score, average_precision_score,
+  // roc_auc_score and calibration_curve on P(benign) from predict's output.
+  expect_sklearn_agreement(cancer_run_, kBreastCancer, "diagnosis", "cancer_cost",
+                           "--split test --bootstrap 0 --positive-class benign --cost-fn 5");
+  const std::string text = read_text(path("cancer_cost.json"));
+  EXPECT_NE(text.find("\"rule\": \"cost\""), std::string::npos) << text;
+  EXPECT_NE(text.find("\"chosen_on\": \"validation\""), std::string::npos);
+  EXPECT_NE(text.find("\"reported_on\": \"test\""), std::string::npos);
+  EXPECT_NE(text.find("\"name\": \"benign\""), std::string::npos);
+}
+
+TEST_F(Assess, BadDecisionFlagsAreRefusedWithExitCode2) {
+  const std::string base = "assess '" + cancer_run_ + "' '" + kBreastCancer + "' --bootstrap 0 ";
+  const std::pair<std::string, std::string> cases[] = {
+      {"--threshold 1.5", "strictly between 0 and 1"},
+      {"--threshold 0", "strictly between 0 and 1"},
+      {"--positive-class nope", "name one of 'benign', 'malignant'"},
+      {"--threshold 0.3 --cost-fn 2", "give one way to set the decision threshold"},
+      {"--cost-fp -1", "two positive costs"},
+      {"--target-sensitivity 1.2", "(0, 1]"},
+  };
+  for (const auto& [flags, expected] : cases) {
+    auto r = run_credence(base + flags);
+    EXPECT_EQ(r.exit_code, 2) << flags << "\n" << r.output;
+    EXPECT_NE(r.output.find(expected), std::string::npos) << flags << "\n" << r.output;
+  }
+  for (const std::string flags : {"--cost-fp 2", "--positive-class setosa"}) {
+    auto r = run_credence("assess '" + iris_run_ + "' '" + iris_ + "' --bootstrap 0 " + flags);
+    EXPECT_EQ(r.exit_code, 2) << flags << "\n" << r.output;
+    EXPECT_NE(r.output.find("two-class"), std::string::npos) << flags << "\n" << r.output;
+  }
+}
+
 TEST_F(Assess, ThreeClassScoresMatchScikitLearnOnPredictOutput) {
   // Three classes: roc_auc_score(multi_class="ovr", average="macro"), log_loss, the
   // multi-class Brier score by numpy; brier_binary must be null.

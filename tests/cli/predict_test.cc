@@ -13,6 +13,7 @@
 #include <map>
 #include <sstream>
 
+#include "testing/csv_columns.h"
 #include "testing/read_text.h"
 #include "testing/run_command.h"
 #include "testing/temp_dir.h"
@@ -26,28 +27,11 @@ using testing::run_credence;
 
 using testing::read_text;
 
-std::vector<std::string> split_line(const std::string& line) {
-  std::vector<std::string> out;
-  std::stringstream stream(line);
-  std::string cell;
-  while (std::getline(stream, cell, ',')) out.push_back(cell);
-  return out;
-}
+using testing::split_line;
 
 // The predictions CSV as columns of text (its fields here never need quoting).
 std::map<std::string, std::vector<std::string>> read_csv(const std::string& path) {
-  std::ifstream in(path);
-  std::string line;
-  std::getline(in, line);
-  const std::vector<std::string> names = split_line(line);
-  std::map<std::string, std::vector<std::string>> columns;
-  while (std::getline(in, line)) {
-    const std::vector<std::string> cells = split_line(line);
-    for (std::size_t j = 0; j < names.size() && j < cells.size(); ++j) {
-      columns[names[j]].push_back(cells[j]);
-    }
-  }
-  return columns;
+  return testing::read_csv_columns(path).columns;
 }
 
 // Files in `dir` whose name starts with `prefix` (an output or its temporary file).
@@ -109,7 +93,8 @@ TEST_F(Predict, MatchesNumpyFromTheRunFile) {
   std::getline(in, header);
   EXPECT_EQ(header,
             "pump_id,condition,p_failing,p_healthy,p_worn,predicted,confidence,entropy,"
-            "expected_entropy,mutual_information");
+            "expected_entropy,mutual_information,p_failing_lo90,p_failing_hi90,p_healthy_lo90,"
+            "p_healthy_hi90,p_worn_lo90,p_worn_hi90,farthest_z,unseen_inputs,outside");
   // Reference: numpy in double precision from the run file read with h5py; tolerance
   // 1e-5 absolute on probabilities and entropies (float32 forward passes).
   auto check = std::system((std::string(CREDENCE_PYTHON) + " '" + CREDENCE_SOURCE_DIR +
@@ -117,6 +102,17 @@ TEST_F(Predict, MatchesNumpyFromTheRunFile) {
                             out + "' 1e-5 > '" + path("numpy.txt") + "' 2>&1")
                                .c_str());
   EXPECT_EQ(check, 0) << read_text(path("numpy.txt"));
+}
+
+TEST_F(Predict, ThresholdAndPositiveClassAreRefusedForThreeClasses) {
+  // Issue 19: a decision threshold and a positive class belong to two-class targets.
+  for (const std::string flags : {"--threshold 0.3", "--positive-class worn"}) {
+    const std::string out = path("three.csv");
+    auto r = predict(data_, out, flags);
+    EXPECT_EQ(r.exit_code, 2) << flags << "\n" << r.output;
+    EXPECT_NE(r.output.find("two-class"), std::string::npos) << flags << "\n" << r.output;
+    EXPECT_FALSE(std::filesystem::exists(out)) << flags;
+  }
 }
 
 TEST_F(Predict, UncertaintySplitsIntoAleatoricAndEpistemic) {

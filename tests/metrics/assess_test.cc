@@ -41,7 +41,7 @@ TEST(AssessPredictions, GathersTheMethodsWorkedExample) {
   EXPECT_EQ(a->rejection_by_mutual_info->accuracy.size(), 6u);
   ASSERT_TRUE(a->intervals.has_value());
   EXPECT_LE(a->intervals->nll.lo, a->intervals->nll.hi);
-  EXPECT_FALSE(a->curve_uniform.has_value());
+  EXPECT_FALSE(a->curve_width.has_value());
 }
 
 TEST(AssessPredictions, RejectsBadInputWithAClearMessage) {
@@ -70,8 +70,8 @@ TEST(AssessPredictions, BinaryTaskAddsPositiveClassQuantities) {
   ASSERT_TRUE(a.ok());
   EXPECT_NEAR(*a->brier_binary, 0.0375, 1e-15);
   EXPECT_NEAR(a->brier, 0.075, 1e-15);
-  ASSERT_TRUE(a->curve_uniform.has_value());
-  EXPECT_EQ(a->curve_uniform->prob_true.size(), 4u);
+  ASSERT_TRUE(a->curve_width.has_value());
+  EXPECT_EQ(a->curve_width->observed.size(), 4u);
   EXPECT_FALSE(a->intervals.has_value());
   EXPECT_DOUBLE_EQ(*a->class_auroc.macro, 1.0);
 }

@@ -88,24 +88,24 @@ TEST(PositiveClassCurve, MatchesScikitLearnWorkedExample) {
   const int want_ids[] = {0, 0, 0, 0, 1, 2, 2, 3, 3, 4, 4, 1};
   for (std::size_t i = 0; i < q.size(); ++i) EXPECT_EQ(equal_width_bin(q[i], 5), want_ids[i]);
 
-  const PositiveClassCurve u = positive_class_curve(q, y, 5, CurveEdges::kUniform);
+  const PositiveClassCurve u = positive_class_curve(q, y, 5, CurveEdges::kWidth);
   const std::vector<double> u_true = {0, 0.5, 1, 1, 0.5};
   const std::vector<double> u_pred = {0.125, 0.35, 0.55, 0.75, 0.95};
-  ASSERT_EQ(u.prob_true.size(), 5u);
+  ASSERT_EQ(u.observed.size(), 5u);
   for (std::size_t b = 0; b < 5; ++b) {
-    EXPECT_NEAR(u.prob_true[b], u_true[b], 1e-15) << b;
-    EXPECT_NEAR(u.prob_pred[b], u_pred[b], 1e-15) << b;
+    EXPECT_NEAR(u.observed[b], u_true[b], 1e-15) << b;
+    EXPECT_NEAR(u.mean_probability[b], u_pred[b], 1e-15) << b;
   }
 
-  const PositiveClassCurve qc = positive_class_curve(q, y, 5, CurveEdges::kQuantile);
+  const PositiveClassCurve qc = positive_class_curve(q, y, 5, CurveEdges::kMass);
   const std::vector<double> edges = {0, 0.2, 0.34, 0.56, 0.78, 1};
   for (std::size_t b = 0; b < 6; ++b) EXPECT_NEAR(qc.edges[b], edges[b], 1e-15) << b;
   const std::vector<double> q_true = {0, 1, 0.5, 1, 2.0 / 3};
   const std::vector<double> q_pred = {0.125, 0.3, 0.45, 0.65, 0.9};
-  ASSERT_EQ(qc.prob_true.size(), 5u);
+  ASSERT_EQ(qc.observed.size(), 5u);
   for (std::size_t b = 0; b < 5; ++b) {
-    EXPECT_NEAR(qc.prob_true[b], q_true[b], 1e-15) << b;
-    EXPECT_NEAR(qc.prob_pred[b], q_pred[b], 1e-15) << b;
+    EXPECT_NEAR(qc.observed[b], q_true[b], 1e-15) << b;
+    EXPECT_NEAR(qc.mean_probability[b], q_pred[b], 1e-15) << b;
   }
 }
 
@@ -113,15 +113,15 @@ TEST(PositiveClassCurve, DropsEmptyBinsAndHandlesOneRow) {
   // Source: scikit-learn 1.2 calibration_curve drops bins with no rows (METHODS.md 9.3).
   const std::vector<std::int32_t> y = {1};
   const std::vector<double> q = {0.42};
-  const PositiveClassCurve u = positive_class_curve(q, y, 10, CurveEdges::kUniform);
-  ASSERT_EQ(u.prob_true.size(), 1u);
-  EXPECT_EQ(u.prob_true[0], 1.0);
-  EXPECT_EQ(u.prob_pred[0], 0.42);
+  const PositiveClassCurve u = positive_class_curve(q, y, 10, CurveEdges::kWidth);
+  ASSERT_EQ(u.observed.size(), 1u);
+  EXPECT_EQ(u.observed[0], 1.0);
+  EXPECT_EQ(u.mean_probability[0], 0.42);
   EXPECT_EQ(u.counts[0], 1);
   // Quantile edges of one value collapse to it; the row lands in the first bin.
-  const PositiveClassCurve qc = positive_class_curve(q, y, 10, CurveEdges::kQuantile);
-  ASSERT_EQ(qc.prob_true.size(), 1u);
-  EXPECT_EQ(qc.prob_pred[0], 0.42);
+  const PositiveClassCurve qc = positive_class_curve(q, y, 10, CurveEdges::kMass);
+  ASSERT_EQ(qc.observed.size(), 1u);
+  EXPECT_EQ(qc.mean_probability[0], 0.42);
   // Top-label table with one row: ECE = |acc - conf|.
   Eigen::MatrixXd p(2, 1);
   p << 0.42, 0.58;

@@ -11,6 +11,7 @@
 #include <string>
 
 #include "credence/metrics.h"
+#include "testing/python_reference.h"
 #include "testing/seed.h"
 #include "testing/temp_dir.h"
 
@@ -19,7 +20,7 @@ namespace {
 
 constexpr double kTolerance = 1e-9;
 
-using Reference = std::map<std::string, std::vector<double>>;
+using testing::Reference;
 
 // Writes probs (K, n) and labels, runs the script with Debian's python, reads its numbers.
 Reference run_reference(const Eigen::MatrixXd& probs, const std::vector<std::int32_t>& labels) {
@@ -35,26 +36,7 @@ Reference run_reference(const Eigen::MatrixXd& probs, const std::vector<std::int
     y.write(reinterpret_cast<const char*>(labels.data()),
             static_cast<std::streamsize>(labels.size() * sizeof(std::int32_t)));
   }
-  const std::string command = std::string("'") + CREDENCE_PYTHON + "' '" + CREDENCE_SOURCE_DIR +
-                              "/tests/tools/sklearn_metrics.py' '" + dir.path().string() + "'";
-  EXPECT_EQ(std::system(command.c_str()), 0) << command;
-  Reference ref;
-  std::ifstream in(dir.path() / "reference.txt");
-  std::string line;
-  while (std::getline(in, line)) {
-    std::istringstream words(line);
-    std::string name;
-    words >> name;
-    if (name == "sklearn_version") {
-      std::string version;
-      words >> version;
-      std::cout << "scikit-learn " << version << '\n';
-      continue;
-    }
-    double v = 0;
-    while (words >> v) ref[name].push_back(v);
-  }
-  return ref;
+  return testing::run_python_reference("sklearn_metrics.py", dir.path());
 }
 
 void expect_all_near(const std::vector<double>& got, const std::vector<double>& want,
@@ -122,12 +104,12 @@ TEST(SklearnAgreement, BinaryScoresCurvesAndAuroc) {
   std::vector<std::uint8_t> positive(y.begin(), y.end());
   EXPECT_NEAR(*auroc(q, positive), ref.at("roc_auc")[0], kTolerance);
 
-  const PositiveClassCurve u = positive_class_curve(q, y, 10, CurveEdges::kUniform);
-  expect_all_near(u.prob_true, ref.at("curve_uniform_true"), "uniform prob_true");
-  expect_all_near(u.prob_pred, ref.at("curve_uniform_pred"), "uniform prob_pred");
-  const PositiveClassCurve qc = positive_class_curve(q, y, 10, CurveEdges::kQuantile);
-  expect_all_near(qc.prob_true, ref.at("curve_quantile_true"), "quantile prob_true");
-  expect_all_near(qc.prob_pred, ref.at("curve_quantile_pred"), "quantile prob_pred");
+  const PositiveClassCurve u = positive_class_curve(q, y, 10, CurveEdges::kWidth);
+  expect_all_near(u.observed, ref.at("curve_uniform_true"), "width observed (sklearn uniform)");
+  expect_all_near(u.mean_probability, ref.at("curve_uniform_pred"), "width mean probability");
+  const PositiveClassCurve qc = positive_class_curve(q, y, 10, CurveEdges::kMass);
+  expect_all_near(qc.observed, ref.at("curve_quantile_true"), "mass observed (sklearn quantile)");
+  expect_all_near(qc.mean_probability, ref.at("curve_quantile_pred"), "mass mean probability");
 }
 
 TEST(SklearnAgreement, BinaryLogLossAwayFromZero) {

@@ -4,7 +4,8 @@ Rebuilds each kept sample's class probabilities with rebuild_probabilities.py (w
 follows docs/run-file.md and nets/README.md), then computes in double precision, per
 row (METHODS.md 9.1): pbar = mean_s p_s, H[pbar] = -sum_k pbar log pbar, E H =
 mean_s -sum_k p_s log p_s, MI = H - E H, with 0 log 0 = 0. Compares them with the
-predictions CSV column by column and prints the largest differences; exits 1 when a
+predictions CSV column by column (each interval column with numpy.quantile over the
+members) and prints the largest differences; exits 1 when a
 probability or an entropy differs by more than TOL (absolute), or a prediction differs
 where the top two probabilities are not within TOL of each other.
 
@@ -38,11 +39,11 @@ def reference(run_path, table_path):
     pbar = p.mean(axis=0)
     h = -plogp(pbar).sum(axis=1)
     eh = -plogp(p).sum(axis=2).mean(axis=0)
-    return classes, pbar, h, eh, h - eh
+    return classes, pbar, h, eh, h - eh, p
 
 
 def main(run_path, table_path, pred_path, tol=1e-5):
-    classes, pbar, h, eh, mi = reference(run_path, table_path)
+    classes, pbar, h, eh, mi, members = reference(run_path, table_path)
     with open(pred_path, newline="") as handle:
         pred = list(csv.DictReader(handle))
     if len(pred) != len(pbar):
@@ -61,6 +62,20 @@ def main(run_path, table_path, pred_path, tol=1e-5):
         print("%s max_abs_diff %.3g at %s (credence %.9g, numpy %.9g)"
               % (name, diff.max(), worst, got[worst], want[worst]))
         failed |= bool(diff.max() > tol)
+    # Per-row intervals p_<class>_lo<L> / _hi<L> (docs/predictions-csv.md): numpy.quantile
+    # of the members' probabilities at (1 -+ L/100) / 2 with its default 'linear' method.
+    for k, c in enumerate(classes):
+        lows = [name for name in pred[0] if name.startswith("p_" + c + "_lo")]
+        for low in lows:
+            level = float(low[len("p_" + c + "_lo"):]) / 100
+            high = "p_%s_hi%s" % (c, low[len("p_" + c + "_lo"):])
+            want = np.quantile(members[:, :, k], [(1 - level) / 2, (1 + level) / 2], axis=0,
+                               method="linear")
+            for name, row in ((low, 0), (high, 1)):
+                got = np.array([float(r[name]) for r in pred])
+                diff = np.abs(got - want[row])
+                print("%s max_abs_diff %.3g (numpy.quantile, linear)" % (name, diff.max()))
+                failed |= bool(diff.max() > tol)
     top2 = np.sort(pbar, axis=1)[:, -2:]
     clear = (top2[:, 1] - top2[:, 0]) > tol
     want_class = np.array([classes[k] for k in pbar.argmax(axis=1)])

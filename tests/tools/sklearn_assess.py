@@ -34,7 +34,9 @@ import h5py
 import numpy as np
 from sklearn.calibration import calibration_curve
 from sklearn.datasets import load_iris
-from sklearn.metrics import accuracy_score, brier_score_loss, log_loss, roc_auc_score
+from sklearn.metrics import (accuracy_score, average_precision_score, brier_score_loss,
+                             confusion_matrix, f1_score, log_loss, precision_score,
+                             recall_score, roc_auc_score)
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 import rebuild_probabilities as rebuild  # noqa: E402
@@ -111,6 +113,27 @@ def check_members(run_path, data_path, rows, y, metrics):
         compare("single_sample %s sd" % name, single[name]["sd"], np.std(values, ddof=1), 1e-5)
 
 
+def check_decisions(report, q, y_pos, tol):
+    """The decisions block against scikit-learn on predict's probabilities of the positive class."""
+    decisions = report["decisions"]
+    at = decisions["at_threshold"]
+    t = at["threshold"]
+    tn, fp, fn, tp = confusion_matrix(y_pos, (q >= t).astype(np.int64), labels=[0, 1]).ravel()
+    print("decisions (%s rule) at %.6g on %s rows: TP %d FP %d TN %d FN %d" % (
+        decisions["rule"], t, decisions["reported_on"], tp, fp, tn, fn))
+    for name, want in (("true_positive", tp), ("false_positive", fp), ("true_negative", tn),
+                       ("false_negative", fn)):
+        if at[name] != want:
+            print("%s: assess %d, confusion_matrix %d" % (name, at[name], want))
+            FAILURES.append(name)
+    compare("sensitivity (recall_score)", at["sensitivity"], recall_score(y_pos, q >= t), tol)
+    compare("ppv (precision_score)", at["ppv"], precision_score(y_pos, q >= t), tol)
+    compare("f1 (f1_score)", at["f1"], f1_score(y_pos, q >= t), tol)
+    compare("average precision (average_precision_score)",
+            report["precision_recall"]["average_precision"], average_precision_score(y_pos, q), tol)
+    compare("roc area (roc_auc_score)", report["roc"]["area"], roc_auc_score(y_pos, q), tol)
+
+
 def check(run_path, pred_path, json_path, target, tol, data_path=None):
     with open(json_path) as f:
         report = json.load(f)
@@ -150,16 +173,25 @@ def check(run_path, pred_path, json_path, target, tol, data_path=None):
         compare("brier_binary (brier_score_loss)", metrics["brier_binary"],
                 brier_score_loss(y, p[:, 1], pos_label=1), tol)
         compare("auroc (roc_auc_score)", metrics["auroc"], roc_auc_score(y, p[:, 1]), tol)
-        for strategy in ("uniform", "quantile"):
-            curve = metrics["positive_class_curve"][strategy]
+        # credence names the binning "width" and "mass"; scikit-learn "uniform" and "quantile".
+        pos = report["positive_class"]["index"]
+        q = p[:, pos]
+        y_pos = (y == pos).astype(np.int64)
+        curves = metrics["positive_class_curve"]
+        if curves["class"] != classes[pos]:
+            print("positive_class_curve.class %s, positive class %s" % (curves["class"], classes[pos]))
+            FAILURES.append("curve class")
+        for ours, strategy in (("width", "uniform"), ("mass", "quantile")):
+            curve = curves[ours]
             n_bins = len(curve["edges"]) - 1
-            prob_true, prob_pred = calibration_curve(y, p[:, 1], n_bins=n_bins, strategy=strategy)
-            print("calibration_curve %s: n_bins %d, %d non-empty" % (strategy, n_bins, len(prob_true)))
-            compare("curve %s prob_true" % strategy, curve["prob_true"], prob_true, tol)
-            compare("curve %s prob_pred" % strategy, curve["prob_pred"], prob_pred, tol)
+            observed, mean_probability = calibration_curve(y_pos, q, n_bins=n_bins, strategy=strategy)
+            print("calibration_curve %s: n_bins %d, %d non-empty" % (strategy, n_bins, len(observed)))
+            compare("curve %s observed" % ours, curve["observed"], observed, tol)
+            compare("curve %s mean_probability" % ours, curve["mean_probability"], mean_probability, tol)
             if sum(curve["counts"]) != len(y):
-                print("curve %s counts sum to %d, not %d" % (strategy, sum(curve["counts"]), len(y)))
+                print("curve %s counts sum to %d, not %d" % (ours, sum(curve["counts"]), len(y)))
                 FAILURES.append("curve counts")
+        check_decisions(report, q, y_pos, tol)
     else:
         if metrics["brier_binary"] is not None:
             print("brier_binary should be null for %d classes" % k)
