@@ -55,9 +55,10 @@ struct TrainHooks {
   /// run_train returns kInterrupted (resume with resume_path). Lock-free, so a signal
   /// handler may set it. Must outlive the call.
   const std::atomic<bool>* stop = nullptr;
-  /// Called about four times a second while the chains run and once with
-  /// finished = true after they end, from one thread at a time (the run's writer
-  /// thread, not the caller's); it must return quickly and must not throw.
+  /// Called once as the chains start, about four times a second while they run, and
+  /// once with finished = true after they end; never two calls at once. The first and
+  /// last come from the calling thread, the others from the run's writer thread (under
+  /// MPI only rank 0 reports). It must return quickly and must not throw.
   std::function<void(const TrainProgress&)> progress;
 };
 

@@ -1,5 +1,5 @@
-// What the chains hand the single writer of a training run (train_job.cc, and the MPI
-// transport when the chains run on other ranks).
+// What the chains hand the single writer of a training run (writer_thread.h), in
+// process or, through the MPI transport, from other ranks.
 #pragma once
 
 #include <Eigen/Core>
