@@ -6,7 +6,7 @@
 #include <cmath>
 #include <numeric>
 
-#include "cli/run_settings.h"
+#include "credence/run_settings.h"
 #include "cli/verdict_output.h"
 #include "util/log.h"
 #include "util/warn_once.h"

@@ -1,4 +1,4 @@
-// End-of-run verdicts in the CLI: judged from a finished run file (run_verdict.h), as
+// End-of-run verdicts in the CLI (judged by judge_run_file, run_verdict.h): as
 // text under train's and compare's output, and as JSON.
 #pragma once
 
@@ -18,14 +18,6 @@ namespace credence::cli {
 inline constexpr std::size_t kFewBootstrapRows = 30;
 // A temperature fitted on fewer validation rows than this may not carry over.
 inline constexpr std::size_t kFewTemperatureRows = 50;
-// A network with this many times more parameters than training rows leans on its prior.
-inline constexpr std::int64_t kParametersPerRowWarning = 10;
-
-/// Opens `run_path` and judges it; `probe_labels` are the labels of its probe rows, or
-/// empty when unknown. A run that cannot be judged logs a warning and gives nothing: the
-/// verdict is information, never a failure of the command.
-std::optional<RunVerdict> judge_run_file(const std::string& run_path,
-                                         std::span<const std::int32_t> probe_labels);
 
 /// "verdict[ label]: headline" and a line per failed check, each ending in a newline.
 std::string verdict_text(const RunVerdict& verdict, std::string_view label = {});
