@@ -4,7 +4,7 @@
 #include <cstdio>
 
 #include "cli/commands.h"
-#include "cli/report_page.h"
+#include "report/report_page.h"
 #include "util/atomic_file.h"
 
 namespace credence::cli {

@@ -6,7 +6,7 @@
 #include <string>
 #include <vector>
 
-#include "cli/report_page.h"
+#include "report/report_page.h"
 #include "cli/train_job.h"
 
 namespace credence::cli {

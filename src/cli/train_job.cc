@@ -28,7 +28,7 @@
 #include "cli/mpi_world.h"
 #endif
 #include "cli/progress.h"
-#include "cli/verdict_output.h"
+#include "report/verdict_output.h"
 #include "credence/ensemble.h"
 #include "credence/summaries.h"
 #include "credence/table_potential.h"

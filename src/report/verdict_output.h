@@ -8,16 +8,12 @@
 #include <string>
 #include <string_view>
 
-#include "cli/json.h"
+#include "util/json.h"
 #include "credence/run_verdict.h"
 
-namespace credence::cli {
+namespace credence {
 
-// Small-data warnings of the CLI (ours, common practice with no single source): bootstrap
-// intervals on fewer rows than this are rough (the usual "about 30" for resampling).
-inline constexpr std::size_t kFewBootstrapRows = 30;
-// A temperature fitted on fewer validation rows than this may not carry over.
-inline constexpr std::size_t kFewTemperatureRows = 50;
+// Small-data warning of training (ours, common practice with no single source).
 // A network with this many times more parameters than training rows leans on its prior.
 inline constexpr std::int64_t kParametersPerRowWarning = 10;
 
@@ -34,4 +30,4 @@ std::string verdict_text(const RunVerdict& verdict, std::string_view label = {})
 /// and checks [{name, outcome ("ok", "FAILED", "n/a"), value, threshold, message}].
 void write_verdict(JsonWriter& j, const RunVerdict& verdict);
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -1,12 +1,12 @@
 // judge_run_file, verdict_text, write_verdict: the run_verdict checks in the CLI.
-#include "cli/verdict_output.h"
+#include "report/verdict_output.h"
 
 #include <fmt/format.h>
 
 #include "credence/ensemble.h"
 #include "util/log.h"
 
-namespace credence::cli {
+namespace credence {
 
 std::optional<RunVerdict> judge_run_file(const std::string& run_path,
                                          std::span<const std::int32_t> probe_labels) {
@@ -51,4 +51,4 @@ void write_verdict(JsonWriter& j, const RunVerdict& verdict) {
   j.end_object();
 }
 
-}  // namespace credence::cli
+}  // namespace credence
