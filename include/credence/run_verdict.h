@@ -129,4 +129,10 @@ std::vector<std::string> verdict_lines(const RunVerdict& verdict, bool all = fal
 Result<RunEvidence> gather_run_evidence(const RunReader& run,
                                         std::span<const std::int32_t> probe_labels = {});
 
+/// Opens `run_path` and judges it; `probe_labels` are the labels of its probe rows, or
+/// empty when unknown. A run that cannot be judged logs a warning and gives nothing: the
+/// verdict is information, never a failure.
+std::optional<RunVerdict> judge_run_file(const std::string& run_path,
+                                         std::span<const std::int32_t> probe_labels);
+
 }  // namespace credence

@@ -6,33 +6,12 @@
 #include <cmath>
 #include <numeric>
 
+#include "credence/run_settings.h"
 #include "util/log.h"
 #include "util/warn_once.h"
 
 namespace credence {
 namespace {
-
-// The text value of setting `name`, or null when absent or not text.
-const std::string* text_setting(const Settings& settings, std::string_view name) {
-  for (const auto& [key, value] : settings) {
-    if (key == name) return std::get_if<std::string>(&value);
-  }
-  return nullptr;
-}
-
-// A string-list setting as the run file stores it: items joined by the ASCII unit
-// separator (the writer's convention, src/cli/run_settings.cc).
-std::vector<std::string> split_list_setting(const std::string& joined) {
-  std::vector<std::string> items;
-  std::size_t start = 0;
-  for (std::size_t i = 0; i <= joined.size(); ++i) {
-    if (i == joined.size() || joined[i] == '\x1f') {
-      items.push_back(joined.substr(start, i - start));
-      start = i + 1;
-    }
-  }
-  return items;
-}
 
 std::vector<std::int64_t> every_row(std::int64_t n) {
   std::vector<std::int64_t> rows(static_cast<std::size_t>(n));
@@ -135,24 +114,16 @@ std::string_view split_label(AssessSplit split) {
 }  // namespace
 
 ReadOptions read_options_of(const RunHeader& header) {
+  TrainSettings ignored;
   ReadOptions read;
-  std::string problem;
-  const std::string* delimiter = text_setting(header.settings, "csv_delimiter");
-  const std::string* tokens = text_setting(header.settings, "csv_na_tokens");
-  if (delimiter == nullptr || delimiter->size() != 1) {
-    problem = "no one-character setting 'csv_delimiter'";
-  } else if (tokens == nullptr) {
-    problem = "no text setting 'csv_na_tokens'";
-  } else {
-    read.delimiter = (*delimiter)[0];
-    read.na_tokens = split_list_setting(*tokens);
-    return read;
+  if (Status s = from_values(header.settings, ignored, read); !s.ok()) {
+    log().warn(
+        "reading the run's CSV settings: {}; reading the table with the defaults "
+        "(comma separated; missing: '', NA, NaN, null, ?)",
+        s.message());
+    return ReadOptions{};
   }
-  log().warn(
-      "reading the run's CSV settings: {}; reading the table with the defaults "
-      "(comma separated; missing: '', NA, NaN, null, ?)",
-      problem);
-  return ReadOptions{};
+  return read;
 }
 
 MeanSd member_mean_sd(const std::vector<MemberScores>& members, double MemberScores::*score) {

@@ -8,7 +8,7 @@
 #include "cli/commands.h"
 #include "cli/data_options.h"
 #include "cli/memory_option.h"
-#include "cli/run_settings.h"
+#include "credence/run_settings.h"
 #include "credence/ensemble.h"
 #include "credence/predict.h"
 #include "util/log.h"

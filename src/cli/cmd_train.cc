@@ -2,15 +2,20 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <cstdio>
 #include <cstdlib>
 #include <sstream>
 
-#include "cli/budget.h"
 #include "cli/commands.h"
-#include "cli/held_out.h"
+#include "cli/data_options.h"
+#include "cli/interrupt.h"
 #include "cli/memory_option.h"
 #include "cli/method_flags.h"
-#include "cli/train_job.h"
+#include "cli/progress.h"
+#include "report/verdict_output.h"
+#include "credence/budget.h"
+#include "credence/held_out.h"
+#include "credence/train.h"
 
 namespace credence::cli {
 namespace {
@@ -244,9 +249,14 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   commands.push_back({sub, [flags, sub, &global] {
                         flags->given = given_flags(*sub);
                         CREDENCE_RETURN_IF_ERROR(resolve(*flags));
-                        flags->request.quiet = global.quiet;
                         flags->request.command_line = global.command_line;
-                        return run_train(flags->request);
+                        flags->request.hooks.stop = &install_interrupt_handlers();
+                        flags->request.hooks.progress = progress_line(global.quiet);
+                        std::optional<RunVerdict> verdict;
+                        flags->request.verdict = &verdict;
+                        Status status = run_train(flags->request);
+                        if (verdict) std::fputs(verdict_text(*verdict).c_str(), stdout);
+                        return status;
                       }});
 }
 

@@ -7,6 +7,8 @@
 #include <cstdio>
 #include <filesystem>
 
+#include "cli/interrupt.h"
+#include "cli/progress.h"
 #include "util/log.h"
 
 namespace credence::cli {
@@ -22,7 +24,8 @@ TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
   r.activation = c.activation;
   r.out_path = (std::filesystem::path(c.out_dir) / (entry.file_stem + ".h5")).string();
   r.force = true;
-  r.quiet = c.quiet;
+  r.hooks.stop = &install_interrupt_handlers();
+  r.hooks.progress = progress_line(c.quiet);
   r.command_line = c.command_line;
   TrainSettings& s = r.settings;
   s.sampler.method = entry.method;

@@ -7,7 +7,7 @@
 #include <vector>
 
 #include "report/report_page.h"
-#include "cli/train_job.h"
+#include "credence/train.h"
 
 namespace credence::cli {
 

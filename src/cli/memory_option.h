@@ -7,9 +7,7 @@
 #include <CLI/CLI.hpp>
 #include <algorithm>
 #include <cstdint>
-#include <filesystem>
 #include <string>
-#include <system_error>
 
 #include "credence/ensemble.h"
 #include "credence/net.h"
@@ -22,13 +20,6 @@ inline void add_max_memory_option(CLI::App& sub, std::string& value) {
   sub.add_option("--max-memory", value,
                  "Refuse jobs estimated to need more memory than this: 8G, 500M, or a share "
                  "of physical memory such as 80% (the default)");
-}
-
-/// Size of a file, or 0 when it cannot be read (the read itself reports that).
-inline std::uint64_t file_bytes_or_zero(const std::string& path) {
-  std::error_code error;
-  const std::uintmax_t size = std::filesystem::file_size(path, error);
-  return error ? 0 : static_cast<std::uint64_t>(size);
 }
 
 /// Refuses (kInvalidInput, exit 2) evaluating `run`'s ensemble (`samples` kept samples,

@@ -6,6 +6,7 @@
 
 #include <cmath>
 #include <cstdio>
+#include <memory>
 
 #include "util/log.h"
 
@@ -76,6 +77,21 @@ void ProgressDisplay::draw(std::int64_t steps_done, std::int64_t kept, double lo
   std::fprintf(stderr, "\r\033[K%s [%s] %s", label_.c_str(), bar.c_str(), text.c_str());
   std::fflush(stderr);
   drawn_ = true;
+}
+
+std::function<void(const TrainProgress&)> progress_line(bool quiet) {
+  auto display = std::make_shared<std::unique_ptr<ProgressDisplay>>();
+  return [display, quiet](const TrainProgress& p) {
+    if (!*display) {
+      *display = std::make_unique<ProgressDisplay>(p.label, p.total_steps, p.total_samples, quiet);
+    }
+    if (p.finished) {
+      (*display)->finish(p.steps_done, p.kept);
+      display->reset();
+    } else {
+      (*display)->update(p.steps_done, p.kept, p.loss);
+    }
+  };
 }
 
 }  // namespace credence::cli

@@ -4,7 +4,10 @@
 
 #include <chrono>
 #include <cstdint>
+#include <functional>
 #include <string>
+
+#include "credence/train.h"
 
 namespace credence::cli {
 
@@ -33,5 +36,9 @@ class ProgressDisplay {
   std::chrono::steady_clock::time_point start_;
   std::chrono::steady_clock::time_point last_draw_;
 };
+
+/// A TrainHooks::progress that draws a ProgressDisplay, a fresh one for each run it
+/// reports (so one hook serves every training of compare and sweep).
+std::function<void(const TrainProgress&)> progress_line(bool quiet);
 
 }  // namespace credence::cli

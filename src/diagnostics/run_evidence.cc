@@ -6,6 +6,7 @@
 #include "credence/run_verdict.h"
 #include "credence/samplers_settings.h"
 #include "diagnostics/run_columns.h"
+#include "util/log.h"
 
 namespace credence {
 namespace {
@@ -88,6 +89,21 @@ Result<RunEvidence> gather_run_evidence(const RunReader& run,
     e.potential.push_back(std::move(after));
   }
   return e;
+}
+
+std::optional<RunVerdict> judge_run_file(const std::string& run_path,
+                                         std::span<const std::int32_t> probe_labels) {
+  Result<std::unique_ptr<RunReader>> reader = RunReader::open(run_path);
+  if (!reader.ok()) {
+    log().warn("{}: no end-of-run verdict: {}", run_path, reader.status().message());
+    return std::nullopt;
+  }
+  Result<RunEvidence> evidence = gather_run_evidence(**reader, probe_labels);
+  if (!evidence.ok()) {
+    log().warn("{}: no end-of-run verdict: {}", run_path, evidence.status().message());
+    return std::nullopt;
+  }
+  return judge_run(*evidence);
 }
 
 }  // namespace credence

@@ -1,27 +1,9 @@
-// judge_run_file, verdict_text, write_verdict: the run_verdict checks in the CLI.
+// verdict_text, write_verdict: the run_verdict checks as text and JSON.
 #include "report/verdict_output.h"
 
 #include <fmt/format.h>
 
-#include "credence/ensemble.h"
-#include "util/log.h"
-
 namespace credence {
-
-std::optional<RunVerdict> judge_run_file(const std::string& run_path,
-                                         std::span<const std::int32_t> probe_labels) {
-  Result<std::unique_ptr<RunReader>> reader = RunReader::open(run_path);
-  if (!reader.ok()) {
-    log().warn("{}: no end-of-run verdict: {}", run_path, reader.status().message());
-    return std::nullopt;
-  }
-  Result<RunEvidence> evidence = gather_run_evidence(**reader, probe_labels);
-  if (!evidence.ok()) {
-    log().warn("{}: no end-of-run verdict: {}", run_path, evidence.status().message());
-    return std::nullopt;
-  }
-  return judge_run(*evidence);
-}
 
 std::string verdict_text(const RunVerdict& verdict, std::string_view label) {
   std::string out;

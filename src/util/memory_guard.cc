@@ -8,7 +8,9 @@
 #include <cctype>
 #include <charconv>
 #include <cmath>
+#include <filesystem>
 #include <limits>
+#include <system_error>
 
 namespace credence {
 namespace {
@@ -136,6 +138,12 @@ Status check_memory(std::string_view what, std::uint64_t estimated_bytes,
       "{} would need about {} of memory, more than the limit of {} ({}); make the job "
       "smaller, or if the machine has the memory raise the limit, e.g. --max-memory {}M",
       what, format_bytes(estimated_bytes), format_bytes(limit.bytes), limit.source, suggested_mib));
+}
+
+std::uint64_t file_bytes_or_zero(const std::string& path) {
+  std::error_code error;
+  const std::uintmax_t size = std::filesystem::file_size(path, error);
+  return error ? 0 : static_cast<std::uint64_t>(size);
 }
 
 std::uint64_t estimate_table_bytes(std::uint64_t file_bytes) {

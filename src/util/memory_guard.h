@@ -53,6 +53,9 @@ Status check_memory(std::string_view what, std::uint64_t estimated_bytes, const 
 std::uint64_t saturating_mul(std::uint64_t a, std::uint64_t b);
 std::uint64_t saturating_add(std::uint64_t a, std::uint64_t b);
 
+/// Size of a file, or 0 when it cannot be read (the read itself reports that).
+std::uint64_t file_bytes_or_zero(const std::string& path);
+
 /// Bytes a table parsed from a CSV file of `file_bytes` may hold at its peak: the file's
 /// bytes plus one 8-byte number per cell, where the smallest cell ("1,") takes 2 bytes.
 std::uint64_t estimate_table_bytes(std::uint64_t file_bytes);

@@ -1,12 +1,12 @@
 // Table-sized default budgets (budget.h).
-#include "cli/budget.h"
+#include "credence/budget.h"
 
 #include <fmt/format.h>
 
 #include <algorithm>
 #include <cmath>
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 using D = BudgetDefaults;
@@ -82,4 +82,4 @@ std::string size_max_move(TrainSettings& s, std::int64_t train_rows, const Budge
                      train_rows, s.sampler.relativistic.max_move, kMaxMoveCap, kMaxMoveRows);
 }
 
-}  // namespace credence::cli
+}  // namespace credence

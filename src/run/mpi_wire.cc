@@ -1,7 +1,7 @@
 // Byte images of the MPI training run's messages (see mpi_wire.h).
-#include "cli/mpi_wire.h"
+#include "run/mpi_wire.h"
 
-namespace credence::cli::wire {
+namespace credence::wire {
 namespace {
 
 enum class Kind : std::uint8_t { kTrace = 1, kSample = 2, kState = 3 };
@@ -180,4 +180,4 @@ bool get_settings(Unpacker& in, Settings& settings) {
   return true;
 }
 
-}  // namespace credence::cli::wire
+}  // namespace credence::wire

@@ -4,36 +4,33 @@
 // Threads: OpenMP runs the chains; their hooks (serialised by run_chains) only copy
 // into a queue. One writer thread drains the queue every flush interval, computes the
 // tracked summaries, appends rows, commits the run file, asks the chains for fresh
-// checkpoints and redraws the progress line. Nothing else touches HDF5.
-#include "cli/train_job.h"
+// checkpoints and reports progress (TrainHooks). Nothing else touches HDF5.
+#include "credence/train.h"
 
-#include "cli/held_out.h"
-#include "cli/memory_option.h"
+#include "credence/held_out.h"
 
 #include <fmt/chrono.h>
 #include <fmt/format.h>
 
 #include <chrono>
 #include <condition_variable>
-#include <cstdio>
 #include <ctime>
 #include <mutex>
 #include <numeric>
 #include <thread>
 #include <variant>
 
-#include "cli/interrupt.h"
 #ifdef CREDENCE_HAVE_MPI
-#include "cli/mpi_wire.h"
-#include "cli/mpi_world.h"
+#include "run/mpi_wire.h"
+#include "run/mpi_world.h"
 #endif
-#include "cli/progress.h"
-#include "report/verdict_output.h"
 #include "credence/ensemble.h"
 #include "credence/summaries.h"
 #include "credence/table_potential.h"
 #include "credence/version.h"
+#include "run/chain_message.h"
 #include "util/log.h"
+#include "util/memory_guard.h"
 #include "util/warn_once.h"
 #include "util/rng.h"
 
@@ -41,7 +38,7 @@
 extern "C" void openblas_set_num_threads(int);
 #endif
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 // Everything a run needs, whether freshly started or resumed.
@@ -53,6 +50,49 @@ struct Prepared {
   TrainingRows held_out;  // validation rows early stopping scores (empty when it is off)
   ProbeSet probe;
   TrainSettings settings;
+};
+
+// A network with this many times more parameters than training rows leans on its prior.
+constexpr std::int64_t kParametersPerRowWarning = 10;
+
+// Hands TrainHooks::progress where the run stands: once at the start, at most every
+// kInterval while the chains run, and once when they have ended.
+class ProgressReport {
+ public:
+  ProgressReport(const TrainHooks& hooks, std::string label, std::int64_t total_steps,
+                 std::int64_t total_samples, std::int64_t steps_done, std::int64_t kept)
+      : report_(hooks.progress) {
+    now_.label = std::move(label);
+    now_.total_steps = total_steps;
+    now_.total_samples = total_samples;
+    now_.steps_done = steps_done;
+    now_.kept = kept;
+    if (report_) report_(now_);
+    last_ = std::chrono::steady_clock::now();
+  }
+  void update(std::int64_t steps_done, std::int64_t kept, double loss) {
+    if (!report_) return;
+    const auto now = std::chrono::steady_clock::now();
+    if (now - last_ < kInterval) return;
+    last_ = now;
+    now_.steps_done = steps_done;
+    now_.kept = kept;
+    now_.loss = loss;
+    report_(now_);
+  }
+  void finish(std::int64_t steps_done, std::int64_t kept) {
+    if (!report_) return;
+    now_.steps_done = steps_done;
+    now_.kept = kept;
+    now_.finished = true;
+    report_(now_);
+  }
+
+ private:
+  static constexpr std::chrono::duration<double> kInterval{0.2};
+  const std::function<void(const TrainProgress&)>& report_;
+  TrainProgress now_;
+  std::chrono::steady_clock::time_point last_;
 };
 
 std::string utc_now() {
@@ -288,7 +328,7 @@ ChainStatus chain_status_of(const std::optional<ChainEnd>& end) {
 class WriterThread {
  public:
   // `next_steps` holds each chain's first step still to run (0 for a fresh run).
-  WriterThread(RunWriter& writer, SampleSummarizer& summarizer, ProgressDisplay& progress,
+  WriterThread(RunWriter& writer, SampleSummarizer& summarizer, ProgressReport& progress,
                double flush_seconds, std::int64_t rows, std::vector<std::int64_t> next_steps,
                std::int64_t kept_at_start)
       : writer_(writer),
@@ -409,7 +449,7 @@ class WriterThread {
   RunWriter& writer_;
   SampleSummarizer& summarizer_;
   SampleSummary summary_;
-  ProgressDisplay& progress_;
+  ProgressReport& progress_;
   static constexpr std::chrono::duration<double> kRedrawInterval{0.25};
   std::chrono::duration<double> flush_interval_;
   std::chrono::steady_clock::time_point last_commit_ = std::chrono::steady_clock::now();
@@ -532,6 +572,10 @@ Verdict verdict_of(int chains, int stopped, int failed, int diverged, const Stat
   return {};
 }
 
+std::int64_t accumulate(const std::vector<std::int64_t>& values) {
+  return std::accumulate(values.begin(), values.end(), std::int64_t{0});
+}
+
 std::int64_t steps_per_chain_of(const TrainSettings& s) {
   return s.chains.burn_in + s.chains.thin * s.chains.samples;
 }
@@ -549,22 +593,22 @@ std::vector<std::int64_t> next_steps_of(const std::vector<ChainCheckpoint>& resu
 }
 
 Status run_chains_into(Prepared& p, RunWriter& writer, const std::string& run_path,
-                       std::vector<ChainCheckpoint> resume, bool quiet) {
+                       std::vector<ChainCheckpoint> resume, const TrainHooks& train_hooks) {
   const TrainSettings& s = p.settings;
   std::int64_t kept = 0;
   std::vector<std::int64_t> next_steps = next_steps_of(resume, s.chains.chains, kept);
   Result<SampleSummarizer> summarizer =
       SampleSummarizer::create(p.layout, p.probe, s.projections, s.summary_seed);
   if (!summarizer.ok()) return summarizer.status();
-  ProgressDisplay progress(fmt::format("train {}", method_name(s.sampler.method)),
-                           steps_per_chain_of(s) * s.chains.chains,
-                           s.chains.samples * s.chains.chains, quiet);
+  ProgressReport progress(train_hooks, fmt::format("train {}", method_name(s.sampler.method)),
+                          steps_per_chain_of(s) * s.chains.chains,
+                          s.chains.samples * s.chains.chains, accumulate(next_steps), kept);
   WriterThread writer_thread(writer, *summarizer, progress, s.flush_seconds, p.rows.x.cols(),
                              next_steps, kept);
   const ChainHooks hooks = hooks_into([&](Message m) { writer_thread.push(std::move(m)); });
 
-  const std::atomic<bool>& stop = install_interrupt_handlers();
-  RunControl control{.stop = &stop, .checkpoint_request = &writer_thread.checkpoint_request()};
+  RunControl control{.stop = train_hooks.stop,
+                     .checkpoint_request = &writer_thread.checkpoint_request()};
   Result<RunOutcome> outcome = run_chains(s.sampler, chain_settings_of(p), p.layout.num_params,
                                           factory_of(p), init_of(p), hooks, control, resume);
   Status written = writer_thread.stop();
@@ -672,6 +716,10 @@ class ChainThread {
   std::atomic<bool> finished_{false};
   std::thread thread_;
 };
+
+bool stop_requested(const TrainHooks& hooks) {
+  return hooks.stop != nullptr && hooks.stop->load(std::memory_order_relaxed);
+}
 
 void sleep_briefly() { std::this_thread::sleep_for(std::chrono::milliseconds(2)); }
 
@@ -789,7 +837,7 @@ void send_control(const mpi::World& world, bool stop, std::uint64_t generation) 
 // Rank 0: its own chains, the writer, and everything the workers send.
 Status run_root(const mpi::World& world, Prepared& p, RunWriter& writer,
                 const std::string& run_path, std::vector<ChainCheckpoint> resume_all,
-                bool quiet) {
+                const TrainHooks& hooks) {
   const TrainSettings& s = p.settings;
   const int chains = s.chains.chains;
   std::int64_t kept = 0;
@@ -797,9 +845,10 @@ Status run_root(const mpi::World& world, Prepared& p, RunWriter& writer,
   Result<SampleSummarizer> summarizer =
       SampleSummarizer::create(p.layout, p.probe, s.projections, s.summary_seed);
   if (!summarizer.ok()) return summarizer.status();
-  ProgressDisplay progress(fmt::format("train {} ({} ranks)", method_name(s.sampler.method),
-                                       world.size()),
-                           steps_per_chain_of(s) * chains, s.chains.samples * chains, quiet);
+  ProgressReport progress(hooks, fmt::format("train {} ({} ranks)", method_name(s.sampler.method),
+                                             world.size()),
+                          steps_per_chain_of(s) * chains, s.chains.samples * chains,
+                          accumulate(next_steps), kept);
   WriterThread writer_thread(writer, *summarizer, progress, s.flush_seconds, p.rows.x.cols(),
                              next_steps, kept);
   const std::vector<int> ids = chains_of_rank(chains, 0, world.size());
@@ -807,7 +856,6 @@ Status run_root(const mpi::World& world, Prepared& p, RunWriter& writer,
   for (int id : ids) {
     if (!resume_all.empty()) resume.push_back(std::move(resume_all[static_cast<std::size_t>(id)]));
   }
-  const std::atomic<bool>& signalled = install_interrupt_handlers();
   std::atomic<bool> stop{false};
   ChainThread own(p, ids,  std::move(resume),
                   hooks_into([&](Message m) { writer_thread.push(std::move(m)); }),
@@ -864,7 +912,7 @@ Status run_root(const mpi::World& world, Prepared& p, RunWriter& writer,
         if (!failure.ok() || stopped_first >= 0) stop_everyone();
       }
     }
-    if (signalled.load(std::memory_order_relaxed) && !stop_sent) {
+    if (stop_requested(hooks) && !stop_sent) {
       if (stopped_first < 0) stopped_first = 0;
       stop_everyone();
     }
@@ -933,13 +981,12 @@ Status run_root(const mpi::World& world, Prepared& p, RunWriter& writer,
 
 // A worker rank: run its chains, send everything to rank 0, obey its control messages.
 Status run_worker(const mpi::World& world, const Prepared& p,
-                  const std::vector<ChainState>& states) {
+                  const std::vector<ChainState>& states, const TrainHooks& hooks) {
   const std::vector<int> ids = chains_of_rank(p.settings.chains.chains, world.rank(), world.size());
   std::vector<ChainCheckpoint> resume;
   for (int id : ids) {
     if (!states.empty()) resume.push_back(checkpoint_of(states[static_cast<std::size_t>(id)]));
   }
-  const std::atomic<bool>& signalled = install_interrupt_handlers();
   std::atomic<bool> stop{false};
   std::atomic<std::uint64_t> request{0};
   Outbox outbox;
@@ -985,7 +1032,7 @@ Status run_worker(const mpi::World& world, const Prepared& p,
     const bool finished = own.finished();
     bool busy = send_pending();
     busy = take_from_root() || busy;
-    if (signalled.load(std::memory_order_relaxed)) stop.store(true, std::memory_order_relaxed);
+    if (stop_requested(hooks)) stop.store(true, std::memory_order_relaxed);
     if (finished) break;
     if (!busy) sleep_briefly();
   }
@@ -1054,11 +1101,11 @@ Status train_in_world(const TrainRequest& request, const mpi::World& world) {
   }
   CREDENCE_RETURN_IF_ERROR(world.agree(mine));
 
-  if (!root) return run_worker(world, p, states);
+  if (!root) return run_worker(world, p, states, request.hooks);
   std::vector<ChainCheckpoint> resume;
   for (const ChainState& state : states) resume.push_back(checkpoint_of(state));
   const std::string& run_path = request.resume_path.empty() ? request.out_path : request.resume_path;
-  return run_root(world, p, *writer, run_path, std::move(resume), request.quiet);
+  return run_root(world, p, *writer, run_path, std::move(resume), request.hooks);
 }
 
 Status run_train_under_mpi(const TrainRequest& request) {
@@ -1119,17 +1166,12 @@ Status run_train(const TrainRequest& request) {
   }
   const std::string& run_path =
       request.resume_path.empty() ? request.out_path : request.resume_path;
-  Status status = run_chains_into(prepared, *writer, run_path, std::move(resume), request.quiet);
+  Status status = run_chains_into(prepared, *writer, run_path, std::move(resume), request.hooks);
   writer.reset();  // closed, so that the verdict can read the file
-  if (status.ok()) {
-    std::optional<RunVerdict> verdict = judge_run_file(run_path, prepared.probe.labels);
-    if (request.verdict != nullptr) {
-      *request.verdict = std::move(verdict);
-    } else if (verdict) {
-      std::fputs(verdict_text(*verdict).c_str(), stdout);
-    }
+  if (status.ok() && request.verdict != nullptr) {
+    *request.verdict = judge_run_file(run_path, prepared.probe.labels);
   }
   return status;
 }
 
-}  // namespace credence::cli
+}  // namespace credence

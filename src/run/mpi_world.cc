@@ -1,5 +1,5 @@
 // Thin wrapper over the MPI calls a training run makes (see mpi_world.h).
-#include "cli/mpi_world.h"
+#include "run/mpi_world.h"
 
 #include <mpi.h>
 
@@ -7,9 +7,9 @@
 #include <limits>
 #include <set>
 
-#include "cli/mpi_wire.h"
+#include "run/mpi_wire.h"
 
-namespace credence::cli::mpi {
+namespace credence::mpi {
 namespace {
 
 // One message is at most this many bytes; larger buffers go as several.
@@ -121,4 +121,4 @@ Status World::agree(const Status& mine) const {
 
 void World::barrier() const { MPI_Barrier(MPI_COMM_WORLD); }
 
-}  // namespace credence::cli::mpi
+}  // namespace credence::mpi

@@ -6,9 +6,9 @@
 #include <cstdint>
 #include <string>
 
-#include "cli/run_settings.h"
+#include "credence/run_settings.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// Which budget flags the user gave; a flag given keeps its value, the others are sized
 /// from the table.
@@ -69,4 +69,4 @@ std::string size_max_move(TrainSettings& settings, std::int64_t train_rows,
 inline constexpr double kMaxMoveCap = 1e-2;
 inline constexpr double kMaxMoveRows = 0.2;
 
-}  // namespace credence::cli
+}  // namespace credence

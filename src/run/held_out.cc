@@ -1,12 +1,12 @@
 // Held-out NLL for early stopping, and its defaults (held_out.h).
-#include "cli/held_out.h"
+#include "credence/held_out.h"
 
 #include <fmt/format.h>
 
 #include <algorithm>
 #include <memory>
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 // Rows per forward pass: large enough for efficient products, small enough that the
@@ -85,4 +85,4 @@ void size_early_stop(TrainSettings& s, std::int64_t train_rows, std::int64_t val
   if (e.patience == 0) e.every = 0;
 }
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -6,12 +6,12 @@
 #include <cstdint>
 #include <vector>
 
-#include "cli/budget.h"
+#include "credence/budget.h"
 #include "credence/net.h"
 #include "credence/samplers.h"
 #include "credence/table_potential.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// Validation rows scored per check, at most: 20,000 rows put the standard error of a
 /// mean NLL near 0.005 or below, and cost a few milliseconds per check for small
@@ -41,4 +41,4 @@ struct EarlyStopDefaults {
 void size_early_stop(TrainSettings& settings, std::int64_t train_rows,
                      std::int64_t validation_rows, const BudgetGiven& given);
 
-}  // namespace credence::cli
+}  // namespace credence

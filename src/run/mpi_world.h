@@ -9,7 +9,7 @@
 
 #include "credence/status.h"
 
-namespace credence::cli::mpi {
+namespace credence::mpi {
 
 /// Message tags of a training run.
 inline constexpr int kTagData = 11;     // worker -> 0: chain messages
@@ -58,4 +58,4 @@ class World {
   std::vector<std::string> host_of_;  // (size) processor name of each rank
 };
 
-}  // namespace credence::cli::mpi
+}  // namespace credence::mpi

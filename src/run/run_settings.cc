@@ -1,5 +1,5 @@
 // One list of setting fields, walked in both directions: to the run file and back.
-#include "cli/run_settings.h"
+#include "credence/run_settings.h"
 
 #include <fmt/format.h>
 
@@ -7,7 +7,7 @@
 #include <string_view>
 #include <type_traits>
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 // Calls visit(name, field) for every setting. The one place that names them, so
@@ -270,4 +270,4 @@ Status from_values(const Settings& values, TrainSettings& settings, ReadOptions&
   return status;
 }
 
-}  // namespace credence::cli
+}  // namespace credence

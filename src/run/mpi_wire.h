@@ -10,11 +10,11 @@
 #include <type_traits>
 #include <vector>
 
-#include "cli/train_job.h"
+#include "run/chain_message.h"
 #include "credence/ensemble.h"
 #include "credence/samplers.h"
 
-namespace credence::cli::wire {
+namespace credence::wire {
 
 /// Appends values to a byte buffer.
 class Packer {
@@ -109,4 +109,4 @@ bool get_settings(Unpacker& in, Settings& settings);
 void put_chain_state(Packer& out, const ChainState& state);
 bool get_chain_state(Unpacker& in, ChainState& state);
 
-}  // namespace credence::cli::wire
+}  // namespace credence::wire

@@ -11,7 +11,7 @@
 #include "credence/posterior.h"
 #include "credence/samplers.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// What `credence train` runs, beyond the data flags.
 struct TrainSettings {
@@ -46,4 +46,4 @@ Settings to_values(const TrainSettings& settings, const DataOptions& data);
 /// The inverse of to_values. kCorrupt names a missing or mistyped setting.
 Status from_values(const Settings& values, TrainSettings& settings, ReadOptions& read);
 
-}  // namespace credence::cli
+}  // namespace credence
