@@ -11,14 +11,16 @@ Calibration holds only for data like the held-out rows; decisions about health, 
 or safety need local validation and licensed practice.
 """
 
-from ._credence import __version__
+from ._credence import __version__, set_log_level
 from .api import assess, diagnose, predict
+from .training import train
+from .estimator import CredenceClassifier
 from .errors import (CorruptRunError, CredenceError, DivergedError, InvalidInputError,
                      RunIOError, TrainingInterrupted)
 from .run import Run, open_run
 
 __all__ = [
-    "__version__", "Run", "open_run", "predict", "assess", "diagnose",
+    "__version__", "set_log_level", "Run", "open_run", "train", "predict", "assess", "diagnose",
     "CredenceError", "InvalidInputError", "CorruptRunError", "RunIOError", "DivergedError",
-    "TrainingInterrupted",
+    "TrainingInterrupted", "CredenceClassifier",
 ]

@@ -13,5 +13,7 @@ void bind_run(pybind11::module_& m);
 void bind_predict(pybind11::module_& m);
 /// assess_json(...), diagnose_json(path): the --json documents of assess and diagnose.
 void bind_assess(pybind11::module_& m);
+/// train(data_path, out_path, options, progress): run_train with the CLI's defaults.
+void bind_train(pybind11::module_& m);
 
 }  // namespace credence::python
