@@ -167,10 +167,18 @@ py::dict train(const std::string& data_path, const std::string& out_path,
       p["finished"] = latest->finished;
       try {
         progress(p);
-      } catch (py::error_already_set&) {
-        // A failing display must not kill the run; stop it cleanly and re-raise after.
+      } catch (py::error_already_set& e) {
         stop.store(true);
-        worker.join();
+        // Ctrl-C while the display ran: the same clean stop as above.
+        if (e.matches(PyExc_KeyboardInterrupt)) {
+          interrupted = true;
+          continue;
+        }
+        // A failing display: the run is stopped and committed, then its error raised.
+        {
+          py::gil_scoped_release release;
+          worker.join();
+        }
         throw;
       }
     }

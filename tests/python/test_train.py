@@ -87,37 +87,51 @@ def test_method_flag_refused_as_on_the_cli(tmp_path, breast_cancer_csv):
 
 
 CHILD = """
-import sys, credence
+import os, signal, sys, credence
+samples, self_interrupt = int(sys.argv[3]), sys.argv[4] == "self"
 def report(p):
     if p["kept"] > 0:
         print("kept", flush=True)
+        if self_interrupt:  # Ctrl-C landing while the progress display runs
+            os.kill(os.getpid(), signal.SIGINT)
 try:
     credence.train(sys.argv[1], sys.argv[2], target="diagnosis", progress=report,
                    method="sghmc", hidden=[8], chains=2, burn_in=200, thin=10,
-                   samples=3000, seed=3)
+                   samples=samples, seed=3)
 except credence.TrainingInterrupted as e:
     print("interrupted:", e, flush=True)
     sys.exit(130)
 """
 
 
-def test_ctrl_c_leaves_a_resumable_run(tmp_path, breast_cancer_csv):
-    path = tmp_path / "long.h5"
-    child = subprocess.Popen([sys.executable, "-c", CHILD, breast_cancer_csv, str(path)],
+def interrupted_child(csv, path, samples, how):
+    child = subprocess.Popen([sys.executable, "-c", CHILD, csv, str(path), str(samples), how],
                              stdout=subprocess.PIPE, text=True, env=os.environ.copy())
     assert child.stdout.readline().strip() == "kept"
-    child.send_signal(signal.SIGINT)
-    out, _ = child.communicate(timeout=60)
+    if how == "signal":
+        child.send_signal(signal.SIGINT)
+    out, _ = child.communicate(timeout=120)
     assert child.returncode == 130, out
     assert "interrupted" in out and "--resume" in out
     run = credence.open_run(path)
     assert run.status == "interrupted"
-    kept = run.samples.shape[0]
-    assert 0 < kept < 6000
+    assert 0 < run.samples.shape[0] < 2 * samples
+    return run
+
+
+def test_ctrl_c_from_outside_stops_a_long_run(tmp_path, breast_cancer_csv):
+    # A budget no machine finishes before the signal lands (20 million steps per chain).
+    interrupted_child(breast_cancer_csv, tmp_path / "long.h5", 2_000_000, "signal")
+
+
+def test_ctrl_c_leaves_a_resumable_run(tmp_path, breast_cancer_csv):
+    path = tmp_path / "cut.h5"
+    # 200,000 steps per chain: the stop lands long before the end on any machine.
+    run = interrupted_child(breast_cancer_csv, path, 20_000, "self")
     # Resuming continues the same chains: the samples kept before the stop are unchanged.
     resumed = credence.train(breast_cancer_csv, path, resume=True, progress=False)
     assert resumed.status == "complete"
-    assert resumed.samples.shape[0] == 6000
+    assert resumed.samples.shape[0] == 40_000
     before = {(c, i): s for c, i, s in zip(run.sample_chains, run.sample_indices, run.samples)}
     after = {(c, i): s for c, i, s in zip(resumed.sample_chains, resumed.sample_indices,
                                           resumed.samples)}
