@@ -14,7 +14,6 @@ or safety need local validation and licensed practice.
 from ._credence import __version__, set_log_level
 from .api import assess, diagnose, predict
 from .training import train
-from .estimator import CredenceClassifier
 from .errors import (CorruptRunError, CredenceError, DivergedError, InvalidInputError,
                      RunIOError, TrainingInterrupted)
 from .run import Run, open_run
@@ -24,3 +23,11 @@ __all__ = [
     "CredenceError", "InvalidInputError", "CorruptRunError", "RunIOError", "DivergedError",
     "TrainingInterrupted", "CredenceClassifier",
 ]
+
+
+def __getattr__(name):
+    # The estimator imports scikit-learn, which the rest of the module does not need.
+    if name == "CredenceClassifier":
+        from .estimator import CredenceClassifier
+        return CredenceClassifier
+    raise AttributeError(f"module 'credence' has no attribute {name!r}")
