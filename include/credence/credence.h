@@ -16,6 +16,7 @@
 #include "credence/posterior.h"
 #include "credence/plot.h"
 #include "credence/html_report.h"
+#include "credence/assess.h"
 #include "credence/predict.h"
 #include "credence/run_diagnostics.h"
 #include "credence/run_settings.h"

@@ -6,8 +6,8 @@
 #include <cstdio>
 #include <ctime>
 
-#include "cli/assess_job.h"
-#include "cli/assess_output.h"
+#include "credence/assess.h"
+#include "report/assess_output.h"
 #include "cli/commands.h"
 #include "cli/data_options.h"
 #include "cli/memory_option.h"

@@ -7,7 +7,7 @@
 #include "cli/commands.h"
 #include "cli/compare_extend.h"
 #include "cli/compare_flags.h"
-#include "cli/verdict_output.h"
+#include "report/verdict_output.h"
 
 namespace credence::cli {
 namespace {

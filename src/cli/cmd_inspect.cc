@@ -5,7 +5,7 @@
 #include <variant>
 
 #include "cli/commands.h"
-#include "cli/json.h"
+#include "util/json.h"
 #include "credence/ensemble.h"
 #include "credence/net.h"
 #include "util/atomic_file.h"

@@ -4,8 +4,8 @@
 #include <cstdio>
 
 #include "cli/commands.h"
-#include "cli/report_page.h"
-#include "cli/verdict_output.h"
+#include "report/report_page.h"
+#include "report/verdict_output.h"
 #include "util/atomic_file.h"
 
 namespace credence::cli {

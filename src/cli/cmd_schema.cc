@@ -8,7 +8,7 @@
 
 #include "cli/commands.h"
 #include "cli/data_options.h"
-#include "cli/json.h"
+#include "util/json.h"
 #include "cli/memory_option.h"
 #include "credence/data.h"
 #include "util/atomic_file.h"

@@ -12,7 +12,7 @@
 #include "cli/memory_option.h"
 #include "cli/method_flags.h"
 #include "cli/progress.h"
-#include "cli/verdict_output.h"
+#include "report/verdict_output.h"
 #include "credence/budget.h"
 #include "credence/held_out.h"
 #include "credence/train.h"

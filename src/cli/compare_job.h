@@ -6,7 +6,7 @@
 #include <string>
 #include <vector>
 
-#include "cli/report_page.h"
+#include "report/report_page.h"
 #include "credence/train.h"
 
 namespace credence::cli {

@@ -1,7 +1,7 @@
 // Small and rare data are named, not hidden: a class with fewer than 5 rows, a split part
 // without a class, a network with far more parameters than training rows, bootstrap
 // intervals on few rows and a temperature fitted on few rows each get one warning with
-// their numbers (thresholds in data.h and cli/verdict_output.h, ours). The
+// their numbers (thresholds in data.h, credence/assess.h and report/verdict_output.h, ours). The
 // table is written here.
 #include <gtest/gtest.h>
 

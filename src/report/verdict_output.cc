@@ -1,9 +1,9 @@
-// verdict_text, write_verdict: the run_verdict checks in the CLI.
-#include "cli/verdict_output.h"
+// verdict_text, write_verdict: the run_verdict checks as text and JSON.
+#include "report/verdict_output.h"
 
 #include <fmt/format.h>
 
-namespace credence::cli {
+namespace credence {
 
 std::string verdict_text(const RunVerdict& verdict, std::string_view label) {
   std::string out;
@@ -33,4 +33,4 @@ void write_verdict(JsonWriter& j, const RunVerdict& verdict) {
   j.end_object();
 }
 
-}  // namespace credence::cli
+}  // namespace credence

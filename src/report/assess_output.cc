@@ -1,17 +1,17 @@
 // Text and JSON renderings of an assessment. Names of the JSON keys: docs/assess-json.md.
-#include "cli/assess_output.h"
+#include "report/assess_output.h"
 
 #include <fmt/format.h>
 
 #include <cmath>
 #include <iterator>
 
-#include "cli/decision_output.h"
-#include "cli/json.h"
+#include "report/decision_output.h"
+#include "util/json.h"
 #include "credence/html_report.h"
 #include "credence/plot.h"
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 std::string_view binning_name(Binning b) { return b == Binning::kEqualWidth ? "width" : "mass"; }
@@ -309,4 +309,4 @@ std::string assess_json(const AssessJobResult& r, const AssessHeadline& h) {
   return j.str();
 }
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -10,7 +10,7 @@
 #include <string_view>
 #include <vector>
 
-namespace credence::cli {
+namespace credence {
 
 /// `text` as a quoted JSON string.
 inline std::string json_string(std::string_view text) {
@@ -38,9 +38,9 @@ inline std::string json_number(double value) {
   return std::isfinite(value) ? fmt::format("{}", value) : "null";
 }
 
-}  // namespace credence::cli
+}  // namespace credence
 
-namespace credence::cli {
+namespace credence {
 
 /// Writes indented JSON text, placing commas itself:
 ///
@@ -123,4 +123,4 @@ class JsonWriter {
   bool after_key_ = false;
 };
 
-}  // namespace credence::cli
+}  // namespace credence

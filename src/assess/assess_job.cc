@@ -1,5 +1,5 @@
 // run_assess_job: pick rows, encode them, run the ensemble, score it (and its tempered form).
-#include "cli/assess_job.h"
+#include "credence/assess.h"
 
 #include <fmt/format.h>
 
@@ -7,11 +7,10 @@
 #include <numeric>
 
 #include "credence/run_settings.h"
-#include "cli/verdict_output.h"
 #include "util/log.h"
 #include "util/warn_once.h"
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 std::vector<std::int64_t> every_row(std::int64_t n) {
@@ -298,4 +297,4 @@ Result<AssessJobResult> run_assess_job(const RunReader& run, const std::string& 
   return result;
 }
 
-}  // namespace credence::cli
+}  // namespace credence

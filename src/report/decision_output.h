@@ -5,10 +5,10 @@
 
 #include <string>
 
-#include "cli/assess_job.h"
-#include "cli/json.h"
+#include "credence/assess.h"
+#include "util/json.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// Text blocks for stdout; nothing for more than two classes.
 void decision_text(std::string& out, const AssessJobResult& result);
@@ -21,4 +21,4 @@ void decision_json(JsonWriter& j, const AssessJobResult& result);
 /// "positive_class_curve": {"class", "width", "mass"}.
 void positive_curve_json(JsonWriter& j, const Assessment& a, const std::string& positive);
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -1,12 +1,12 @@
 // Text and JSON of the two-class decisions in assess (metrics: src/metrics/decisions.cc).
-#include "cli/decision_output.h"
+#include "report/decision_output.h"
 
 #include <fmt/format.h>
 
 #include <cmath>
 #include <iterator>
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 std::string num(double v, int digits = 3) {
@@ -181,4 +181,4 @@ void decision_json(JsonWriter& j, const AssessJobResult& r) {
   }
 }
 
-}  // namespace credence::cli
+}  // namespace credence

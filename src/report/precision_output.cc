@@ -1,11 +1,11 @@
 // precision_text, precision_json: a learned prior's block precisions in diagnose.
-#include "cli/precision_output.h"
+#include "report/precision_output.h"
 
 #include <fmt/format.h>
 
-#include "cli/json.h"
+#include "util/json.h"
 
-namespace credence::cli {
+namespace credence {
 
 std::string precision_text(const std::vector<BlockPrecision>& blocks) {
   if (blocks.empty()) {
@@ -44,4 +44,4 @@ std::string precision_json(const std::vector<BlockPrecision>& blocks) {
   return text;
 }
 
-}  // namespace credence::cli
+}  // namespace credence

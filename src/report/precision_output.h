@@ -6,7 +6,7 @@
 
 #include "credence/prior_summary.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// A short table, one line per block: layer, weights or biases, mean precision, its 90%
 /// interval over the kept samples, and the prior sd at the mean; or one line saying the
@@ -17,4 +17,4 @@ std::string precision_text(const std::vector<BlockPrecision>& blocks);
 /// sd_at_mean}], or null when the prior was fixed (no block learned).
 std::string precision_json(const std::vector<BlockPrecision>& blocks);
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -1,6 +1,9 @@
-// Scoring a run's ensemble on labelled rows: what `assess` prints and `report` and
-// `compare` reuse. Reads the table, picks the rows, checks the data file, runs the
-// ensemble, optionally fits a temperature on the validation rows.
+// assess: scoring a run's ensemble on labelled rows, the work behind `credence assess`,
+// which `report`, `compare` and the Python module reuse. Reads the table, picks the rows
+// (the run's stored test or validation rows, or every row), checks the data file against
+// the run's SHA-256, runs the ensemble, scores it and optionally fits a temperature on
+// the validation rows. Every call is pure on its arguments: safe from several threads
+// on different RunReaders.
 #pragma once
 
 #include <cstdint>
@@ -12,7 +15,14 @@
 #include "credence/metrics.h"
 #include "credence/predict.h"
 
-namespace credence::cli {
+namespace credence {
+
+// Small-data warnings of an assessment (ours, common practice with no single source):
+// bootstrap intervals on fewer rows than this are rough (the usual "about 30" for
+// resampling).
+inline constexpr std::size_t kFewBootstrapRows = 30;
+// A temperature fitted on fewer validation rows than this may not carry over.
+inline constexpr std::size_t kFewTemperatureRows = 50;
 
 /// Which rows of the data file are scored.
 enum class AssessSplit {
@@ -83,4 +93,4 @@ struct MeanSd {
 };
 MeanSd member_mean_sd(const std::vector<MemberScores>& members, double MemberScores::*score);
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -3,9 +3,9 @@
 
 #include <string>
 
-#include "cli/assess_job.h"
+#include "credence/assess.h"
 
-namespace credence::cli {
+namespace credence {
 
 struct AssessHeadline {
   std::string run_path;
@@ -24,4 +24,4 @@ std::string assess_plot(const AssessJobResult& result, const AssessHeadline& hea
 /// The JSON document (names in docs/assess-json.md).
 std::string assess_json(const AssessJobResult& result, const AssessHeadline& headline);
 
-}  // namespace credence::cli
+}  // namespace credence

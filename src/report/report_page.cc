@@ -1,5 +1,5 @@
 // Loading runs for a report, the score table, and the HTML page.
-#include "cli/report_page.h"
+#include "report/report_page.h"
 
 #include <fmt/format.h>
 
@@ -7,14 +7,14 @@
 #include <filesystem>
 #include <limits>
 
-#include "cli/json.h"
-#include "cli/verdict_output.h"
+#include "util/json.h"
+#include "report/verdict_output.h"
 #include "credence/plot.h"
 #include "credence/version.h"
 #include "report/verdict_section.h"
 #include "util/log.h"
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
@@ -438,4 +438,4 @@ std::string report_page(const std::string& title, const std::vector<MethodRun>& 
   return page.render();
 }
 
-}  // namespace credence::cli
+}  // namespace credence

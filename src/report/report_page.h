@@ -6,13 +6,13 @@
 #include <string>
 #include <vector>
 
-#include "cli/assess_job.h"
+#include "credence/assess.h"
 #include "credence/ensemble.h"
 #include "credence/html_report.h"
 #include "credence/run_diagnostics.h"
 #include "credence/run_verdict.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// Everything a report shows of one run.
 struct MethodRun {
@@ -55,4 +55,4 @@ std::string report_page(const std::string& title, const std::vector<MethodRun>& 
 /// function-space summaries divided by its sampling seconds; NaN when unknown.
 double bulk_ess_per_second(const MethodRun& run);
 
-}  // namespace credence::cli
+}  // namespace credence
