@@ -226,8 +226,10 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   flags->patience = chains->add_option(
       "--patience", s.chains.early_stop.patience,
       fmt::format("Optimizers: stop after N checks without a gain of {:g} in validation NLL "
-                  "(0: run the whole budget, keep the last iterate) [default: {}]",
-                  EarlyStopSettings{}.min_improvement, E::kPatience));
+                  "(0: run the whole budget, keep the last iterate) [default: {} checks, or "
+                  "as many as span {} steps if more: the prior's evidence updates can raise "
+                  "the validation NLL for a while]",
+                  EarlyStopSettings{}.min_improvement, E::kPatience, E::kPatienceSteps));
   flags->min_steps = chains->add_option(
       "--min-steps", s.chains.early_stop.min_steps,
       fmt::format("Optimizers: never stop early before N steps [default: max({} steps, {:g} "
