@@ -46,9 +46,10 @@ struct BudgetDefaults {
   // the 100-row subsamples of breast cancer, iris, wine and digits and on iris and wine
   // (e.g. wine sgld 0.167 -> 0.139, digits 100-row sgld 0.916 -> 0.777): at 2,000 steps
   // the chains have not yet spread over the posterior of a network whose prior, not the
-  // data, sets most weights. Mixed on anes96's 100-row subsample (-0.006 to +0.019) and
+  // data, sets most weights. Mixed on the 100-row subsamples of anes96 (-0.006 to
+  // +0.018), fair (-0.008 to +0.004) and the rare-positives table (0 to +0.024), and
   // worse on spector (22 training rows, 6 test rows: +0.09 to +0.13). Such a step reads
-  // at most 128 rows, so a phase still takes about a second.
+  // at most 128 rows, so a phase still takes a few seconds.
   static constexpr std::int64_t kSamplerSmallTableFloor = 10000;
   static constexpr std::int64_t kSamplerSmallTableRows = 128;
   static constexpr double kSamplerSamplingPasses = 3;
