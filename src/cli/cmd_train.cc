@@ -195,18 +195,21 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   using D = BudgetDefaults;
   flags->burn_in = chains->add_option(
       "--burn-in", s.chains.burn_in,
-      fmt::format("Samplers: steps before the first kept sample [default: max({} steps, {:g} "
-                  "passes over the training rows), at most {}: long enough to forget the "
-                  "start on small and large tables; hmc, rhmc: {} iterations]",
-                  D::kSamplerBurnInFloor, D::kSamplerBurnInPasses, D::kSamplerPhaseCap,
+      fmt::format("Samplers: steps before the first kept sample [default: max(F steps, {:g} "
+                  "passes over the training rows), at most {}, where the floor F is {} steps up "
+                  "to {} training rows, falling as 1/rows to {} (at {} rows): long enough to "
+                  "forget the start on small and large tables; hmc, rhmc: {} iterations]",
+                  D::kSamplerBurnInPasses, D::kSamplerPhaseCap, D::kSamplerSmallTableFloor,
+                  D::kSamplerSmallTableRows, D::kSamplerBurnInFloor,
+                  D::kSamplerSmallTableRows * D::kSamplerSmallTableFloor / D::kSamplerBurnInFloor,
                   D::kFullBatchBurnIn));
   flags->thin = chains->add_option(
       "--thin", s.chains.thin,
       fmt::format("Samplers: keep every N-th step after burn-in [default: the sampling phase "
-                  "max({} steps, {:g} passes), at most {}, divided by --samples, and at least "
-                  "{}; hmc, rhmc: {} iterations divided by --samples]",
-                  D::kSamplerSamplingFloor, D::kSamplerSamplingPasses, D::kSamplerPhaseCap,
-                  D::kSamplerThinFloor, D::kFullBatchSampling));
+                  "max(F steps, {:g} passes), F as for --burn-in, at most {}, divided by "
+                  "--samples, and at least {}; hmc, rhmc: {} iterations divided by --samples]",
+                  D::kSamplerSamplingPasses, D::kSamplerPhaseCap, D::kSamplerThinFloor,
+                  D::kFullBatchSampling));
   flags->samples = chains->add_option("--samples", s.chains.samples, "Samplers: kept samples per chain")
                        ->capture_default_str();
   chains->add_option("--batch", s.batches.batch_rows,
@@ -229,8 +232,10 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   flags->patience = chains->add_option(
       "--patience", s.chains.early_stop.patience,
       fmt::format("Optimizers: stop after N checks without a gain of {:g} in validation NLL "
-                  "(0: run the whole budget, keep the last iterate) [default: {}]",
-                  EarlyStopSettings{}.min_improvement, E::kPatience));
+                  "(0: run the whole budget, keep the last iterate) [default: {} checks, or "
+                  "as many as span {} steps if more: the prior's evidence updates can raise "
+                  "the validation NLL for a while]",
+                  EarlyStopSettings{}.min_improvement, E::kPatience, E::kPatienceSteps));
   flags->min_steps = chains->add_option(
       "--min-steps", s.chains.early_stop.min_steps,
       fmt::format("Optimizers: never stop early before N steps [default: max({} steps, {:g} "

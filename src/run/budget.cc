@@ -24,6 +24,14 @@ std::string passes_text(std::int64_t steps, std::int64_t per_pass) {
 
 }  // namespace
 
+std::int64_t sampler_floor_steps(std::int64_t train_rows, std::int64_t base_floor) {
+  const std::int64_t rows = std::max<std::int64_t>(1, train_rows);
+  const std::int64_t small = D::kSamplerSmallTableFloor * D::kSamplerSmallTableRows;
+  const std::int64_t floor = (small + rows - 1) / rows;
+  return std::clamp(floor, std::min(base_floor, D::kSamplerSmallTableFloor),
+                    std::max(base_floor, D::kSamplerSmallTableFloor));
+}
+
 std::int64_t steps_per_pass(std::int64_t train_rows, std::int64_t batch_rows) {
   const std::int64_t rows = std::max<std::int64_t>(1, train_rows);
   const std::int64_t batch = std::clamp<std::int64_t>(batch_rows, 1, rows);
@@ -56,12 +64,14 @@ std::string size_budget(TrainSettings& s, std::int64_t train_rows, const BudgetG
                        method_name(s.sampler.method), c.burn_in, c.samples, c.thin);
   }
   if (!given.burn_in) {
-    c.burn_in = in_passes(D::kSamplerBurnInPasses, per_pass, D::kSamplerBurnInFloor,
+    c.burn_in = in_passes(D::kSamplerBurnInPasses, per_pass,
+                          sampler_floor_steps(train_rows, D::kSamplerBurnInFloor),
                           D::kSamplerPhaseCap);
   }
   if (!given.thin) {
-    const std::int64_t sampling = in_passes(D::kSamplerSamplingPasses, per_pass,
-                                            D::kSamplerSamplingFloor, D::kSamplerPhaseCap);
+    const std::int64_t sampling =
+        in_passes(D::kSamplerSamplingPasses, per_pass,
+                  sampler_floor_steps(train_rows, D::kSamplerSamplingFloor), D::kSamplerPhaseCap);
     const std::int64_t samples = std::max<std::int64_t>(1, c.samples);
     c.thin = std::max(D::kSamplerThinFloor, (sampling + samples - 1) / samples);
   }

@@ -76,7 +76,10 @@ void size_early_stop(TrainSettings& s, std::int64_t train_rows, std::int64_t val
   const std::int64_t per_pass = steps_per_pass(train_rows, s.batches.batch_rows);
   const std::int64_t budget = s.chains.burn_in + 1;
   if (!given.check_every) e.every = std::clamp(per_pass, D::kEveryMin, D::kEveryMax);
-  if (!given.patience) e.patience = D::kPatience;
+  if (!given.patience) {
+    e.patience = e.every > 0 ? std::max(D::kPatience, (D::kPatienceSteps + e.every - 1) / e.every)
+                             : D::kPatience;
+  }
   if (!given.min_steps) {
     const auto passes = static_cast<std::int64_t>(D::kMinStepsPasses * static_cast<double>(per_pass));
     e.min_steps = std::min(budget, std::max(D::kMinStepsFloor, passes));

@@ -76,13 +76,37 @@ testing::TempDir* Budget::dir_ = nullptr;
 std::string Budget::data_;
 
 TEST_F(Budget, SamplerDefaultsOnASmallTableAreTheFloorsInSteps) {
-  // 100 rows: about 70 training rows, one minibatch per pass, so the floors decide:
-  // burn-in 2000 steps, a sampling phase of 2000 steps thinned to 100 samples (thin 20).
+  // 100 rows: about 70 training rows, one minibatch per pass, so the floors decide. A
+  // table of at most 128 training rows gets the small-table floor (budget.h says why):
+  // burn-in 10000 steps, a sampling phase of 10000 steps thinned to 100 samples
+  // (thin 100). Before the small-table floor: 2000 and thin 20 (this check failed).
   const std::string json = train("sgld", "--method sgld --chains 2");
-  EXPECT_EQ(json_value(json, "d['settings']['burn_in']"), "2000");
-  EXPECT_EQ(json_value(json, "d['settings']['thin']"), "20");
+  EXPECT_EQ(json_value(json, "d['settings']['burn_in']"), "10000");
+  EXPECT_EQ(json_value(json, "d['settings']['thin']"), "100");
   EXPECT_EQ(json_value(json, "d['settings']['samples']"), "100");
   EXPECT_EQ(json_value(json, "d['chain_details'][0]['kept']"), "100");
+}
+
+TEST_F(Budget, SamplerFloorFallsAsOneOverTheRowsToTheLargeTableFloor) {
+  // Above 128 training rows the floor is 10000 x 128 / N steps (the same rows x steps),
+  // never below 2000: 400 rows (280 training rows) -> ceil(1,280,000 / 280) = 4572;
+  // 3000 rows (2100 training rows) -> 2000, the large-table floor, as before.
+  const std::vector<std::tuple<int, std::string, std::string>> cases = {
+      {400, "4572", "229"}, {3000, "2000", "100"}};
+  for (const auto& [rows, burn_in, thin] : cases) {
+    const std::string data = path("rows" + std::to_string(rows) + ".csv");
+    ASSERT_EQ(run_credence("--quiet synth --scenario cold-store --rows " + std::to_string(rows) +
+                           " --seed 3 --out '" + data + "'").exit_code, 0);
+    const std::string run = path("floor" + std::to_string(rows) + ".h5");
+    const std::string json = path("floor" + std::to_string(rows) + ".json");
+    auto trained = run_credence("--quiet train '" + data + "' --target fault_14d --id unit_id "
+                                "--impute median --hidden 8 --method sgld --chains 1 "
+                                "--samples 20 --out '" + run + "'");
+    ASSERT_EQ(trained.exit_code, 0) << trained.output;
+    ASSERT_EQ(run_credence("--quiet inspect '" + run + "' --json '" + json + "'").exit_code, 0);
+    EXPECT_EQ(json_value(json, "d['settings']['burn_in']"), burn_in) << rows << " rows";
+    EXPECT_EQ(json_value(json, "d['settings']['thin']"), thin) << rows << " rows";
+  }
 }
 
 TEST_F(Budget, FlagsGivenAreKeptAsGiven) {
@@ -102,7 +126,8 @@ TEST_F(Budget, OptimizerDefaultsStopEarlyAndSayWhy) {
   const std::string json = train("adam", "--method adam --chains 2");
   EXPECT_EQ(json_value(json, "d['settings']['optimizer_steps']"), "4000");
   EXPECT_EQ(json_value(json, "d['settings']['early_stop_every']"), "25");
-  EXPECT_EQ(json_value(json, "d['settings']['early_stop_patience']"), "20");
+  // Patience spans 1500 steps: 60 checks of 25 (20 checks before; this check failed).
+  EXPECT_EQ(json_value(json, "d['settings']['early_stop_patience']"), "60");
   EXPECT_EQ(json_value(json, "d['settings']['early_stop_min_steps']"), "1000");
   const std::string reason = json_value(json, "d['chain_details'][0]['reason']");
   EXPECT_NE(reason.find("held-out score"), std::string::npos) << reason;
@@ -245,15 +270,15 @@ TEST_F(Budget, CompareDefaultsGiveSamplersTheirTrainBudget) {
   auto compared = run_credence("compare " + flags() + "--methods adam,sgld --chains 2 "
                                "--extend-seconds 0 --bootstrap 0 --out '" + out + "'");
   ASSERT_EQ(compared.exit_code, 0) << compared.output;
-  // Samplers keep 400 samples per chain (compare_samples.h) at train's thinning floor of
-  // 10 after train's burn-in floor of 2000 steps: 2000 + 10 x 400 = 6000 steps.
-  EXPECT_NE(compared.output.find("every method: 6000 steps per chain"), std::string::npos)
+  // A sampler's train budget on about 70 training rows, 10000 + 10000 steps, keeping the
+  // 400 samples per chain that compare keeps (compare_samples.h): thin 10000 / 400 = 25.
+  EXPECT_NE(compared.output.find("every method: 20000 steps per chain"), std::string::npos)
       << compared.output;
   EXPECT_EQ(compared.output.find("cut to"), std::string::npos) << compared.output;
   const std::string json = path("cmp_default_sgld.json");
   ASSERT_EQ(run_credence("--quiet inspect '" + out + "/sgld.h5' --json '" + json + "'").exit_code, 0);
-  EXPECT_EQ(json_value(json, "d['settings']['burn_in']"), "2000");
-  EXPECT_EQ(json_value(json, "d['settings']['thin']"), "10");
+  EXPECT_EQ(json_value(json, "d['settings']['burn_in']"), "10000");
+  EXPECT_EQ(json_value(json, "d['settings']['thin']"), "25");
   EXPECT_EQ(json_value(json, "d['chain_details'][0]['kept']"), "400");
 }
 
