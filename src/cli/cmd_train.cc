@@ -145,7 +145,8 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
 
   auto* method = sub->add_option_group("method");
   method->add_option("--method", flags->method,
-                     "sgld, psgld, sghmc, rsghmc, sgd, momentum, rsgd, adam, hmc or rhmc")
+                     "sgld, psgld, sghmc, rsghmc, sgd, momentum, rsgd, adam, hmc, rhmc, santa or "
+                     "santa-opt")
       ->capture_default_str();
   method->add_option("--lr", s.sampler.learning_rate,
                      "Learning rate on the mean loss (converted to the method's step; rsghmc "
@@ -161,7 +162,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "Samplers: what T tempers, posterior (prior and likelihood) or likelihood")
       ->capture_default_str();
   method->add_option("--schedule", flags->schedule,
-                     "constant, cyclical, or polynomial (optimizers only); not hmc/rhmc")
+                     "constant, cyclical, or polynomial (optimizers only); not hmc/rhmc/santa/santa-opt")
       ->capture_default_str();
   method->add_option("--cycles", s.sampler.schedule.cycles, "--schedule cyclical: number of cycles")
       ->capture_default_str();
@@ -177,6 +178,10 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   method->add_option("--mass", s.sampler.relativistic.mass,
                      "rsghmc/rsgd/rhmc: rest mass m (0: derived from the target speed)");
   method->add_flag("--fixed-mass", flags->fixed_mass, "rsghmc: do not adapt m during burn-in");
+  method->add_option("--exploration", s.sampler.santa.exploration_fraction,
+                     "santa-opt: share of the steps in the annealed exploration stage (the rest "
+                     "refine without noise)")
+      ->capture_default_str();
   method->add_option("--leapfrog", s.sampler.hmc.leapfrog_steps, "hmc/rhmc: leapfrog steps")
       ->capture_default_str();
   method->add_option("--target-accept", s.sampler.hmc.target_acceptance,
