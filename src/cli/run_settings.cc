@@ -50,6 +50,7 @@ void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
   visit("santa_sigma", m.santa.sigma);
   visit("santa_lambda", m.santa.lambda);
   visit("santa_friction", m.santa.friction);
+  visit("santa_max_preconditioner_ratio", m.santa.max_preconditioner_ratio);
   visit("santa_anneal_scale", m.santa.anneal_scale);
   visit("santa_anneal_offset", m.santa.anneal_offset);
   visit("santa_anneal_power", m.santa.anneal_power);

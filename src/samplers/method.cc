@@ -138,6 +138,9 @@ Status validate(const SamplerSettings& s) {
   const SantaSettings& sa = s.santa;
   if (!(sa.sigma > 0 && sa.sigma <= 1)) return bad("santa.sigma", "must lie in (0, 1]");
   if (!(sa.lambda >= 0) || !std::isfinite(sa.lambda)) return bad("santa.lambda", "must be >= 0");
+  if (!(sa.max_preconditioner_ratio >= 0)) {
+    return bad("santa.max_preconditioner_ratio", "must be >= 0 (0 = no cap)");
+  }
   if (!(sa.friction >= 0) || !std::isfinite(sa.friction)) {
     return bad("santa.friction", "must be >= 0 (0 derives it from the first gradient)");
   }

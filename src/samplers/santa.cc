@@ -23,6 +23,7 @@
 // santa-opt: beta_t = A (t + B)^gamma with t = step + 1, exploration for the first
 // exploration_fraction of the chain's steps, then refinement without noise; at the switch
 // alpha is clipped to [0, 1) so |1 - alpha| <= 1 (the count is kept in the state).
+// g is capped at sqrt(max_preconditioner_ratio) times its median, as psgld caps G.
 // u_0 = sqrt(eta) zeta; alpha_0 = sqrt(eta) C, or the thermostat's equilibrium sqrt(eta) g_1
 // per coordinate when C = 0, at most 1; v_0 = f_1^2 / N^2 (v_0 = 0 would inflate g_1).
 #include <algorithm>
@@ -43,7 +44,8 @@ class SantaRule final : public Rule {
         alpha_(Eigen::VectorXf::Zero(p)),
         v_(Eigen::VectorXf::Zero(p)),
         g_(Eigen::VectorXf::Zero(p)),
-        g_previous_(Eigen::VectorXf::Zero(p)) {}
+        g_previous_(Eigen::VectorXf::Zero(p)),
+        scratch_(Eigen::VectorXf::Zero(p)) {}
 
   Status step(ThetaRef theta, PotentialFn& potential, const StepContext& context,
               StepReport& report) override {
@@ -157,6 +159,22 @@ class SantaRule final : public Rule {
       gp[i] = first ? gi : g[i];
       g[i] = gi;
     }
+    if ((first || adapt) && ss.max_preconditioner_ratio > 0) cap_preconditioner(first);
+  }
+
+  // g_i^2 <= ratio * median(g^2), as psgld caps G: a weight whose gradient is ~0 (a dead
+  // unit) would otherwise get g ~ lambda^(-1/2) and a burst of noise and motion. The median
+  // from nth_element on a preallocated copy.
+  void cap_preconditioner(bool first) {
+    scratch_ = g_;
+    const auto middle = scratch_.data() + scratch_.size() / 2;
+    std::nth_element(scratch_.data(), middle, scratch_.data() + scratch_.size());
+    const auto cap =
+        static_cast<float>(std::sqrt(settings_.santa.max_preconditioner_ratio) * *middle);
+    for (std::int64_t i = 0; i < parameters_; ++i) {
+      g_[i] = std::min(g_[i], cap);
+      if (first) g_previous_[i] = g_[i];
+    }
   }
 
   void start(double eta) {
@@ -192,6 +210,7 @@ class SantaRule final : public Rule {
   Eigen::VectorXf v_;           // (P) average of (f / N)^2
   Eigen::VectorXf g_;           // (P) preconditioner g_t (g_{t-1} at the next step)
   Eigen::VectorXf g_previous_;  // (P) workspace: g_{t-1} during a step
+  Eigen::VectorXf scratch_;     // (P) workspace for the median
   std::uint64_t started_ = 0;   // 1 once u, alpha and v are initialised
   std::uint64_t refining_ = 0;  // 1 once santa-opt switched to refinement
   std::uint64_t alpha_clipped_ = 0;  // coordinates clipped at the switch
