@@ -55,6 +55,7 @@ struct StepContext {
   double step_size = 0.0;  // this step's eps / eta / a (U units), from the schedule
   bool explore = false;    // run the T = 0 limit this step (cyclical exploration)
   bool burn_in = false;    // adaptation (dual averaging, masses, psgld's G) allowed
+  std::int64_t total_steps = 0;  // the chain's whole budget; 0 = unknown (santa-opt never refines)
 };
 
 /// What one step reports for traces.

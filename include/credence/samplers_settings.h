@@ -15,7 +15,8 @@ namespace credence {
 
 /// The update rules. Samplers and their zero-temperature optimizer limits share
 /// one implementation: sgd is sgld at T = 0, momentum is sghmc at T = 0, rsgd is
-/// rsghmc at T = 0 (METHODS.md section 7).
+/// rsghmc at T = 0 (METHODS.md section 7), santa-opt is santa annealed to T = 0
+/// (METHODS.md section 16).
 enum class Method {
   kSgld,      // SGLD, ICML 2011
   kPsgld,     // preconditioned SGLD, AAAI 2016
@@ -27,6 +28,8 @@ enum class Method {
   kAdam,      // Adam, ICLR 2015 (optimizer only)
   kHmc,       // full-batch HMC with Metropolis correction
   kRhmc,      // full-batch relativistic HMC with Metropolis correction
+  kSanta,     // Santa, AISTATS 2016 (Euler scheme), at a fixed temperature
+  kSantaOpt,  // santa annealed to T = 0, then refinement ("santa-opt")
 };
 
 /// "sgld", "psgld", ... (lower case, as on the command line).
@@ -34,7 +37,7 @@ std::string_view method_name(Method method);
 /// Parses a method name; an unknown name fails with kInvalidInput and a message
 /// listing every valid name.
 Result<Method> parse_method(std::string_view name);
-/// True for the methods that sample at T > 0 (not sgd, momentum, rsgd, adam).
+/// True for the methods that sample at T > 0 (not sgd, momentum, rsgd, adam, santa-opt).
 bool is_sampler(Method method);
 /// True for hmc and rhmc, which need PotentialFn::full().
 bool is_full_batch(Method method);
@@ -161,6 +164,39 @@ struct AdamSettings {
   double epsilon = 1e-8;  // added to sqrt(vhat). Default 1e-8.
 };
 
+/// santa's and santa-opt's learning rate when none is given (the CLI's default; the struct
+/// default stays 1e-2). At 1e-2 santa diverged after burn-in on a 1,400-row invented table
+/// (2 of 4 chains, with the preconditioner cap); 1e-3 gave test NLL 0.523 there, as sghmc
+/// at its default (0.523). Measured on that one table only.
+inline constexpr double kSantaLearningRate = 1e-3;
+
+/// santa's and santa-opt's own settings (METHODS.md section 16, Euler scheme).
+struct SantaSettings {
+  /// Decay sigma of the squared-gradient average v. Default 0.999 (the reference
+  /// configurations). 1 keeps the first gradient's scale for the whole chain.
+  double sigma = 0.999;
+  /// lambda in g = 1 / sqrt(lambda + sqrt(v)), v in mean-gradient units. Default 1e-8.
+  double lambda = 1e-8;
+  /// Cap every g_i^2 at this multiple of the median g^2 while v adapts (as psgld's
+  /// max_preconditioner_ratio: a weight whose gradient is ~0 would get g = lambda^(-1/2));
+  /// 0 = no cap. Default 1e3 (without it santa diverged at --lr 1e-2 on a 1,400-row
+  /// invented table in 4 of 4 chains).
+  double max_preconditioner_ratio = 1e3;
+  /// Friction constant C: the thermostat starts at alpha_0 = sqrt(eta) C, at most 1.
+  /// 0 = derive: alpha_0 = sqrt(eta) g_1 per coordinate, the thermostat's equilibrium.
+  /// Default 0: the reference configurations' C = 1000 assumes steps far below ours
+  /// (eta ~ 1e-11), and the thermostat needs ~1 / eta steps to undo a wrong start.
+  double friction = 0.0;
+  /// santa-opt: inverse temperature beta_t = A (t + B)^gamma, t = 1, 2, ...
+  /// Defaults A = 1, B = 0, gamma = 2 (the reference configurations for dense networks).
+  double anneal_scale = 1.0;
+  double anneal_offset = 0.0;
+  double anneal_power = 2.0;
+  /// santa-opt: fraction of the chain's steps in the annealed exploration stage; the
+  /// rest refine without noise. Default 0.5 (the reference configurations).
+  double exploration_fraction = 0.5;
+};
+
 /// hmc's and rhmc's own settings (METHODS.md section 6).
 struct HmcSettings {
   /// Leapfrog steps per iteration L. Default 20 (METHODS.md: 20-100).
@@ -182,11 +218,12 @@ struct SamplerSettings {
 
   // --- Step size ---
   /// Step size in U units: SGLD's eps (sgld, psgld, sgd), eta (sghmc, momentum),
-  /// the time step eps (rsghmc, rsgd, hmc, rhmc), Adam's a in mean-loss units
+  /// the time step eps (rsghmc, rsgd, hmc, rhmc), eta (santa, santa-opt), Adam's a in
+  /// mean-loss units
   /// (adam). 0 means "derive from learning_rate".
   double step_size = 0.0;
   /// Learning rate lr on the mean loss U~/N, converted when step_size is 0:
-  /// eps = 2 lr / N (sgld, psgld, sgd), eta = lr / N (sghmc, momentum),
+  /// eps = 2 lr / N (sgld, psgld, sgd), eta = lr / N (sghmc, momentum, santa, santa-opt),
   /// eps = sqrt(lr / N) (rsghmc, rsgd, hmc, rhmc: the time step whose Newtonian
   /// SGHMC equivalent eta = eps^2 / m has eta = lr / N at m = 1), a = lr (adam).
   /// Default 1e-2: the middle of the range 1e-3 to 1e-1 METHODS.md quotes for
@@ -206,6 +243,7 @@ struct SamplerSettings {
   RelativisticSettings relativistic;
   AdamSettings adam;
   HmcSettings hmc;
+  SantaSettings santa;
 };
 
 /// Checks the settings once; fails with kInvalidInput naming the field and what

@@ -85,6 +85,9 @@ Status resolve(TrainFlags& flags) {
     return Status::invalid_input(fmt::format(
         "--schedule '{}' is not one of constant, polynomial, cyclical", flags.schedule));
   }
+  if ((*method == Method::kSanta || *method == Method::kSantaOpt) && !flags.given.count("--lr")) {
+    r.settings.sampler.learning_rate = kSantaLearningRate;
+  }
   r.settings.sampler.relativistic.adapt_mass = !flags.fixed_mass;
   CREDENCE_RETURN_IF_ERROR(check_method_flags(*method, r.settings.sampler.schedule.kind,
                                               !r.net_path.empty(), flags.given));
@@ -150,11 +153,13 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
 
   auto* method = sub->add_option_group("method");
   method->add_option("--method", flags->method,
-                     "sgld, psgld, sghmc, rsghmc, sgd, momentum, rsgd, adam, hmc or rhmc")
+                     "sgld, psgld, sghmc, rsghmc, sgd, momentum, rsgd, adam, hmc, rhmc, santa or "
+                     "santa-opt")
       ->capture_default_str();
   method->add_option("--lr", s.sampler.learning_rate,
                      "Learning rate on the mean loss (converted to the method's step; rsghmc "
-                     "reads it only with --speed or --mass: its move comes from --max-move)")
+                     "reads it only with --speed or --mass: its move comes from --max-move; "
+                     "santa, santa-opt: default 0.001)")
       ->capture_default_str();
   method->add_option("--step-size", s.sampler.step_size,
                      "Step size in potential units, instead of --lr (rsghmc: only with --speed "
@@ -166,7 +171,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "Samplers: what T tempers, posterior (prior and likelihood) or likelihood")
       ->capture_default_str();
   method->add_option("--schedule", flags->schedule,
-                     "constant, cyclical, or polynomial (optimizers only); not hmc/rhmc")
+                     "constant, cyclical, or polynomial (optimizers only); not hmc/rhmc/santa/santa-opt")
       ->capture_default_str();
   method->add_option("--cycles", s.sampler.schedule.cycles, "--schedule cyclical: number of cycles")
       ->capture_default_str();
@@ -183,6 +188,10 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   method->add_option("--mass", s.sampler.relativistic.mass,
                      "rsghmc/rsgd/rhmc: rest mass m (0: derived from the target speed)");
   method->add_flag("--fixed-mass", flags->fixed_mass, "rsghmc: do not adapt m during burn-in");
+  method->add_option("--exploration", s.sampler.santa.exploration_fraction,
+                     "santa-opt: share of the steps in the annealed exploration stage (the rest "
+                     "refine without noise)")
+      ->capture_default_str();
   method->add_option("--leapfrog", s.sampler.hmc.leapfrog_steps, "hmc/rhmc: leapfrog steps")
       ->capture_default_str();
   method->add_option("--target-accept", s.sampler.hmc.target_acceptance,

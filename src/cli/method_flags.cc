@@ -37,9 +37,11 @@ bool step_matters(const Use& u) {
 
 bool is_optimizer(const Use& u) { return !is_sampler(u.method); }
 
+bool is_santa(Method m) { return m == Method::kSanta || m == Method::kSantaOpt; }
+
 constexpr std::string_view kEarlyStopOnly =
     "it stops an optimizer early; {m} is a sampler, whose kept samples all count: leave it "
-    "out, or choose sgd, momentum, rsgd or adam";
+    "out, or choose sgd, momentum, rsgd, adam or santa-opt";
 
 constexpr FlagRule kRules[] = {
     {"--lr", [](const Use& u) { return step_matters(u) && !u.has("--step-size"); },
@@ -50,11 +52,15 @@ constexpr FlagRule kRules[] = {
      "speed and mass the step cancels, and each weight's move per step comes from --max-move"},
     {"--temperature", [](const Use& u) { return is_sampler(u.method); },
      "{m} is an optimizer (the T = 0 limit) and reads no temperature; use a sampler (sgld, "
-     "psgld, sghmc, rsghmc, hmc, rhmc) for T > 0"},
+     "psgld, sghmc, rsghmc, santa, hmc, rhmc) for T > 0"},
     {"--tempering", [](const Use& u) { return is_sampler(u.method); },
      "{m} is an optimizer and tempers nothing; --tempering is for the samplers"},
-    {"--schedule", [](const Use& u) { return !is_full_batch(u.method); },
-     "{m} adapts its step by dual averaging during burn-in and reads no --schedule"},
+    {"--schedule", [](const Use& u) { return !is_full_batch(u.method) && !is_santa(u.method); },
+     "{m} reads no --schedule: hmc and rhmc adapt their step by dual averaging during "
+     "burn-in, santa and santa-opt anneal their temperature themselves"},
+    {"--exploration", [](const Use& u) { return u.method == Method::kSantaOpt; },
+     "--exploration is the share of santa-opt's steps spent in its annealed exploration "
+     "stage; {m} does not read it"},
     {"--cycles", [](const Use& u) { return u.schedule == ScheduleKind::kCyclical; },
      "--cycles is read only with --schedule cyclical"},
     {"--friction",

@@ -10,6 +10,9 @@
 #include <limits>
 #include <set>
 #include <string>
+#include <optional>
+#include <string_view>
+#include <variant>
 
 #include "credence/net.h"
 #include "ensemble/layout.h"
@@ -187,6 +190,58 @@ Status check_committed(const Committed& c) {
   return Status::ok_status();
 }
 
+// The state arrays a method's resume reads, with their widths (0 = the parameter count P).
+// The ensemble module knows no sampler, so the table names them; restore_state would refuse
+// a wrong width too, but only when a resume reaches it, after the file had been trusted.
+struct StateArray {
+  std::string_view method;
+  bool words;  // words, else floats
+  std::string_view name;
+  std::int64_t width;
+};
+constexpr StateArray kStateArrays[] = {
+    {"santa", false, "u", 0},           {"santa", false, "alpha", 0},
+    {"santa", false, "v", 0},           {"santa", false, "preconditioner", 0},
+    {"santa", true, "santa_started", 1}, {"santa", true, "santa_refining", 1},
+    {"santa", true, "alpha_clipped", 1},
+};
+
+Status check_state_sizes(const RunHeader& h) {
+  std::string method;
+  for (const auto& [name, value] : h.settings) {
+    if (name == "method" && std::holds_alternative<std::string>(value)) {
+      method = std::get<std::string>(value);
+    }
+  }
+  // santa-opt is santa's optimizer and keeps the same state.
+  if (method == "santa-opt") method = "santa";
+  for (const StateArray& a : kStateArrays) {
+    if (a.method != method) continue;
+    const std::int64_t want = a.width == 0 ? h.parameters : a.width;
+    const std::string name(a.name);
+    const char* kind = a.words ? kWords : kFloats;
+    std::optional<std::size_t> have;
+    auto find = [&](const auto& arrays) {
+      if (auto it = arrays.find(name); it != arrays.end()) have = it->second.size();
+    };
+    if (a.words) {
+      find(h.state_template.words);
+    } else {
+      find(h.state_template.floats);
+    }
+    const std::string where =
+        fmt::format("{}/{}/{}/{}/{}", kCheckpoint, slot_group(0), kState, kind, name);
+    if (!have) {
+      return damaged(fmt::format("{} is missing; a {} run keeps it to resume", where, method));
+    }
+    if (static_cast<std::int64_t>(*have) != want) {
+      return damaged(fmt::format("{} holds {} values per chain; a {} run of {} parameters keeps {}",
+                                 where, *have, method, h.parameters, want));
+    }
+  }
+  return Status::ok_status();
+}
+
 }  // namespace
 
 Status validate_header_fields(const RunHeader& h) {
@@ -208,6 +263,7 @@ Status validate_header_fields(const RunHeader& h) {
   if (h.samples_per_chain < 0) {
     return damaged(fmt::format("{}/{} is {}", kSampling, kSamplesPerChain, h.samples_per_chain));
   }
+  CREDENCE_RETURN_IF_ERROR(check_state_sizes(h));
   return check_model(h);
 }
 

@@ -47,6 +47,14 @@ void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
   visit("adam_beta1", m.adam.beta1);
   visit("adam_beta2", m.adam.beta2);
   visit("adam_epsilon", m.adam.epsilon);
+  visit("santa_sigma", m.santa.sigma);
+  visit("santa_lambda", m.santa.lambda);
+  visit("santa_friction", m.santa.friction);
+  visit("santa_max_preconditioner_ratio", m.santa.max_preconditioner_ratio);
+  visit("santa_anneal_scale", m.santa.anneal_scale);
+  visit("santa_anneal_offset", m.santa.anneal_offset);
+  visit("santa_anneal_power", m.santa.anneal_power);
+  visit("santa_exploration_fraction", m.santa.exploration_fraction);
   visit("hmc_leapfrog_steps", m.hmc.leapfrog_steps);
   visit("hmc_adapt_step", m.hmc.adapt_step);
   visit("hmc_target_acceptance", m.hmc.target_acceptance);
@@ -223,6 +231,9 @@ Status validate_train_settings(const TrainSettings& s) {
   if (!finite_at_least(rel.speed, 0)) return refuse("--speed", rel.speed, "0 (from --max-move) or more");
   if (!finite_at_least(rel.mass, 0)) return refuse("--mass", rel.mass, "0 (derived) or more");
   if (m.hmc.leapfrog_steps < 1) return refuse("--leapfrog", m.hmc.leapfrog_steps, "1 or more steps");
+  if (!(m.santa.exploration_fraction >= 0 && m.santa.exploration_fraction <= 1)) {
+    return refuse("--exploration", m.santa.exploration_fraction, "a share of the steps in [0, 1], such as 0.5");
+  }
   if (!(m.hmc.target_acceptance > 0 && m.hmc.target_acceptance < 1)) {
     return refuse("--target-accept", m.hmc.target_acceptance, "a rate in (0, 1), such as 0.8");
   }
@@ -269,6 +280,9 @@ Status from_values(const Settings& values, TrainSettings& settings, ReadOptions&
     // Run files written before optimizers stopped early have no early_stop_* settings:
     // they ran without it, which the defaults (every = 0: off) reproduce on resume.
     if (std::string_view(name).starts_with("early_stop_")) return;
+    // Run files written before santa existed have no santa_* settings; they are never
+    // santa runs, and the defaults leave them unchanged.
+    if (std::string_view(name).starts_with("santa_")) return;
     status = Status::corrupt(fmt::format("the run file has no setting '{}'", name));
   });
   return status;

@@ -169,6 +169,7 @@ class ChainRunner {
       context.step_size = schedule.step_size(step_);
       context.explore = schedule.exploring(step_);
       context.burn_in = step_ < layout.burn_in;
+      context.total_steps = total;
       report = StepReport();
       // Between steps only: hmc and rhmc keep one target through a trajectory.
       bool target_changed = false;

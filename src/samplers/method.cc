@@ -18,7 +18,7 @@ struct MethodEntry {
   std::string_view name;
 };
 
-constexpr std::array<MethodEntry, 10> kMethods = {{
+constexpr std::array<MethodEntry, 12> kMethods = {{
     {Method::kSgld, "sgld"},
     {Method::kPsgld, "psgld"},
     {Method::kSghmc, "sghmc"},
@@ -29,6 +29,8 @@ constexpr std::array<MethodEntry, 10> kMethods = {{
     {Method::kAdam, "adam"},
     {Method::kHmc, "hmc"},
     {Method::kRhmc, "rhmc"},
+    {Method::kSanta, "santa"},
+    {Method::kSantaOpt, "santa-opt"},
 }};
 
 Status bad(const std::string& field, const std::string& what) {
@@ -63,6 +65,7 @@ bool is_sampler(Method method) {
     case Method::kMomentum:
     case Method::kRsgd:
     case Method::kAdam:
+    case Method::kSantaOpt:
       return false;
     default:
       return true;
@@ -132,6 +135,28 @@ Status validate(const SamplerSettings& s) {
       !(s.adam.epsilon >= 0)) {
     return bad("adam", "needs beta1, beta2 in [0, 1) and epsilon >= 0");
   }
+  const SantaSettings& sa = s.santa;
+  if (!(sa.sigma > 0 && sa.sigma <= 1)) return bad("santa.sigma", "must lie in (0, 1]");
+  if (!(sa.lambda >= 0) || !std::isfinite(sa.lambda)) return bad("santa.lambda", "must be >= 0");
+  if (!(sa.max_preconditioner_ratio >= 0)) {
+    return bad("santa.max_preconditioner_ratio", "must be >= 0 (0 = no cap)");
+  }
+  if (!(sa.friction >= 0) || !std::isfinite(sa.friction)) {
+    return bad("santa.friction", "must be >= 0 (0 derives it from the first gradient)");
+  }
+  if (!(sa.anneal_scale > 0) || !(sa.anneal_offset >= 0) || !(sa.anneal_power >= 0) ||
+      !std::isfinite(sa.anneal_scale + sa.anneal_offset + sa.anneal_power)) {
+    return bad("santa.anneal", "needs scale A > 0, offset B >= 0 and power gamma >= 0");
+  }
+  if (!(sa.exploration_fraction >= 0 && sa.exploration_fraction <= 1)) {
+    return bad("santa.exploration_fraction", "must lie in [0, 1]");
+  }
+  if ((s.method == Method::kSanta || s.method == Method::kSantaOpt) &&
+      sc.kind != ScheduleKind::kConstant) {
+    return bad("schedule.kind",
+               "must be constant for santa and santa-opt (they anneal their temperature "
+               "themselves)");
+  }
   if (s.hmc.leapfrog_steps < 1) return bad("hmc.leapfrog_steps", "must be >= 1");
   if (!(s.hmc.target_acceptance > 0 && s.hmc.target_acceptance < 1)) {
     return bad("hmc.target_acceptance", "must lie in (0, 1)");
@@ -172,6 +197,8 @@ double base_step_size(const SamplerSettings& s, std::int64_t rows) {
       return 2 * s.learning_rate / n;
     case Method::kSghmc:
     case Method::kMomentum:
+    case Method::kSanta:
+    case Method::kSantaOpt:
       return s.learning_rate / n;
     case Method::kAdam:
       return s.learning_rate;
@@ -204,6 +231,9 @@ Result<std::unique_ptr<Sampler>> Sampler::create(const SamplerSettings& settings
       return make_hmc(settings, parameters, rows, seed);
     case Method::kRhmc:
       return make_rhmc(settings, parameters, rows, seed);
+    case Method::kSanta:
+    case Method::kSantaOpt:
+      return make_santa(settings, parameters, rows, seed);
   }
   return Status::internal("unhandled method in Sampler::create");
 }

@@ -63,6 +63,7 @@ RulePtr make_sghmc(const SamplerSettings& s, std::int64_t p, std::int64_t n, std
 RulePtr make_rsghmc(const SamplerSettings& s, std::int64_t p, std::int64_t n, std::uint64_t seed);
 RulePtr make_adam(const SamplerSettings& s, std::int64_t p, std::int64_t n, std::uint64_t seed);
 RulePtr make_hmc(const SamplerSettings& s, std::int64_t p, std::int64_t n, std::uint64_t seed);
+RulePtr make_santa(const SamplerSettings& s, std::int64_t p, std::int64_t n, std::uint64_t seed);
 RulePtr make_rhmc(const SamplerSettings& s, std::int64_t p, std::int64_t n, std::uint64_t seed);
 
 }  // namespace credence::samplers

@@ -18,11 +18,10 @@ struct PythonLines {
   std::map<std::string, std::vector<double>> values;
 };
 
-/// `CREDENCE_PYTHON tests/tools/numpy_rhat.py <mode> <path>`.
-inline PythonLines run_numpy_rhat(const std::string& mode, const std::string& path) {
+/// Runs a shell command (a Python script) and reads its "key value ..." lines.
+inline PythonLines run_python_lines(const std::string& shell_command) {
   PythonLines result;
-  const std::string command = std::string("'") + CREDENCE_PYTHON + "' '" + CREDENCE_SOURCE_DIR +
-                              "/tests/tools/numpy_rhat.py' " + mode + " '" + path + "' 2>&1";
+  const std::string command = shell_command + " 2>&1";
   FILE* pipe = popen(command.c_str(), "r");
   if (pipe == nullptr) return result;
   std::array<char, 4096> buffer;
@@ -41,6 +40,12 @@ inline PythonLines run_numpy_rhat(const std::string& mode, const std::string& pa
     result.values[key] = row;
   }
   return result;
+}
+
+/// `CREDENCE_PYTHON tests/tools/numpy_rhat.py <mode> <path>`.
+inline PythonLines run_numpy_rhat(const std::string& mode, const std::string& path) {
+  return run_python_lines(std::string("'") + CREDENCE_PYTHON + "' '" + CREDENCE_SOURCE_DIR +
+                          "/tests/tools/numpy_rhat.py' " + mode + " '" + path + "'");
 }
 
 }  // namespace credence::testing

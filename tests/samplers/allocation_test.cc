@@ -37,7 +37,8 @@ TEST(StepLoop, TheCounterSeesAllocations) {
 TEST(StepLoop, NoMethodAllocatesInsideStep) {
   for (Method method :
        {Method::kSgld, Method::kPsgld, Method::kSghmc, Method::kRsghmc, Method::kSgd,
-        Method::kMomentum, Method::kRsgd, Method::kAdam, Method::kHmc, Method::kRhmc}) {
+        Method::kMomentum, Method::kRsgd, Method::kAdam, Method::kHmc, Method::kRhmc,
+        Method::kSanta, Method::kSantaOpt}) {
     SamplerSettings s;
     s.method = method;
     s.step_size = 0.01;
@@ -58,6 +59,7 @@ TEST(StepLoop, NoMethodAllocatesInsideStep) {
       context.step = t;
       context.step_size = 0.01;
       context.burn_in = t < 30;
+      context.total_steps = 60;  // santa-opt refines from step 30
       ASSERT_TRUE((*made)->step(theta, potential, context, report).ok());
     }
     EXPECT_EQ(g_allocations.load() - before, 0) << method_name(method);

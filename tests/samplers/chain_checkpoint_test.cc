@@ -68,8 +68,8 @@ SamplerSettings settings_for(Method method) {
   return s;
 }
 
-const Method kMethods[] = {Method::kSgld,  Method::kSghmc, Method::kRsghmc,
-                           Method::kPsgld, Method::kAdam,  Method::kHmc};
+const Method kMethods[] = {Method::kSgld, Method::kSghmc, Method::kRsghmc, Method::kPsgld,
+                           Method::kAdam, Method::kHmc,   Method::kSanta};
 
 struct Kept {
   int chain;

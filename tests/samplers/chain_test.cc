@@ -56,6 +56,8 @@ SamplerSettings settings_for(Method method) {
   s.method = method;
   s.step_size = method == Method::kSghmc || method == Method::kMomentum ? 0.01 : 0.1;
   if (method == Method::kAdam) s.step_size = 0.01;
+  // santa's eta enters as sqrt(eta) g per step (METHODS.md 16): 1e-3 moves about as far.
+  if (method == Method::kSanta || method == Method::kSantaOpt) s.step_size = 1e-3;
   s.relativistic.mass = 1;
   s.relativistic.speed = 1;
   s.relativistic.friction = 1;
@@ -65,7 +67,7 @@ SamplerSettings settings_for(Method method) {
 
 const Method kAllMethods[] = {Method::kSgld, Method::kPsgld,    Method::kSghmc, Method::kRsghmc,
                               Method::kSgd,  Method::kMomentum, Method::kRsgd,  Method::kAdam,
-                              Method::kHmc,  Method::kRhmc};
+                              Method::kHmc,  Method::kRhmc,     Method::kSanta, Method::kSantaOpt};
 
 TEST(ChainDriver, SameSeedGivesTheSameIteratesWithOneAndTwoThreads) {
   ChainSettings c;

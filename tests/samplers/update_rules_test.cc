@@ -190,7 +190,8 @@ TEST(UpdateRules, MomentumSliceSamplerReachesTheHyperbolicVariance) {
 
 TEST(MethodNames, EveryNameParsesAndPrintsBack) {
   for (const char* name :
-       {"sgld", "psgld", "sghmc", "rsghmc", "sgd", "momentum", "rsgd", "adam", "hmc", "rhmc"}) {
+       {"sgld", "psgld", "sghmc", "rsghmc", "sgd", "momentum", "rsgd", "adam", "hmc", "rhmc",
+        "santa", "santa-opt"}) {
     Result<Method> method = parse_method(name);
     ASSERT_TRUE(method.ok()) << name;
     EXPECT_EQ(method_name(*method), name);
@@ -203,7 +204,7 @@ TEST(MethodNames, UnknownNameListsTheValidOnes) {
   EXPECT_EQ(method.status().code(), StatusCode::kInvalidInput);
   EXPECT_EQ(method.status().message(),
             "unknown method 'langevin'; valid methods are: sgld, psgld, sghmc, rsghmc, sgd, "
-            "momentum, rsgd, adam, hmc, rhmc");
+            "momentum, rsgd, adam, hmc, rhmc, santa, santa-opt");
 }
 
 TEST(Schedules, PolynomialDecayValuesAndFit) {
