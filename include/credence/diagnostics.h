@@ -1,5 +1,5 @@
 // diagnostics: are the chains mixed? Split R-hat, rank-normalised (bulk) and folded R-hat,
-// bulk-ESS and tail-ESS of one scalar summary (METHODS.md 10.1-10.2).
+// bulk-ESS and tail-ESS of one scalar summary (docs/methods.md 10.1-10.2).
 //
 // Source: "Rank-normalization, folding, and localization: an improved R-hat for assessing
 // convergence of MCMC" (Bayesian Analysis, 2021), built on the potential scale reduction
@@ -41,9 +41,9 @@ using Chains = std::vector<std::vector<double>>;
 /// (use the draws only when R-hat < 1.01).
 inline constexpr double kRhatThreshold = 1.01;
 /// Bulk- and tail-ESS below this many per chain are too few: the 2021 paper asks for
-/// about 100 per chain (400 for four chains), METHODS.md 10.2.
+/// about 100 per chain (400 for four chains), docs/methods.md 10.2.
 inline constexpr double kEssPerChainThreshold = 100;
-/// Fewer draws per split chain than this make R-hat and ESS unstable (METHODS.md 10,
+/// Fewer draws per split chain than this make R-hat and ESS unstable (docs/methods.md 10,
 /// failure modes): a warning, not an error.
 inline constexpr long kMinDrawsPerSplitChain = 50;
 
@@ -66,11 +66,11 @@ Chains fold(const Chains& chains);
 /// 1 where x <= the pooled `p`-quantile, else 0 (the tail-ESS indicator).
 Chains quantile_indicator(const Chains& chains, double p);
 
-/// Potential scale reduction of the chains as given (no splitting, METHODS.md 10.1).
+/// Potential scale reduction of the chains as given (no splitting, docs/methods.md 10.1).
 /// Two or more chains of equal length >= 2, finite; NaN otherwise.
 double rhat_of(const Chains& chains);
 /// ESS of the chains as given (no splitting): FFT autocorrelations combined across
-/// chains, Geyer's initial monotone sequence, capped at S log10(S) (METHODS.md 10.2).
+/// chains, Geyer's initial monotone sequence, capped at S log10(S) (docs/methods.md 10.2).
 /// One chain is allowed (no between-chain term); fewer than 4 draws per chain give NaN.
 double ess_of(const Chains& chains);
 

@@ -75,7 +75,7 @@ struct RunHeader {
   Settings settings;                     // every setting and seed, by name
   int chains = 0;                        // C
   std::int64_t samples_per_chain = 0;    // S planned per chain
-  // Tracked summaries (METHODS.md 10.3), one row per kept sample.
+  // Tracked summaries (docs/methods.md 10.3), one row per kept sample.
   std::vector<std::int64_t> probe_rows;  // R data rows (from val_rows) whose predictions are tracked
   int projections = 4;                   // random projections u_j^T theta per sample
   int layers = 0;                        // L: squared norm per layer per sample

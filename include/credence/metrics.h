@@ -3,7 +3,7 @@
 // Every function here is a pure computation on plain inputs: class probabilities (or their
 // logarithms) as a (K, n) double matrix, one row of data per column as everywhere in
 // credence, and n labels in 0..K-1. Nothing is stored between calls, so every call is safe
-// from several threads at once. The formulas and their test values are METHODS.md section 9;
+// from several threads at once. The formulas and their test values are docs/methods.md section 9;
 // each function's source is named above its definition in src/metrics/.
 //
 // Most functions assume valid input and say so in REQUIRES: lines (asserts in tests).
@@ -44,7 +44,7 @@ Status check_probabilities(ProbsRef probs, LabelSpan labels);
 Status check_log_probabilities(ProbsRef log_probs, LabelSpan labels);
 
 // ---------------------------------------------------------------------------------------
-// Uncertainty of an ensemble (METHODS.md 9.1)
+// Uncertainty of an ensemble (docs/methods.md 9.1)
 
 /// Per-row uncertainty split of a model average. All vectors are (n), in nats.
 struct UncertaintySplit {
@@ -111,7 +111,7 @@ class UncertaintyAccumulator {
 UncertaintySplit split_uncertainty(std::span<const Eigen::MatrixXd> member_log_probs);
 
 // ---------------------------------------------------------------------------------------
-// Scores on labelled rows (METHODS.md 9.2). REQUIRES for all: probs (K, n), n ==
+// Scores on labelled rows (docs/methods.md 9.2). REQUIRES for all: probs (K, n), n ==
 // labels.size() >= 1, labels in [0, K).
 
 /// argmax_k of each column; ties go to the lowest class index. (n)
@@ -133,7 +133,7 @@ double binary_brier_score(ProbsRef probs, LabelSpan labels);
 double binary_brier_score(std::span<const double> q, LabelSpan labels);
 
 // ---------------------------------------------------------------------------------------
-// Binning and calibration (METHODS.md 9.3)
+// Binning and calibration (docs/methods.md 9.3)
 
 /// How rows are grouped into M bins by confidence.
 enum class Binning {
@@ -210,7 +210,7 @@ PositiveClassCurve positive_class_curve(std::span<const double> q, LabelSpan lab
                                         CurveEdges edges = CurveEdges::kWidth);
 
 // ---------------------------------------------------------------------------------------
-// AUROC and selective prediction (METHODS.md 9.5)
+// AUROC and selective prediction (docs/methods.md 9.5)
 
 /// Area under the ROC curve by the Mann-Whitney statistic, ties counting one half (equal to
 /// scikit-learn's roc_auc_score), from average ranks in O(n log n). Higher scores should
@@ -374,7 +374,7 @@ Result<DecisionReport> report_decisions(const PositiveScores& scored,
                                         const ThresholdSettings& settings);
 
 // ---------------------------------------------------------------------------------------
-// Temperature scaling (METHODS.md 9.4)
+// Temperature scaling (docs/methods.md 9.4)
 
 /// Result of fitting one temperature tau on held-out rows.
 struct TemperatureFit {

@@ -80,7 +80,7 @@ struct LayerPriorOverride {
   bool operator==(const LayerPriorOverride&) const = default;
 };
 
-/// The prior of METHODS.md section 1. Weight prior standard deviation of layer l:
+/// The prior of docs/methods.md section 1. Weight prior standard deviation of layer l:
 /// scale_l / sqrt(fan_in_l) with fan_in_scaling, else scale_l; bias standard deviation:
 /// bias_scale_l (never fan-in scaled).
 struct PriorSpec {
@@ -90,7 +90,7 @@ struct PriorSpec {
   double bias_scale = 1.0;     // global bias standard deviation; > 0. Default 1.
   std::vector<LayerPriorOverride> overrides;  // at most one per layer; empty: none
 
-  // A learned scale ("scale=auto", METHODS.md section 15): every block (a layer's weights,
+  // A learned scale ("scale=auto", docs/methods.md section 15): every block (a layer's weights,
   // separately its biases) gets a precision lambda_b with a Gamma(shape a, rate r)
   // hyperprior, started at the fixed value above (fan_in/s^2 for weights, 1/bias_scale^2
   // for biases) and redrawn from its conditional by Gibbs updates in the samplers.

@@ -2,12 +2,12 @@
 //
 // GaussianPrior turns the prior scales of a net file into one standard deviation per
 // layer block (weights, biases) and gives -log p(theta) and its gradient. Potential<S>
-// combines it with a Network into the minibatch potential of METHODS.md section 1,
+// combines it with a Network into the minibatch potential of docs/methods.md section 1,
 //   U~(theta) = -log p(theta) - (N/b) sum_{n in batch} log p(y_n | x_n, theta),
 // its gradient (the prior enters once, unscaled by N/b), and the full-data U for
 // full-batch HMC. The samplers see only a flat vector and this value-and-gradient call.
 // A GaussianPrior's block precisions change only through set_block_precisions (the Gibbs
-// updates of a learned scale, METHODS.md section 15); a Potential owns its prior and a
+// updates of a learned scale, docs/methods.md section 15); a Potential owns its prior and a
 // workspace and is used by one thread (one per chain). Nothing here depends on the data module: batches arrive as
 // Eigen views of a (D, b) matrix and a span of int32 labels.
 //
@@ -26,7 +26,7 @@
 
 namespace credence {
 
-/// Which posterior the temperature T tempers (METHODS.md section 1).
+/// Which posterior the temperature T tempers (docs/methods.md section 1).
 enum class Tempering {
   /// pi_T(theta) ∝ exp(-U(theta)/T): prior and likelihood together. U and its gradient
   /// are unscaled; samplers multiply their injected noise variance by T. The default.
@@ -102,7 +102,7 @@ class GaussianPrior {
 };
 
 /// -log N(theta; 0, sigma^2 I) = ||theta||^2/(2 sigma^2) + (d/2) log(2 pi sigma^2) for one
-/// block (METHODS.md section 1, test value: theta = (1, -2), sigma = 2 gives 3.849171...).
+/// block (docs/methods.md section 1, test value: theta = (1, -2), sigma = 2 gives 3.849171...).
 double gaussian_neg_log_density(ConstVecRef<double> theta, double sigma);
 
 /// How the potential scales and tempers; plain values, checked by Potential::create.
@@ -112,10 +112,10 @@ struct PotentialSettings {
   double temperature = 1.0;  // T >= 0; 1 is the Bayes posterior, 0 the optimizer limit
   Tempering tempering = Tempering::kWholePosterior;  // what T tempers; default both
   // Gibbs updates of the block precisions when the prior spec learns its scale
-  // (METHODS.md section 15). Off for optimizers, which cannot use the draw (the
+  // (docs/methods.md section 15). Off for optimizers, which cannot use the draw (the
   // T -> 0 limit of the draw drives lambda to infinity); also off at T = 0. Default on.
   bool learn_prior_scale = true;
-  // Evidence updates of the block precisions instead (optimizers; METHODS.md section 15,
+  // Evidence updates of the block precisions instead (optimizers; docs/methods.md section 15,
   // posterior/precision_evidence.h) when the prior spec learns its scale and
   // learn_prior_scale is off. Default off.
   bool evidence_prior_scale = false;

@@ -4,7 +4,7 @@
 // network layout and the kept samples as a (P, S) matrix) and turns encoded rows into
 // the model average pbar, the predictive entropy H[pbar] (total doubt), the expected
 // entropy E H (aleatoric: noise in the data) and the mutual information MI = H - E H
-// (epistemic: lack of data), METHODS.md section 9.1. Each member's log-probabilities
+// (epistemic: lack of data), docs/methods.md section 9.1. Each member's log-probabilities
 // come from a float32 forward pass; the averaging and the entropies run in double.
 // predict_csv() streams a CSV file through a Predictor in blocks of rows and writes
 // the predictions CSV atomically.
@@ -38,7 +38,7 @@ namespace credence {
 class RunReader;
 
 // ---------------------------------------------------------------------------------------
-// Averaging members: METHODS.md 9.1.
+// Averaging members: docs/methods.md 9.1.
 
 /// Per-row outputs of the model average over a block of B rows and K classes.
 struct Prediction {
@@ -95,7 +95,7 @@ class EnsembleAverager {
   void finish(Prediction& out) const;
 
  private:
-  // The one implementation of METHODS.md 9.1 (metrics.h); this class only turns its
+  // The one implementation of docs/methods.md 9.1 (metrics.h); this class only turns its
   // result into a Prediction with classes and confidences.
   UncertaintyAccumulator accumulator_;
   mutable UncertaintySplit split_;  // finish()'s buffers, reused block after block

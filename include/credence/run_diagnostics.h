@@ -1,4 +1,4 @@
-// run_diagnostics: R-hat and ESS of every tracked summary of a run file (METHODS.md 10.3).
+// run_diagnostics: R-hat and ESS of every tracked summary of a run file (docs/methods.md 10.3).
 //
 // Why function space: a network's parameters are not identifiable (hidden units can be
 // permuted and, for odd activations, sign-flipped), so chains in equivalent modes disagree
@@ -89,7 +89,7 @@ struct RunDiagnostics {
   int flagged = 0;                             // function-space summaries flagged
   MixingVerdict verdict = MixingVerdict::kNotEnoughDraws;
   /// Relativistic methods (rsghmc, rhmc, rsgd): mean |v|/c per chain over the trace
-  /// after burn-in (empty otherwise), and a one-line reading of it (METHODS.md 5.2, 5.6).
+  /// after burn-in (empty otherwise), and a one-line reading of it (docs/methods.md 5.2, 5.6).
   std::vector<double> speed_ratio_per_chain;
   std::string speed_note;
   /// Caveats for the whole run: cut lengths, missing timings, thinning, few draws.

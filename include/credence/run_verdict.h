@@ -1,5 +1,5 @@
 // run_verdict: is a run done? A few plain checks, each with its numbers, that train,
-// compare and diagnose print at the end of a run (METHODS.md 10; thresholds below).
+// compare and diagnose print at the end of a run (docs/methods.md 10; thresholds below).
 //
 // A run passes or fails each check, or the check does not apply (an optimizer has no
 // mixing to judge; a run file without labels cannot say whether predictions are

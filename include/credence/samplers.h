@@ -133,7 +133,7 @@ NamedArrays early_stop_state_template(std::int64_t parameters);
 
 /// Layout of one run of chains.
 struct ChainSettings {
-  int chains = 4;               // C. Default 4 (METHODS.md 1: C >= 4 for R-hat).
+  int chains = 4;               // C. Default 4 (docs/methods.md 1: C >= 4 for R-hat).
   std::int64_t burn_in = 1000;  // steps before the first kept sample. Default 1000.
   std::int64_t thin = 10;       // keep every thin-th step after burn-in. Default 10.
   std::int64_t samples = 100;   // kept samples per chain S. Default 100.

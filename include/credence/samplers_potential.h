@@ -1,7 +1,7 @@
 // The sampler-model contract: what a sampler needs from the model it samples.
 //
 // Samplers see one flat float vector theta (P coordinates) and a PotentialFn that
-// returns the potential U (METHODS.md section 1: negative log prior minus the
+// returns the potential U (docs/methods.md section 1: negative log prior minus the
 // log-likelihood at full-data scale, so a minibatch term carries the factor N/b)
 // and its gradient. They know nothing of networks or data. Each chain gets its own
 // PotentialFn (run_chains asks a factory for one per chain), because minibatch
@@ -104,20 +104,20 @@ class PotentialFn {
   virtual Status full(ConstThetaRef theta, ThetaRef grad, double& potential);
 
   /// Per-coordinate variance of the last minibatch gradient, Vhat_i in gradient
-  /// units (METHODS.md section 4: N (N - b) / b * s_i^2), written into `vhat`.
+  /// units (docs/methods.md section 4: N (N - b) / b * s_i^2), written into `vhat`.
   /// Returns false when the model does not estimate it (the default).  vhat: (P).
   virtual bool gradient_noise_variance(ThetaRef vhat);
 
   /// The temperature the sampler's injected noise (and hmc's Metropolis test) must use,
   /// when the potential fixes it; nullopt (the default) leaves the sampler's own T.
   /// A potential that already divides its likelihood by T (likelihood-only tempering,
-  /// METHODS.md section 1, Form B) returns 1: were the noise also at T, the chain would
+  /// docs/methods.md section 1, Form B) returns 1: were the noise also at T, the chain would
   /// target p(theta)^(1/T) p(D|theta)^(1/T^2). run_chains() builds each chain's sampler
   /// with this temperature; code that calls Sampler::create itself must do the same.
   virtual std::optional<double> noise_temperature() const;
   /// Called by the chain driver before every step with the current theta: a model whose
   /// target moves between steps (the Gibbs updates of a prior that learns its scale,
-  /// METHODS.md section 15) updates it here, never inside a step, so hmc and rhmc keep a
+  /// docs/methods.md section 15) updates it here, never inside a step, so hmc and rhmc keep a
   /// fixed target within a trajectory. Sets `changed` when the target changed (samplers
   /// then drop cached potentials). The default does nothing. Must not allocate.
   virtual Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed);

@@ -1,5 +1,5 @@
 // Sampler and optimizer settings: the method names, one plain struct per method,
-// the step-size schedule. Every step size is stored in U units (METHODS.md
+// the step-size schedule. Every step size is stored in U units (docs/methods.md
 // section 0); a learning rate quoted on the mean loss is converted when a chain
 // starts, with N = PotentialFn::rows().
 #pragma once
@@ -15,8 +15,8 @@ namespace credence {
 
 /// The update rules. Samplers and their zero-temperature optimizer limits share
 /// one implementation: sgd is sgld at T = 0, momentum is sghmc at T = 0, rsgd is
-/// rsghmc at T = 0 (METHODS.md section 7), santa-opt is santa annealed to T = 0
-/// (METHODS.md section 16).
+/// rsghmc at T = 0 (docs/methods.md section 7), santa-opt is santa annealed to T = 0
+/// (docs/methods.md section 16).
 enum class Method {
   kSgld,      // SGLD, ICML 2011
   kPsgld,     // preconditioned SGLD, AAAI 2016
@@ -45,9 +45,9 @@ bool is_full_batch(Method method);
 /// How the step size moves with the step index t = 0, 1, 2, ... of a chain.
 enum class ScheduleKind {
   kConstant,    // eps_t = step
-  kPolynomial,  // eps_t = a (b + t)^(-gamma), METHODS.md section 2; optimizers only
+  kPolynomial,  // eps_t = a (b + t)^(-gamma), docs/methods.md section 2; optimizers only
                 // (a sampler's kept samples would need step-size weights)
-  kCyclical,    // cosine cycles, METHODS.md section 8
+  kCyclical,    // cosine cycles, docs/methods.md section 8
 };
 
 struct ScheduleSettings {
@@ -56,7 +56,7 @@ struct ScheduleSettings {
   /// experiments, from memory).
   double gamma = 0.55;
   /// kPolynomial: the step at the last step is step_end / step_start times the
-  /// first; a and b follow from METHODS.md's start/end fit. Default 0.01.
+  /// first; a and b follow from docs/methods.md's start/end fit. Default 0.01.
   double end_ratio = 0.01;
   /// kCyclical: number of cycles M over the whole chain. Default 4.
   int cycles = 4;
@@ -64,13 +64,13 @@ struct ScheduleSettings {
   double exploration_fraction = 0.8;
 };
 
-/// psgld's own settings (METHODS.md section 3).
+/// psgld's own settings (docs/methods.md section 3).
 struct PsgldSettings {
   /// Decay rho of the squared-gradient average. Default 0.99.
   double rho = 0.99;
   /// lambda, added to sqrt(V) in mean-gradient (g / N) units. Default 1e-5.
   double lambda = 1e-5;
-  /// Cap every G_i at this multiple of the median G while adapting (METHODS.md 3:
+  /// Cap every G_i at this multiple of the median G while adapting (docs/methods.md 3:
   /// coordinates whose gradient is ~0, such as dead units or a start at a stationary
   /// point, would otherwise get G = 1/lambda and a burst of noise). 0 = no cap.
   /// Default 1e3.
@@ -79,13 +79,13 @@ struct PsgldSettings {
   /// the dropped Gamma term is exactly zero. Default true.
   bool freeze_after_burn_in = true;
   /// Add the Gamma correction term, with the diagonal Hessian estimated by secants
-  /// of successive gradients (METHODS.md section 3). Default false: the term is
+  /// of successive gradients (docs/methods.md section 3). Default false: the term is
   /// O(1 - rho), needs second derivatives, and a noisy estimate can hurt more than
   /// it helps.
   bool gamma_correction = false;
 };
 
-/// sghmc's (and momentum's) own settings (METHODS.md section 4).
+/// sghmc's (and momentum's) own settings (docs/methods.md section 4).
 struct SghmcSettings {
   /// Friction alpha = eps M^-1 C (momentum = 1 - alpha). Default 0.1: the middle of
   /// the paper's range 0.01-0.1 in log terms would be 0.03; 0.1 mixes faster in energy
@@ -110,7 +110,7 @@ struct RelativisticSlice {
   double speed = 0.0;
 };
 
-/// rsghmc's, rsgd's and rhmc's relativistic kinetic energy (METHODS.md section 5).
+/// rsghmc's, rsgd's and rhmc's relativistic kinetic energy (docs/methods.md section 5).
 struct RelativisticSettings {
   /// Speed of light c per coordinate: default c = max_move / eps, so no coordinate
   /// moves more than max_move per step at the starting step eps. 0 means "derive".
@@ -118,29 +118,29 @@ struct RelativisticSettings {
   /// step is eps c, which is what the adaptation tunes (see src/samplers/rhmc.cc).
   double speed = 0.0;
   /// Largest move of one coordinate per step, used to derive c. Default 1e-2
-  /// (METHODS.md 5.6: 1e-2 times a unit prior scale of standardised data). For rhmc
+  /// (docs/methods.md 5.6: 1e-2 times a unit prior scale of standardised data). For rhmc
   /// with step adaptation it is the bound at the starting step only.
   double max_move = 1e-2;
   /// Rest mass m; 0 means "derive": m = u* T / c^2 for the target speed ratio
-  /// below (u* from METHODS.md 5.2's table), or m = 1 at T = 0.
+  /// below (u* from docs/methods.md 5.2's table), or m = 1 at T = 0.
   double mass = 0.0;
   /// Per-slice overrides of mass and speed; coordinates outside every slice use the
   /// defaults above. Slices must not overlap. Mass adaptation works per slice (one
   /// slice for all of theta when this is empty).
   std::vector<RelativisticSlice> slices;
   /// Joint (isotropic) kinetic energy with one m and one c for all of theta instead
-  /// of the per-coordinate form. Default false (METHODS.md 5.1: the joint form makes
+  /// of the per-coordinate form. Default false (docs/methods.md 5.1: the joint form makes
   /// every coordinate of a large network crawl). Not available for rhmc.
   bool joint = false;
   /// Friction D; 0 means "derive" D_i = alpha m_i / eps, which matches SGHMC's
-  /// alpha in the Newtonian limit (METHODS.md 5.4). A derived D follows m while mass
+  /// alpha in the Newtonian limit (docs/methods.md 5.4). A derived D follows m while mass
   /// adaptation changes it, so eps D_i / m_i stays alpha; a given D stays fixed. The
   /// injected noise 2 D T uses the same D either way. Default 0.
   double friction = 0.0;
   /// alpha used to derive D. Default 0.1 (as SghmcSettings::alpha).
   double alpha = 0.1;
   /// rsghmc only: adapt each slice's m during burn-in towards the target mean
-  /// speed ratio E|v|/c (METHODS.md 5.6; a credence heuristic). Default true.
+  /// speed ratio E|v|/c (docs/methods.md 5.6; a credence heuristic). Default true.
   bool adapt_mass = true;
   /// Target E|v|/c for deriving and adapting m. Default 0.5 (u* = 1.8285).
   double target_speed_ratio = 0.5;
@@ -152,7 +152,7 @@ struct RelativisticSettings {
   /// Default false.
   bool correct_gradient_noise = false;
   /// rhmc only: slice-sampling sweeps per momentum refresh (30 on the first).
-  /// Default 5 (METHODS.md 5.2: nearly independent after 5).
+  /// Default 5 (docs/methods.md 5.2: nearly independent after 5).
   int refresh_sweeps = 5;
 };
 
@@ -170,7 +170,7 @@ struct AdamSettings {
 /// at its default (0.523). Measured on that one table only.
 inline constexpr double kSantaLearningRate = 1e-3;
 
-/// santa's and santa-opt's own settings (METHODS.md section 16, Euler scheme).
+/// santa's and santa-opt's own settings (docs/methods.md section 16, Euler scheme).
 struct SantaSettings {
   /// Decay sigma of the squared-gradient average v. Default 0.999 (the reference
   /// configurations). 1 keeps the first gradient's scale for the whole chain.
@@ -197,9 +197,9 @@ struct SantaSettings {
   double exploration_fraction = 0.5;
 };
 
-/// hmc's and rhmc's own settings (METHODS.md section 6).
+/// hmc's and rhmc's own settings (docs/methods.md section 6).
 struct HmcSettings {
-  /// Leapfrog steps per iteration L. Default 20 (METHODS.md: 20-100).
+  /// Leapfrog steps per iteration L. Default 20 (docs/methods.md: 20-100).
   int leapfrog_steps = 20;
   /// Adapt eps by dual averaging during burn-in towards target_acceptance, then
   /// freeze it at the averaged value. Default true.
@@ -226,7 +226,7 @@ struct SamplerSettings {
   /// eps = 2 lr / N (sgld, psgld, sgd), eta = lr / N (sghmc, momentum, santa, santa-opt),
   /// eps = sqrt(lr / N) (rsghmc, rsgd, hmc, rhmc: the time step whose Newtonian
   /// SGHMC equivalent eta = eps^2 / m has eta = lr / N at m = 1), a = lr (adam).
-  /// Default 1e-2: the middle of the range 1e-3 to 1e-1 METHODS.md quotes for
+  /// Default 1e-2: the middle of the range 1e-3 to 1e-1 docs/methods.md quotes for
   /// standardised inputs (common practice, no source). Adam's paper default is 1e-3.
   double learning_rate = 1e-2;
   ScheduleSettings schedule;
@@ -281,7 +281,7 @@ class StepSchedule {
 };
 
 /// Fits eps_t = a (b + t)^(-gamma) through eps_0 = start and eps_{n_total} = end
-/// (METHODS.md section 2): b = n / ((start/end)^(1/gamma) - 1), a = start b^gamma.
+/// (docs/methods.md section 2): b = n / ((start/end)^(1/gamma) - 1), a = start b^gamma.
 /// REQUIRES: start > end > 0, gamma > 0, n_total >= 1.
 void fit_polynomial_decay(double start, double end, double gamma, std::int64_t n_total, double& a,
                           double& b);

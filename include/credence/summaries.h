@@ -1,4 +1,4 @@
-// summaries: the tracked per-sample summaries of METHODS.md 10.3, computed once per kept sample.
+// summaries: the tracked per-sample summaries of docs/methods.md 10.3, computed once per kept sample.
 //
 // Raw weights are not identifiable (hidden units permute and flip), so convergence is
 // judged on summaries that are: the probe set's log-likelihood, each probe row's
@@ -23,7 +23,7 @@
 
 namespace credence {
 
-/// Default number of random projections (METHODS.md 10.3 suggests 4 to 8).
+/// Default number of random projections (docs/methods.md 10.3 suggests 4 to 8).
 inline constexpr int kDefaultProjections = 4;
 
 /// Fixed held-out rows whose predictions are tracked.

@@ -10,7 +10,7 @@
 // (BatchPosition, data.h) and restore_state() seeks back there, so a resumed chain
 // draws the very batches it would have drawn.
 //
-// When the prior learns its scale (PriorSpec::learn_scale, METHODS.md section 15) and the
+// When the prior learns its scale (PriorSpec::learn_scale, docs/methods.md section 15) and the
 // settings allow it, before_step() redraws the block precisions every K steps (K = the
 // spec's passes over the training rows), and the state also holds "prior_rng" and
 // "prior_precision"; hyperparameters() are the current precisions. For optimizers

@@ -70,7 +70,7 @@ struct TrainRequest {
   std::vector<Index> hidden;    // --hidden 64,64
   std::string activation = "relu";
   double prior_scale = 1.0;     // --prior-scale s: the fixed weight scale (or the start)
-  bool prior_scale_auto = true; // --prior-scale auto: learn it (METHODS.md section 15)
+  bool prior_scale_auto = true; // --prior-scale auto: learn it (docs/methods.md section 15)
   TrainSettings settings;
   /// Set (by `credence train`): size the budget flags not given from the table
   /// (budget.h). Empty: use settings' budget as it is.

@@ -1,5 +1,5 @@
 // `credence diagnose`: do the chains agree? R-hat and ESS of the run's function-space
-// summaries (METHODS.md 10), as a table on stdout and optionally as JSON.
+// summaries (docs/methods.md 10), as a table on stdout and optionally as JSON.
 #include <fmt/format.h>
 
 #include <cmath>

@@ -30,7 +30,7 @@ struct FlagRule {
 
 // rsghmc with a derived speed of light and mass (c = max_move / eps, m = u* T / c^2)
 // moves every weight by the same amounts whatever eps is: eps cancels from its update
-// (METHODS.md section 5.4), so its step flags matter only with --speed or --mass.
+// (docs/methods.md section 5.4), so its step flags matter only with --speed or --mass.
 bool step_matters(const Use& u) {
   return u.method != Method::kRsghmc || u.has("--speed") || u.has("--mass");
 }

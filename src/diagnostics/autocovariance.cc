@@ -1,4 +1,4 @@
-// Autocovariance by FFT (METHODS.md 10.2): O(n log n) instead of the direct O(n^2) sum.
+// Autocovariance by FFT (docs/methods.md 10.2): O(n log n) instead of the direct O(n^2) sum.
 #include <unsupported/Eigen/FFT>
 
 #include <cmath>

@@ -1,5 +1,5 @@
-// Potential scale reduction (METHODS.md 10.1) and effective sample size with Geyer's
-// initial monotone sequence (METHODS.md 10.2).
+// Potential scale reduction (docs/methods.md 10.1) and effective sample size with Geyer's
+// initial monotone sequence (docs/methods.md 10.2).
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -106,7 +106,7 @@ double ess_of(const Chains& chains) {
   }
   const double tau = -1 + 2 * sum;
   // Antithetic chains can drive tau towards 0: cap ESS at S log10(S) (the 2021 paper's
-  // suggestion, METHODS.md 10.2).
+  // suggestion, docs/methods.md 10.2).
   return total / std::max(tau, 1 / std::log10(total));
 }
 

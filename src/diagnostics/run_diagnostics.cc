@@ -21,7 +21,7 @@ using diagnostics::setting;
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
-// What the mean speed ratio says about the mass (METHODS.md 5.2 table and 5.6-5.7): the
+// What the mean speed ratio says about the mass (docs/methods.md 5.2 table and 5.6-5.7): the
 // default target is E|v|/c = 0.5; near 1 every coordinate moves at the speed cap.
 std::string speed_note(std::string_view method, double mean_ratio) {
   if (std::isnan(mean_ratio)) return "no speed ratio was recorded after burn-in";

@@ -1,5 +1,5 @@
 // Reshaping draws before R-hat and ESS: common length, splitting, rank normalisation,
-// folding and tail indicators (METHODS.md 10.1-10.2).
+// folding and tail indicators (docs/methods.md 10.1-10.2).
 #include <algorithm>
 #include <cmath>
 #include <numbers>

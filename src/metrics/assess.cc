@@ -1,4 +1,4 @@
-// assess_predictions: every score of METHODS.md section 9 on one set of labelled rows.
+// assess_predictions: every score of docs/methods.md section 9 on one set of labelled rows.
 #include <cmath>
 #include <string>
 

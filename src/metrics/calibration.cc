@@ -1,4 +1,4 @@
-// Binning, ECE, MCE, classwise ECE and reliability tables (METHODS.md 9.3).
+// Binning, ECE, MCE, classwise ECE and reliability tables (docs/methods.md 9.3).
 #include <algorithm>
 #include <cassert>
 #include <cmath>

@@ -1,4 +1,4 @@
-// Temperature scaling of an ensemble, member by member (METHODS.md 9.4 applied per member).
+// Temperature scaling of an ensemble, member by member (docs/methods.md 9.4 applied per member).
 #include <algorithm>
 #include <array>
 #include <cassert>

@@ -1,4 +1,4 @@
-// Proper scores on labelled rows: accuracy, NLL, multi-class and binary Brier (METHODS.md 9.2).
+// Proper scores on labelled rows: accuracy, NLL, multi-class and binary Brier (docs/methods.md 9.2).
 #include <cassert>
 #include <cstddef>
 
@@ -42,7 +42,7 @@ std::vector<std::uint8_t> correct_predictions(ProbsRef probs, LabelSpan labels) 
   return correct;
 }
 
-// accuracy = mean_i [argmax_k p_ik == y_i]   (METHODS.md 9.2)
+// accuracy = mean_i [argmax_k p_ik == y_i]   (docs/methods.md 9.2)
 double accuracy_score(ProbsRef probs, LabelSpan labels) {
   const std::vector<std::uint8_t> correct = correct_predictions(probs, labels);
   std::size_t hits = 0;
@@ -50,7 +50,7 @@ double accuracy_score(ProbsRef probs, LabelSpan labels) {
   return static_cast<double>(hits) / static_cast<double>(correct.size());
 }
 
-// NLL = -mean_i log p_i,y_i in nats   (METHODS.md 9.2; equal to scikit-learn's log_loss)
+// NLL = -mean_i log p_i,y_i in nats   (docs/methods.md 9.2; equal to scikit-learn's log_loss)
 double negative_log_likelihood(ProbsRef log_probs, LabelSpan labels) {
   assert(labels_fit(log_probs, labels));
   double sum = 0;
@@ -58,7 +58,7 @@ double negative_log_likelihood(ProbsRef log_probs, LabelSpan labels) {
   return sum / static_cast<double>(log_probs.cols());
 }
 
-// Brier = mean_i sum_k (p_ik - [y_i == k])^2, in [0, 2]   (METHODS.md 9.2; the multi-class
+// Brier = mean_i sum_k (p_ik - [y_i == k])^2, in [0, 2]   (docs/methods.md 9.2; the multi-class
 // sum of "Verification of forecasts expressed in terms of probability", Monthly Weather
 // Review, 1950)
 double brier_score(ProbsRef probs, LabelSpan labels) {
@@ -73,7 +73,7 @@ double brier_score(ProbsRef probs, LabelSpan labels) {
   return sum / static_cast<double>(probs.cols());
 }
 
-// Brier_bin = mean_i (q_i - [y_i == 1])^2, q_i = P(class 1)   (METHODS.md 9.2)
+// Brier_bin = mean_i (q_i - [y_i == 1])^2, q_i = P(class 1)   (docs/methods.md 9.2)
 double binary_brier_score(ProbsRef probs, LabelSpan labels) {
   assert(probs.rows() == 2 && labels_fit(probs, labels));
   double sum = 0;

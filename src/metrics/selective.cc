@@ -1,4 +1,4 @@
-// AUROC by average ranks and accuracy-rejection curves (METHODS.md 9.5).
+// AUROC by average ranks and accuracy-rejection curves (docs/methods.md 9.5).
 #include <algorithm>
 #include <cassert>
 #include <cmath>

@@ -1,4 +1,4 @@
-// Temperature scaling of logits or of log pbar (METHODS.md 9.4).
+// Temperature scaling of logits or of log pbar (docs/methods.md 9.4).
 #include <algorithm>
 #include <cassert>
 #include <cmath>
@@ -11,7 +11,7 @@ namespace credence {
 namespace {
 
 constexpr double kMinusInf = -std::numeric_limits<double>::infinity();
-constexpr double kLogTauBound = 5.0;  // tau in [e^-5, e^5] (METHODS.md 9.4)
+constexpr double kLogTauBound = 5.0;  // tau in [e^-5, e^5] (docs/methods.md 9.4)
 constexpr int kMaxIterations = 200;
 
 // Value, first and second derivative of NLL(s) = mean_i [logsumexp(s z_i) - s z_i,y_i]:
@@ -70,7 +70,7 @@ double temperature_nll(ProbsRef z, LabelSpan labels, double temperature) {
 
 // Temperature scaling ("On calibration of modern neural networks", ICML 2017): minimise
 // NLL(tau) = -(1/n) sum_i log softmax(z_i / tau)_{y_i}. In s = 1/tau the objective is
-// convex (its second derivative is a mean of variances, METHODS.md 9.4), so a Newton
+// convex (its second derivative is a mean of variances, docs/methods.md 9.4), so a Newton
 // iteration kept inside a shrinking bracket [lo, hi] on the sign of NLL'(s), with a
 // bisection step whenever Newton would leave it, finds the global minimum.
 Result<TemperatureFit> fit_temperature(ProbsRef z, LabelSpan labels) {

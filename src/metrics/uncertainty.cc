@@ -1,4 +1,4 @@
-// Model average and its entropy split into aleatoric and epistemic parts (METHODS.md 9.1).
+// Model average and its entropy split into aleatoric and epistemic parts (docs/methods.md 9.1).
 #include <algorithm>
 #include <cassert>
 #include <cmath>
@@ -53,7 +53,7 @@ void UncertaintyAccumulator::reset(Eigen::Index classes, Eigen::Index rows) {
   members_ = 0;
 }
 
-// log sum_s w_s p_s is kept as a running logsumexp (the stable form of pbar in METHODS.md
+// log sum_s w_s p_s is kept as a running logsumexp (the stable form of pbar in docs/methods.md
 // 9.1): with v = log w + log p and d = v - m, a member below the running maximum m adds
 // e^d to the scaled sum; one above it rescales the sum by e^-d and becomes the maximum.
 // A term of -inf (probability exactly 0) adds nothing. One pass, two exponentials per

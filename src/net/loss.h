@@ -9,7 +9,7 @@
 namespace credence {
 
 // log_probs = z - logsumexp(z) per column, with logsumexp(z) = max z + log sum exp(z - max z)
-// (METHODS.md section 1). log_probs, logits: (K, B). Overwrites log_probs.
+// (docs/methods.md section 1). log_probs, logits: (K, B). Overwrites log_probs.
 template <typename S>
 void log_softmax_forward(MatRef<S> log_probs, ConstMatRef<S> logits);
 // d_logits = scale * (softmax(z) - onehot(y)) per column, the gradient of

@@ -73,7 +73,7 @@ class Parser {
                    "the version line 'credence-net 1'");
     }
     CREDENCE_RETURN_IF_ERROR(check_overrides());
-    // Without a prior line the prior learns its scale (METHODS.md section 15).
+    // Without a prior line the prior learns its scale (docs/methods.md section 15).
     if (prior_line_ == 0) spec_.prior.learn_scale = true;
     return spec_;
   }

@@ -1,4 +1,4 @@
-// Evidence updates of block precisions for optimizers (METHODS.md section 15).
+// Evidence updates of block precisions for optimizers (docs/methods.md section 15).
 #include "posterior/precision_evidence.h"
 
 #include <algorithm>

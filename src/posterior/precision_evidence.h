@@ -1,4 +1,4 @@
-// Evidence updates of the block precisions for optimizers (METHODS.md section 15).
+// Evidence updates of the block precisions for optimizers (docs/methods.md section 15).
 //
 // An optimizer cannot use the Gibbs draw's T -> 0 limit (coordinate ascent on the joint
 // mode of theta and lambda drives lambda to infinity and theta to zero). Instead, between
@@ -10,11 +10,11 @@
 // not settled at the MAP does not make lambda oscillate.
 // The CLI's optimizers start loose (kStartScale) and cap lambda_b at the block's fixed-prior
 // precision (scale 1): the update may loosen the prior, never tighten it beyond the fixed one. Without
-// the cap a block pinned near zero (typically biases) feeds the collapse of METHODS.md
+// the cap a block pinned near zero (typically biases) feeds the collapse of docs/methods.md
 // section 15 (lambda grows, theta shrinks, lambda grows), and sgd at its default step
 // diverged once lr x lambda passed its stability limit (measured on a 100-row table).
 // h_i is the Gauss-Newton diagonal of the data term on the U scale (a sum over all N rows).
-// Estimator (METHODS.md section 15): on a fixed seeded subset of m = min(N, kSubsetRows)
+// Estimator (docs/methods.md section 15): on a fixed seeded subset of m = min(N, kSubsetRows)
 // training rows, the squared single-row gradient of -log p(y~ | x_n, theta), with the
 // label y~ drawn from the model's own softmax at x_n, summed and scaled by N/m. Its
 // expectation over y~ is exactly the GGN diagonal of those rows (for softmax outputs the

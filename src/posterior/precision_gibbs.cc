@@ -1,4 +1,4 @@
-// Gibbs draws of block precisions (METHODS.md section 15).
+// Gibbs draws of block precisions (docs/methods.md section 15).
 #include "posterior/precision_gibbs.h"
 
 #include <cassert>

@@ -1,12 +1,12 @@
 // Gibbs updates of the block precisions of a prior that learns its scale.
 //
-// METHODS.md section 15: block b (a layer's weights, or its biases) has d_b parameters and
+// docs/methods.md section 15: block b (a layer's weights, or its biases) has d_b parameters and
 // precision lambda_b ~ Gamma(shape a, rate r). Every K steps each lambda_b is redrawn from
 //   lambda_b | theta ~ Gamma(a + d_b/2, r + ||theta_b||^2/2)                       (T = 1)
 // or, tempering the whole posterior at T (the jointly tempered (theta, lambda)),
 //   Gamma((a - 1 + d_b/2)/T + 1, (r + ||theta_b||^2/2)/T).
 // Likelihood-only tempering keeps the T = 1 form: the potential divides the likelihood by
-// T and leaves the prior, whose gradient stays lambda_b theta (Form B of METHODS.md
+// T and leaves the prior, whose gradient stays lambda_b theta (Form B of docs/methods.md
 // section 1). The draws use their own Rng stream, saved with the chain state.
 #pragma once
 

@@ -87,7 +87,7 @@ PotentialSettings potential_settings_of(const TrainSettings& s) {
   settings.tempering = s.tempering;
   // Samplers draw the precisions (hmc and rhmc between trajectories).
   settings.learn_prior_scale = is_sampler(s.sampler.method);
-  // Optimizers learn it by evidence maximisation instead (METHODS.md section 15).
+  // Optimizers learn it by evidence maximisation instead (docs/methods.md section 15).
   settings.evidence_prior_scale = !is_sampler(s.sampler.method);
   settings.full_batch_steps =
       s.sampler.method == Method::kHmc || s.sampler.method == Method::kRhmc;

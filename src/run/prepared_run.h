@@ -33,7 +33,7 @@ ProbeSet gather_probe(const Eigen::MatrixXf& x, const std::vector<std::int32_t>&
                       const std::vector<std::int64_t>& rows);
 
 /// The potential's settings for a run's method: samplers draw a learned prior's
-/// precisions, optimizers maximise the evidence for them (METHODS.md section 15).
+/// precisions, optimizers maximise the evidence for them (docs/methods.md section 15).
 PotentialSettings potential_settings_of(const TrainSettings& settings);
 
 }  // namespace credence

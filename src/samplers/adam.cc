@@ -1,6 +1,6 @@
 // Adam, the baseline optimizer (no temperature, no noise).
 //
-// "Adam: a method for stochastic optimization", ICLR 2015; METHODS.md section 7,
+// "Adam: a method for stochastic optimization", ICLR 2015; docs/methods.md section 7,
 // on the mean loss (gradient g / N, so the step a is in the usual units):
 //   m_t = beta1 m + (1 - beta1) g,   v_t = beta2 v + (1 - beta2) g^2
 //   theta_t = theta_{t-1} - a (m_t / (1 - beta1^t)) / (sqrt(v_t / (1 - beta2^t)) + epsilon)

@@ -110,7 +110,7 @@ class ChainRunner {
         std::move(made_potential), cx_.resume ? cx_.resume->gradient_evals : 0);
     seconds_before_ = cx_.resume ? cx_.resume->seconds : 0.0;
     // The noise temperature is the potential's when it fixes one: a likelihood-tempered
-    // potential already holds the 1/T (METHODS.md section 1, Form B).
+    // potential already holds the 1/T (docs/methods.md section 1, Form B).
     SamplerSettings settings = cx_.settings;
     if (const std::optional<double> noise = potential_->noise_temperature();
         noise && is_sampler(settings.method)) {

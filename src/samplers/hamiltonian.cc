@@ -8,7 +8,7 @@
 namespace credence::samplers {
 namespace {
 
-constexpr double kGamma = 0.05, kT0 = 10, kKappa = 0.75;  // METHODS.md section 6 [M]
+constexpr double kGamma = 0.05, kT0 = 10, kKappa = 0.75;  // docs/methods.md section 6 [M]
 
 }  // namespace
 

@@ -8,7 +8,7 @@
 
 namespace credence::samplers {
 
-/// One iteration (METHODS.md sections 5.3 and 6): refresh p, L leapfrog steps with
+/// One iteration (docs/methods.md sections 5.3 and 6): refresh p, L leapfrog steps with
 /// a jittered eps, accept with min(1, exp(-(H1 - H0)/T)) (0 for a non-finite H1),
 /// dual averaging of eps during burn-in, eps frozen at its average afterwards.
 class HamiltonianRule : public Rule {

@@ -1,7 +1,7 @@
 // Full-batch HMC with a diagonal Gaussian kinetic energy.
 //
 // "Hybrid Monte Carlo", Physics Letters B 1987; "MCMC using Hamiltonian dynamics",
-// Handbook of MCMC 2011; METHODS.md section 6:
+// Handbook of MCMC 2011; docs/methods.md section 6:
 //   p ~ N(0, m T),  K = p^T p / (2 m),  v(p) = p / m,  leapfrog + Metropolis
 #include <cmath>
 

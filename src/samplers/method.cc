@@ -97,7 +97,7 @@ Status validate(const SamplerSettings& s) {
       return bad("schedule.exploration_fraction", "must lie in [0, 1)");
     }
   }
-  // A decreasing step needs kept samples weighted by their step (METHODS.md section 1,
+  // A decreasing step needs kept samples weighted by their step (docs/methods.md section 1,
   // "Collecting the ensemble"); the run file keeps equal weights, so samplers refuse it.
   if (is_sampler(s.method) && !is_full_batch(s.method) && sc.kind == ScheduleKind::kPolynomial) {
     return bad("schedule.kind",

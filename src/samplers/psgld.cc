@@ -1,7 +1,7 @@
 // pSGLD: SGLD with an RMSprop-style diagonal preconditioner.
 //
 // "Preconditioned stochastic gradient Langevin dynamics for deep neural networks",
-// AAAI 2016; METHODS.md section 3:
+// AAAI 2016; docs/methods.md section 3:
 //   V_t = rho V_{t-1} + (1 - rho) gbar_t^2,   gbar = g / N,   Vhat = V_t / (1 - rho^t)
 //   G_t = 1 / (lambda + sqrt(Vhat_t))
 //   theta_{t+1} = theta_t - (eps/2) (G_t g_t - T Gamma_t) + sqrt(eps T G_t) xi

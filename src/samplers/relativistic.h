@@ -30,14 +30,14 @@ struct RelativisticLayout {
 };
 
 /// Builds the layout for P coordinates with time step eps and temperature T
-/// (METHODS.md 5.6): c = max_move / eps, m = u* T / c^2 (m = 1 at T = 0) unless
+/// (docs/methods.md 5.6): c = max_move / eps, m = u* T / c^2 (m = 1 at T = 0) unless
 /// given. REQUIRES: validate() accepted the slices.
 RelativisticLayout build_relativistic_layout(const RelativisticSettings& settings,
                                              std::int64_t parameters, double eps,
                                              double temperature);
 
 /// E|v|/c of the per-coordinate momentum marginal at u = m c^2 / T [D]:
-/// exp(-u) / (u K_1(u)). Matches METHODS.md 5.2's table.
+/// exp(-u) / (u K_1(u)). Matches docs/methods.md 5.2's table.
 double mean_speed_ratio(double u);
 /// The u with mean_speed_ratio(u) = ratio, by bisection on log u.
 /// REQUIRES: 0 < ratio < 1.
@@ -64,7 +64,7 @@ inline double relativistic_kinetic_excess(double p, double m, double c) {
   return c * p * p / (std::sqrt(p * p + mc * mc) + mc);
 }
 
-/// One closed-form slice-sampling sweep per coordinate (METHODS.md 5.2): leaves
+/// One closed-form slice-sampling sweep per coordinate (docs/methods.md 5.2): leaves
 /// exp(-K(p)/T) invariant. p, mass, speed: (P).
 void refresh_relativistic_momentum(Eigen::VectorXf& p, const Eigen::VectorXf& mass,
                                    const Eigen::VectorXf& speed, double temperature, Rng& rng);

@@ -1,8 +1,8 @@
 // Full-batch relativistic HMC (per-coordinate kinetic energy).
 //
-// "Relativistic Monte Carlo", AISTATS 2017; METHODS.md 5.3:
+// "Relativistic Monte Carlo", AISTATS 2017; docs/methods.md 5.3:
 //   K(p) = sum_i m_i c_i^2 sqrt(p_i^2 / (m_i c_i)^2 + 1),  v_i = c_i p_i / hypot(p_i, m_i c_i)
-// Momentum refresh: closed-form slice sampling per coordinate (METHODS.md 5.2), a few
+// Momentum refresh: closed-form slice sampling per coordinate (docs/methods.md 5.2), a few
 // sweeps from the current p (30 at the first iteration, which starts from p = 0).
 //
 // c and m are derived once, from the starting step eps_0 (c = max_move / eps_0,

@@ -1,12 +1,12 @@
 // Relativistic SGHMC (and rsgd, its T = 0 limit).
 //
-// "Relativistic Monte Carlo", AISTATS 2017; METHODS.md 5.4-5.6:
+// "Relativistic Monte Carlo", AISTATS 2017; docs/methods.md 5.4-5.6:
 //   p_{t+1}     = p_t - eps g_t - eps D v(p_t) + N(0, eps (2 D T - eps Bhat))
 //   theta_{t+1} = theta_t + eps v(p_{t+1}),     v_i = c_i p_i / hypot(p_i, m_i c_i)
 // (joint form: v = c p / sqrt(|p|^2 + m^2 c^2)). |v_i| <= c_i, so no coordinate moves
 // more than eps c_i per step whatever the gradient. At T = 0 no noise is drawn: rsgd
 // with the same arithmetic. During burn-in each slice's mass may adapt towards a
-// target mean speed ratio E|v|/c (METHODS.md 5.6), then it is frozen.
+// target mean speed ratio E|v|/c (docs/methods.md 5.6), then it is frozen.
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -191,7 +191,7 @@ class RsghmcRule final : public Rule {
     return std::sqrt(eps * bracket);
   }
 
-  // The fused update of one range (METHODS.md 5.4): p -= eps g + eps D v(p_t) - noise,
+  // The fused update of one range (docs/methods.md 5.4): p -= eps g + eps D v(p_t) - noise,
   // v = v(p), theta += eps v. Returns the sum of |v|/c.
   // The noise kind is a template argument so the loop body has no branches to vectorise.
   double range_step(float* theta, const CoordinateRange& range, const RangeConstants& k,
@@ -294,7 +294,7 @@ class RsghmcRule final : public Rule {
     return abs_sum * joint_scale_ / static_cast<double>(layout_.speed[0]);
   }
 
-  // METHODS.md 5.6: E|v|/c falls as m grows, so a fast slice gets heavier. A derived
+  // docs/methods.md 5.6: E|v|/c falls as m grows, so a fast slice gets heavier. A derived
   // friction follows the new mass; a friction the user gave stays as given.
   void adapt_masses() {
     const RelativisticSettings& rs = settings_.relativistic;

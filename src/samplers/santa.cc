@@ -2,7 +2,7 @@
 // santa-opt, its annealed zero-temperature optimizer).
 //
 // "Bridging the Gap between Stochastic Gradient MCMC and Stochastic Optimization",
-// AISTATS 2016; docs/methods.md section 16 (METHODS.md section 16). We implement the Euler
+// AISTATS 2016; docs/methods.md section 16. We implement the Euler
 // scheme (the paper's first-order integrator, not its symmetric splitting), with
 // f = grad U~ (full-data scale), eta = lr / N, T_t = 1 / beta_t:
 //   v_t     = sigma v_{t-1} + (1 - sigma) f_t^2 / N^2,     g_t = 1 / sqrt(lambda + sqrt(v_t))
@@ -13,7 +13,7 @@
 //   theta_t = theta_{t-1} + g_t u_t
 // The injected noise scales as eta^(3/2), not eta: u = sqrt(eta) p makes the time step
 // sqrt(eta), and the thermostat then settles at alpha = sqrt(eta) g; with eta alone it
-// would need 2 alpha - alpha^2 = 2 g, impossible once g > 1/2 (METHODS.md 16, measured).
+// would need 2 alpha - alpha^2 = 2 g, impossible once g > 1/2 (docs/methods.md 16, measured).
 // We drop the term (eta / beta) (1 - g_{t-1} / g_t) / u_{t-1}, the method's estimate of
 // the preconditioner's drift correction, as the reference configurations do: it divides by
 // u, and in sampler mode v (hence g) is frozen after burn-in, so for kept samples it is

@@ -1,5 +1,5 @@
 // Step-size schedules: constant, polynomial decay (SGLD, ICML 2011) and cyclical
-// cosine (Cyclical SG-MCMC, ICLR 2020); METHODS.md sections 2 and 8.
+// cosine (Cyclical SG-MCMC, ICLR 2020); docs/methods.md sections 2 and 8.
 #include <cassert>
 #include <cmath>
 #include <numbers>

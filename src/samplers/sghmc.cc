@@ -1,10 +1,10 @@
 // SGHMC in its momentum parameterisation (and momentum, its T = 0 limit).
 //
-// "Stochastic gradient Hamiltonian Monte Carlo", ICML 2014; METHODS.md section 4:
+// "Stochastic gradient Hamiltonian Monte Carlo", ICML 2014; docs/methods.md section 4:
 //   v_{t+1}     = (1 - alpha) v_t - eta g_t + sqrt(2 eta max(0, alpha T - beta_hat)) xi
 //   theta_{t+1} = theta_t + v_{t+1},          beta_hat = eta Vhat / 2
 // The minibatch already injects momentum noise of variance eta^2 Vhat = 2 eta beta_hat;
-// the rule adds only the difference (METHODS.md section 13, point 2). At T = 0 no noise
+// the rule adds only the difference (docs/methods.md section 13, point 2). At T = 0 no noise
 // is drawn: the heavy-ball update, bit for bit the same arithmetic as `momentum`.
 #include <algorithm>
 #include <cmath>

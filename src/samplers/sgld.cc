@@ -1,7 +1,7 @@
 // SGLD (and sgd, its T = 0 limit): the simplest rule, written to be copied.
 //
 // SGLD, "Bayesian learning via stochastic gradient Langevin dynamics", ICML 2011;
-// METHODS.md section 2:
+// docs/methods.md section 2:
 //   theta_{t+1} = theta_t - (eps_t / 2) g_t + sqrt(eps_t T) xi_t
 // At T = 0 (sgd, or a cyclical schedule's exploration stage) no noise is drawn and
 // the update is plain gradient descent with step eps/2 from the same arithmetic, so

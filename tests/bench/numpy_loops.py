@@ -2,11 +2,11 @@
 
 Same work per step as credence's step loop: draw a minibatch of B rows (a shuffled
 order, gathered), forward through the dense net (activation after each hidden layer),
-softmax cross-entropy scaled by N/B plus the Gaussian prior (METHODS.md 1), backward,
+softmax cross-entropy scaled by N/B plus the Gaussian prior (docs/methods.md 1), backward,
 then the update on the flat parameter vector:
-  sgld:   theta += -(eps/2) g + sqrt(eps T) xi                         (METHODS.md 2)
+  sgld:   theta += -(eps/2) g + sqrt(eps T) xi                         (docs/methods.md 2)
   rsghmc: p += -eps g - eps D v(p) + sqrt(2 eps D T) xi;  theta += eps v(p),
-          v = c p / sqrt(p^2 + m^2 c^2)                               (METHODS.md 5.4)
+          v = c p / sqrt(p^2 + m^2 c^2)                               (docs/methods.md 5.4)
 Parameters and gradients live in one flat float32 vector each (weights as views), so the
 update is a handful of whole-vector numpy operations. Normal draws: numpy's Generator
 (ziggurat) in float32.

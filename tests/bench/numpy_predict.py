@@ -5,7 +5,7 @@ tests/tools/rebuild_probabilities.py does, but in float32 and for numeric column
 benchmark's tables have no categorical column): loads TABLE.csv with numpy.loadtxt,
 standardises with the stored means and scales, runs every kept sample's network over all rows,
 and accumulates the model average pbar, the expected entropy and the mutual information
-(METHODS.md 9.1); writes them as CSV like credence predict does. Prints JSON with the seconds
+(docs/methods.md 9.1); writes them as CSV like credence predict does. Prints JSON with the seconds
 spent loading, computing and writing.
 
 usage: numpy_predict.py RUN.h5 TABLE.csv OUT.csv

@@ -2,7 +2,7 @@
 
 Each shape: input width D, hidden widths, classes K, minibatch rows B. The learning rate and
 the relativistic settings below mirror credence train's defaults (--lr 1e-2, --friction 0.1,
---max-move 1e-2, target speed ratio 0.5 with u* = 1.8285: METHODS.md 5.6), so the reference
+--max-move 1e-2, target speed ratio 0.5 with u* = 1.8285: docs/methods.md 5.6), so the reference
 loops do the same arithmetic per step as the samplers they are compared with.
 """
 import math
@@ -16,7 +16,7 @@ SHAPES = {
 LEARNING_RATE = 1e-2  # credence train --lr default
 ALPHA = 0.1           # --friction default (rsghmc derives D = alpha m / eps)
 MAX_MOVE = 1e-2       # --max-move default (c = max_move / eps)
-U_STAR = 1.8285       # METHODS.md 5.2: u* for a target mean speed ratio of 0.5
+U_STAR = 1.8285       # docs/methods.md 5.2: u* for a target mean speed ratio of 0.5
 
 
 def widths(shape):
@@ -43,11 +43,11 @@ def prior_variances(shape):
 
 
 def sgld_step(rows):
-    return 2.0 * LEARNING_RATE / rows  # eps = 2 lr / N (METHODS.md 2)
+    return 2.0 * LEARNING_RATE / rows  # eps = 2 lr / N (docs/methods.md 2)
 
 
 def rsghmc_constants(rows, temperature=1.0):
-    """(eps, c, m, D) as credence derives them (METHODS.md 5.4, 5.6)."""
+    """(eps, c, m, D) as credence derives them (docs/methods.md 5.4, 5.6)."""
     eps = math.sqrt(LEARNING_RATE / rows)
     c = MAX_MOVE / eps
     m = U_STAR * temperature / (c * c)

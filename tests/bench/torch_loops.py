@@ -2,8 +2,8 @@
 
 An ordinary autograd loop: the parameters are leaf tensors views of one flat buffer; each
 step draws a minibatch from a shuffled order, computes U~ = (N/B) * summed cross-entropy +
-the Gaussian prior (METHODS.md 1), calls backward(), and applies the update to the flat
-buffer under no_grad (sgld: METHODS.md 2; rsghmc: METHODS.md 5.4), as numpy_loops.py does.
+the Gaussian prior (docs/methods.md 1), calls backward(), and applies the update to the flat
+buffer under no_grad (sgld: docs/methods.md 2; rsghmc: docs/methods.md 5.4), as numpy_loops.py does.
 Threads: torch.set_num_threads(--threads). When torch is not installed it prints
 {"skipped": "..."} and exits 0.
 

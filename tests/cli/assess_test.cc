@@ -115,7 +115,7 @@ TEST_F(Assess, BinaryScoresMatchScikitLearnOnPredictOutput) {
   // References (in sklearn_assess.py): sklearn.metrics log_loss, brier_score_loss,
   // roc_auc_score, accuracy_score; sklearn.calibration.calibration_curve (uniform and
   // quantile); numpy for the multi-class Brier score and the equal-width ECE/MCE of
-  // METHODS.md 9.3; METHODS.md 9.1 for H = E H + MI per row; and the single-sample means
+  // docs/methods.md 9.3; docs/methods.md 9.1 for H = E H + MI per row; and the single-sample means
   // against every member rebuilt by numpy from the run file (1e-5: float32 forward passes).
   expect_sklearn_agreement(cancer_run_, kBreastCancer, "diagnosis", "cancer_test",
                            "--split test --bootstrap 0");

@@ -1,5 +1,5 @@
 // `credence predict` end to end: numbers against numpy (tests/tools/numpy_predict.py,
-// which reads the run with h5py), the uncertainty identities of METHODS.md 9.1, bad
+// which reads the run with h5py), the uncertainty identities of docs/methods.md 9.1, bad
 // input, thread-count invariance and memory. Data: the invented pump-wear scenario.
 #include <gtest/gtest.h>
 #include <spawn.h>
@@ -116,7 +116,7 @@ TEST_F(Predict, ThresholdAndPositiveClassAreRefusedForThreeClasses) {
 }
 
 TEST_F(Predict, UncertaintySplitsIntoAleatoricAndEpistemic) {
-  // METHODS.md 9.1: H[pbar] = E H + MI for every row (to output rounding, 1e-6).
+  // docs/methods.md 9.1: H[pbar] = E H + MI for every row (to output rounding, 1e-6).
   const std::string out = path("split.csv");
   ASSERT_EQ(predict(data_, out, "--quiet").exit_code, 0);
   auto columns = read_csv(out);
@@ -132,7 +132,7 @@ TEST_F(Predict, UncertaintySplitsIntoAleatoricAndEpistemic) {
   }
   EXPECT_GT(largest_mi, 1e-3);  // twenty members do disagree somewhere
 
-  // One member cannot disagree with itself: MI = 0 on every row (METHODS.md 9.1).
+  // One member cannot disagree with itself: MI = 0 on every row (docs/methods.md 9.1).
   const std::string one = path("one.csv");
   auto result = predict(data_, one, "--samples 1");
   ASSERT_EQ(result.exit_code, 0) << result.output;

@@ -1,7 +1,7 @@
 // `credence train --prior-scale`: auto (the default) learns each block's precision in the
 // samplers and records it (net text, checkpoint state); a number keeps the prior fixed;
 // optimizers learn it by evidence updates and record it too; anything else is refused.
-// METHODS.md section 15.
+// docs/methods.md section 15.
 #include <gtest/gtest.h>
 
 #include "credence/ensemble.h"

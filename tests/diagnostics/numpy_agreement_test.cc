@@ -87,7 +87,7 @@ TEST(NumpyAgreement, FftAutocorrelationMatchesDirectSum) {
 }
 
 TEST(NumpyAgreement, DeterministicChainsReproduceMethodsValues) {
-  // The numpy script itself against METHODS.md 10's worked values, so a wrong reference
+  // The numpy script itself against docs/methods.md 10's worked values, so a wrong reference
   // cannot make the comparison above pass.
   testing::TempDir dir;
   const testing::PythonLines ref =

@@ -1,4 +1,4 @@
-// R-hat and ESS against published test values (METHODS.md 10) and the AR(1) process's
+// R-hat and ESS against published test values (docs/methods.md 10) and the AR(1) process's
 // known integrated autocorrelation time.
 #include <gtest/gtest.h>
 
@@ -31,7 +31,7 @@ Chains ar1_chains(int chains, int draws, double rho, std::mt19937_64& rng) {
 Chains normal_chains(int chains, int draws, std::mt19937_64& rng) { return ar1_chains(chains, draws, 0, rng); }
 
 TEST(RhatEss, DeterministicChainsMatchWorkedValues) {
-  // METHODS.md 10 test values for chains [1..8] and [2,4,...,16], computed with the
+  // docs/methods.md 10 test values for chains [1..8] and [2,4,...,16], computed with the
   // 2021 paper's equations (and reproduced by tests/tools/numpy_rhat.py).
   const Chains chains = {{1, 2, 3, 4, 5, 6, 7, 8}, {2, 4, 6, 8, 10, 12, 14, 16}};
   EXPECT_NEAR(rhat_of(chains), 1.2449899598, 1e-9);
@@ -45,7 +45,7 @@ TEST(RhatEss, DeterministicChainsMatchWorkedValues) {
 
 TEST(RhatEss, Ar1BulkEssMatchesIntegratedAutocorrelationTime) {
   // Standard time-series result: AR(1) has tau = (1 + rho)/(1 - rho), so ESS is about
-  // N (1 - rho)/(1 + rho); METHODS.md 10 test values, tolerance 10% averaged over seeds.
+  // N (1 - rho)/(1 + rho); docs/methods.md 10 test values, tolerance 10% averaged over seeds.
   std::mt19937_64 rng(testing::test_seed(2021));
   constexpr int kSeeds = 3, kChains = 4, kDraws = 10000;
   for (double rho : {0.0, 0.5, 0.9}) {
@@ -61,7 +61,7 @@ TEST(RhatEss, Ar1BulkEssMatchesIntegratedAutocorrelationTime) {
                 bulk, expected, tail, rhat);
     EXPECT_NEAR(bulk, expected, 0.10 * expected) << "rho " << rho;
     EXPECT_LT(rhat, kRhatThreshold) << "rho " << rho;
-    // METHODS.md 10: tail indicators decorrelate faster than the draws themselves.
+    // docs/methods.md 10: tail indicators decorrelate faster than the draws themselves.
     if (rho > 0) {
       EXPECT_GT(tail, bulk) << "rho " << rho;
     }
@@ -74,7 +74,7 @@ TEST(RhatEss, IndependentChainsPassAndShiftedChainIsCaught) {
   const ScalarDiagnostics same = diagnose_scalar(normal_chains(4, 1000, rng));
   EXPECT_LT(*same.rhat, kRhatThreshold);
 
-  // One of four chains shifted by one sd: METHODS.md 10 gives split R-hat ~ 1.096 (bulk
+  // One of four chains shifted by one sd: docs/methods.md 10 gives split R-hat ~ 1.096 (bulk
   // ~ 1.095, folded ~ 1.004); by hand, B/n -> Var of split-chain means (2 of 8 at 1) =
   // 1.5/7, so R-hat -> sqrt(1 + 0.214) = 1.10.
   Chains shifted = normal_chains(4, 1000, rng);
@@ -134,9 +134,9 @@ TEST(RhatEss, GuardsConstantShortAndUnequalChains) {
   EXPECT_EQ(cut.draws_per_split_chain, 20);
   bool warned = false;
   for (const std::string& note : cut.notes) warned = warned || note.find("unstable") != std::string::npos;
-  EXPECT_TRUE(warned) << "fewer than 50 draws per split chain must warn (METHODS.md 10)";
+  EXPECT_TRUE(warned) << "fewer than 50 draws per split chain must warn (docs/methods.md 10)";
 
-  // Antithetic chains: ESS is capped at S log10(S) (METHODS.md 10.2).
+  // Antithetic chains: ESS is capped at S log10(S) (docs/methods.md 10.2).
   Chains antithetic(2);
   for (int t = 0; t < 400; ++t) {
     antithetic[0].push_back(t % 2 ? 1.0 : -1.0);

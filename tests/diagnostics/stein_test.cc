@@ -1,4 +1,4 @@
-// Kernel Stein discrepancy (IMQ kernel) against METHODS.md section 11's worked values,
+// Kernel Stein discrepancy (IMQ kernel) against docs/methods.md section 11's worked values,
 // against an independent numpy implementation (tests/tools/numpy_ksd.py, all pairs as
 // (n, n) arrays), and on Gaussians: exact draws score lower as they grow, shifted or
 // widened draws score worse.
@@ -35,7 +35,7 @@ Eigen::MatrixXd normal_draws(int d, int n, std::uint64_t seed) {
 }
 
 TEST(KernelStein, MatchesTheWorkedValuesOfMethodsSection11) {
-  // METHODS.md 11 [D] (numpy double precision): 1-D points {0, 1}.
+  // docs/methods.md 11 [D] (numpy double precision): 1-D points {0, 1}.
   Eigen::MatrixXd x(1, 2);
   x << 0, 1;
   EXPECT_NEAR(stein_kernel_value(x.col(0), x.col(1), -x.col(0), -x.col(1)), -0.5303300859, 1e-9);
@@ -105,7 +105,7 @@ TEST(KernelStein, AgreesWithAnIndependentNumpyImplementation) {
 }
 
 TEST(KernelStein, FallsWithExactDrawsAndFlagsShiftedOrWideOnes) {
-  // 2-D standard normal. METHODS.md 11 [D]: 500 exact draws give V ~ 0.0074 (V ~ 1/n
+  // 2-D standard normal. docs/methods.md 11 [D]: 500 exact draws give V ~ 0.0074 (V ~ 1/n
   // for exact draws: the diagonal k0(x, x) = d + ||x||^2 averages 2d over n).
   const Eigen::MatrixXd all = normal_draws(2, 1600, testing::test_seed(171));
   double previous = INFINITY;
@@ -117,7 +117,7 @@ TEST(KernelStein, FallsWithExactDrawsAndFlagsShiftedOrWideOnes) {
   }
   const Eigen::MatrixXd exact = all.leftCols(500);
   const SteinDiscrepancy base = ksd_standard_normal(exact);
-  EXPECT_NEAR(base.u_statistic, 0, 0.01);  // sd ~0.002 (METHODS.md 11)
+  EXPECT_NEAR(base.u_statistic, 0, 0.01);  // sd ~0.002 (docs/methods.md 11)
   Eigen::MatrixXd shifted = exact;
   shifted.row(0).array() += 0.5;
   const SteinDiscrepancy moved = ksd_standard_normal(shifted);
@@ -127,7 +127,7 @@ TEST(KernelStein, FallsWithExactDrawsAndFlagsShiftedOrWideOnes) {
               wide.v_statistic, wide.u_statistic);
   EXPECT_GT(moved.v_statistic, 3 * base.v_statistic);
   EXPECT_GT(moved.u_statistic, 0.02);
-  EXPECT_GT(wide.u_statistic, 0.05);  // METHODS.md 11: ~0.083 for these sizes
+  EXPECT_GT(wide.u_statistic, 0.05);  // docs/methods.md 11: ~0.083 for these sizes
 }
 
 TEST(KernelStein, RefusesMismatchedOrNonFiniteInput) {

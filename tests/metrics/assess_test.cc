@@ -13,7 +13,7 @@ using testing::example_member;
 using testing::kExampleLabels;
 
 TEST(AssessPredictions, GathersTheMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values" (every number below is listed there).
+  // Source: docs/methods.md 9 "Test values" (every number below is listed there).
   const Eigen::MatrixXd logs[2] = {example_member(0).array().log(),
                                    example_member(1).array().log()};
   const UncertaintySplit split = split_uncertainty(logs);
@@ -60,7 +60,7 @@ TEST(AssessPredictions, RejectsBadInputWithAClearMessage) {
 }
 
 TEST(AssessPredictions, BinaryTaskAddsPositiveClassQuantities) {
-  // Source: METHODS.md 9 "Test values" binary example (brier_score_loss = 0.0375).
+  // Source: docs/methods.md 9 "Test values" binary example (brier_score_loss = 0.0375).
   Eigen::MatrixXd p(2, 4);
   p << .9, .1, .2, .7, .1, .9, .8, .3;
   const std::vector<std::int32_t> y = {0, 1, 1, 0};

@@ -1,4 +1,4 @@
-// Tests of binning, ECE, MCE and reliability curves (src/metrics/calibration.cc), METHODS.md 9.3.
+// Tests of binning, ECE, MCE and reliability curves (src/metrics/calibration.cc), docs/methods.md 9.3.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -13,7 +13,7 @@ using testing::example_mean;
 using testing::kExampleLabels;
 
 TEST(TopLabelEce, MatchesMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values": ECE 0.2 and MCE 0.4 for M = 5, 10 and 15.
+  // Source: docs/methods.md 9 "Test values": ECE 0.2 and MCE 0.4 for M = 5, 10 and 15.
   for (int m : {5, 10, 15}) {
     const ReliabilityTable t = top_label_reliability(example_mean(), kExampleLabels, m);
     EXPECT_NEAR(t.ece, 0.2, 1e-15) << "M = " << m;
@@ -38,7 +38,7 @@ TEST(TopLabelEce, MatchesMethodsWorkedExample) {
 }
 
 TEST(TopLabelEce, EqualMassMatchesMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values": equal-mass ECE 0.2 (M = 2) and 0.1333333 (M = 3).
+  // Source: docs/methods.md 9 "Test values": equal-mass ECE 0.2 (M = 2) and 0.1333333 (M = 3).
   const ReliabilityTable t2 =
       top_label_reliability(example_mean(), kExampleLabels, 2, Binning::kEqualMass);
   EXPECT_NEAR(t2.ece, 0.2, 1e-15);
@@ -59,13 +59,13 @@ TEST(TopLabelEce, EqualMassMatchesMethodsWorkedExample) {
 }
 
 TEST(ClasswiseEce, MatchesMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values": 0.1611111 (M = 5), 0.1833333 (M = 10).
+  // Source: docs/methods.md 9 "Test values": 0.1611111 (M = 5), 0.1833333 (M = 10).
   EXPECT_NEAR(classwise_ece(example_mean(), kExampleLabels, 5), 0.1611111, 5e-8);
   EXPECT_NEAR(classwise_ece(example_mean(), kExampleLabels, 10), 0.1833333, 5e-8);
 }
 
 TEST(EqualWidthBins, EdgesAreNumpyLinspaceAndRightClosed) {
-  // Source: METHODS.md 9.3 (NumPy's linspace edges; searchsorted side='left').
+  // Source: docs/methods.md 9.3 (NumPy's linspace edges; searchsorted side='left').
   const std::vector<double> e = equal_width_edges(10);
   EXPECT_EQ(e[3], 0.30000000000000004);  // 3 * 0.1 in double, as NumPy computes it
   EXPECT_EQ(e[10], 1.0);
@@ -82,7 +82,7 @@ TEST(EqualWidthBins, EdgesAreNumpyLinspaceAndRightClosed) {
 }
 
 TEST(PositiveClassCurve, MatchesScikitLearnWorkedExample) {
-  // Source: METHODS.md 9 "Test values" (scikit-learn 1.2.1 calibration_curve, M = 5).
+  // Source: docs/methods.md 9 "Test values" (scikit-learn 1.2.1 calibration_curve, M = 5).
   const std::vector<std::int32_t> y = {0, 0, 0, 0, 1, 1, 1, 1, 1, 0, 1, 0};
   const std::vector<double> q = {0.0, 0.1, 0.2, 0.2, 0.3, 0.5, 0.6, 0.7, 0.8, 0.9, 1.0, 0.4};
   const int want_ids[] = {0, 0, 0, 0, 1, 2, 2, 3, 3, 4, 4, 1};
@@ -110,7 +110,7 @@ TEST(PositiveClassCurve, MatchesScikitLearnWorkedExample) {
 }
 
 TEST(PositiveClassCurve, DropsEmptyBinsAndHandlesOneRow) {
-  // Source: scikit-learn 1.2 calibration_curve drops bins with no rows (METHODS.md 9.3).
+  // Source: scikit-learn 1.2 calibration_curve drops bins with no rows (docs/methods.md 9.3).
   const std::vector<std::int32_t> y = {1};
   const std::vector<double> q = {0.42};
   const PositiveClassCurve u = positive_class_curve(q, y, 10, CurveEdges::kWidth);

@@ -1,5 +1,5 @@
 // Member-wise temperature scaling of an ensemble (src/metrics/ensemble_temperature.cc):
-// METHODS.md 9.4's worked example, recovery of a known temperature, and the NLL against
+// docs/methods.md 9.4's worked example, recovery of a known temperature, and the NLL against
 // a plain double loop.
 #include <gtest/gtest.h>
 
@@ -15,7 +15,7 @@
 namespace credence {
 namespace {
 
-// METHODS.md 9 "Test values": the 6-row, 3-class logits and labels of the temperature example.
+// docs/methods.md 9 "Test values": the 6-row, 3-class logits and labels of the temperature example.
 Eigen::MatrixXd worked_logits() {
   Eigen::MatrixXd rows(6, 3);
   rows << 2, .5, -1, .2, 1.5, .3, 3, -.5, 0, .1, .2, 2.5, 1, 1.2, .8, -.5, 2, .5;
@@ -42,7 +42,7 @@ double hand_nll(const std::vector<Eigen::MatrixXd>& members, const std::vector<s
 }
 
 TEST(EnsembleTemperature, OneMemberIsPlainTemperatureScaling) {
-  // Source: METHODS.md 9 "Test values", tau* = 1.6670250006 (exact stationary point,
+  // Source: docs/methods.md 9 "Test values", tau* = 1.6670250006 (exact stationary point,
   // see temperature_test.cc), NLL(tau*) = 0.91001409, NLL(1) = 0.97079119.
   const std::vector<Eigen::MatrixXd> one = {apply_temperature(worked_logits(), 1.0)};
   const Result<TemperatureFit> fit = fit_ensemble_temperature(one, kWorkedLabels);

@@ -1,4 +1,4 @@
-// Tests of accuracy, NLL and Brier scores (src/metrics/scores.cc) against METHODS.md 9.2.
+// Tests of accuracy, NLL and Brier scores (src/metrics/scores.cc) against docs/methods.md 9.2.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -14,7 +14,7 @@ using testing::example_mean;
 using testing::kExampleLabels;
 
 TEST(Scores, MatchMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values"; NLL there equals scikit-learn's log_loss.
+  // Source: docs/methods.md 9 "Test values"; NLL there equals scikit-learn's log_loss.
   const Eigen::MatrixXd p = example_mean();
   const std::vector<std::int32_t> want_pred = {0, 1, 1, 1, 2, 1};
   EXPECT_EQ(predicted_classes(p), want_pred);
@@ -28,7 +28,7 @@ TEST(Scores, MatchMethodsWorkedExample) {
 }
 
 TEST(Scores, TiesGoToTheLowestClassIndex) {
-  // Source: METHODS.md 9.2 tie rule.
+  // Source: docs/methods.md 9.2 tie rule.
   Eigen::MatrixXd p(3, 2);
   p << 0.4, 0.2, 0.4, 0.4, 0.2, 0.4;
   EXPECT_EQ(predicted_classes(p), (std::vector<std::int32_t>{0, 1}));
@@ -36,14 +36,14 @@ TEST(Scores, TiesGoToTheLowestClassIndex) {
 }
 
 TEST(Scores, BinaryBrierMatchesScikitLearnValuesAndHalvesMultiClass) {
-  // Source: METHODS.md 9 "Test values" (scikit-learn 1.2.1 brier_score_loss, run there).
+  // Source: docs/methods.md 9 "Test values" (scikit-learn 1.2.1 brier_score_loss, run there).
   const std::vector<std::int32_t> y = {0, 0, 0, 0, 1, 1, 1, 1, 1, 0, 1, 0};
   const std::vector<double> q = {0.0, 0.1, 0.2, 0.2, 0.3, 0.5, 0.6, 0.7, 0.8, 0.9, 1.0, 0.4};
   EXPECT_NEAR(binary_brier_score(q, y), 0.17416666667, 1e-11);
   const std::vector<std::int32_t> y2 = {0, 1, 1, 0};
   const std::vector<double> q2 = {.1, .9, .8, .3};
   EXPECT_NEAR(binary_brier_score(q2, y2), 0.0375, 1e-15);
-  // Source: METHODS.md 9.2: for K = 2 the multi-class value is twice the binary one.
+  // Source: docs/methods.md 9.2: for K = 2 the multi-class value is twice the binary one.
   Eigen::MatrixXd p(2, 4);
   for (int i = 0; i < 4; ++i) {
     p(1, i) = q2[static_cast<std::size_t>(i)];
@@ -54,7 +54,7 @@ TEST(Scores, BinaryBrierMatchesScikitLearnValuesAndHalvesMultiClass) {
 }
 
 TEST(Scores, OneRowAndZeroProbabilityLabel) {
-  // Source: definitions (METHODS.md 9.2) evaluated by hand.
+  // Source: definitions (docs/methods.md 9.2) evaluated by hand.
   Eigen::MatrixXd p(2, 1);
   p << 0.25, 0.75;
   const std::vector<std::int32_t> y = {0};

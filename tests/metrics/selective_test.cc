@@ -1,4 +1,4 @@
-// Tests of AUROC and accuracy-rejection curves (src/metrics/selective.cc), METHODS.md 9.5.
+// Tests of AUROC and accuracy-rejection curves (src/metrics/selective.cc), docs/methods.md 9.5.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -13,7 +13,7 @@ using testing::example_mean;
 using testing::kExampleLabels;
 
 TEST(Auroc, MatchesMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values": AUROC(correct vs conf) = AUROC(correct vs -H) = 0.9375.
+  // Source: docs/methods.md 9 "Test values": AUROC(correct vs conf) = AUROC(correct vs -H) = 0.9375.
   const Eigen::MatrixXd p = example_mean();
   const std::vector<std::uint8_t> correct = correct_predictions(p, kExampleLabels);
   EXPECT_EQ(correct, (std::vector<std::uint8_t>{1, 1, 0, 1, 1, 0}));
@@ -24,7 +24,7 @@ TEST(Auroc, MatchesMethodsWorkedExample) {
 }
 
 TEST(Auroc, CountsTiesOneHalfAndMatchesPairCounting) {
-  // Source: the Mann-Whitney definition (METHODS.md 9.5), counted pair by pair here.
+  // Source: the Mann-Whitney definition (docs/methods.md 9.5), counted pair by pair here.
   const std::vector<double> s = {0.1, 0.4, 0.4, 0.4, 0.9, 0.2, 0.9, 0.0};
   const std::vector<std::uint8_t> pos = {0, 1, 0, 1, 1, 0, 0, 1};
   double pairs = 0;
@@ -63,7 +63,7 @@ TEST(Auroc, UndefinedWithoutBothClasses) {
 }
 
 TEST(AccuracyRejection, MatchesMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values": acc_k = 1, 1, 1, 1, 0.8, 0.6667; AURC = 0.0888889.
+  // Source: docs/methods.md 9 "Test values": acc_k = 1, 1, 1, 1, 0.8, 0.6667; AURC = 0.0888889.
   const Eigen::MatrixXd p = example_mean();
   const std::vector<std::uint8_t> correct = correct_predictions(p, kExampleLabels);
   const Eigen::VectorXd neg_conf = -top_confidence(p);
@@ -82,7 +82,7 @@ TEST(AccuracyRejection, MatchesMethodsWorkedExample) {
 }
 
 TEST(AccuracyRejection, TiesKeepRowOrder) {
-  // Source: METHODS.md 9.5 (stable tie rule is the contract).
+  // Source: docs/methods.md 9.5 (stable tie rule is the contract).
   const std::vector<double> u = {0.5, 0.5, 0.5};
   const RejectionCurve a = accuracy_rejection(u, std::vector<std::uint8_t>{0, 1, 1});
   EXPECT_EQ(a.accuracy[0], 0.0);

@@ -1,4 +1,4 @@
-// Tests of temperature scaling (src/metrics/temperature.cc) against METHODS.md 9.4.
+// Tests of temperature scaling (src/metrics/temperature.cc) against docs/methods.md 9.4.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -13,7 +13,7 @@ namespace credence {
 namespace {
 
 TEST(TemperatureScaling, MatchesMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values": tau* = 1.66702504, NLL(tau*) = 0.91001409,
+  // Source: docs/methods.md 9 "Test values": tau* = 1.66702504, NLL(tau*) = 0.91001409,
   // NLL(1) = 0.97079119 (derived there with SciPy).
   Eigen::MatrixXd rows(6, 3);
   rows << 2, .5, -1, .2, 1.5, .3, 3, -.5, 0, .1, .2, 2.5, 1, 1.2, .8, -.5, 2, .5;
@@ -21,7 +21,7 @@ TEST(TemperatureScaling, MatchesMethodsWorkedExample) {
   const std::vector<std::int32_t> y = {0, 1, 1, 2, 0, 1};
   const Result<TemperatureFit> fit = fit_temperature(z, y);
   ASSERT_TRUE(fit.ok()) << fit.status().to_string();
-  // METHODS.md gives tau* to 8 decimals from a looser search; the exact stationary point is
+  // docs/methods.md gives tau* to 8 decimals from a looser search; the exact stationary point is
   // 1.6670250006 (SciPy: NLL'(s) = 9e-14 there, -1.3e-8 at 1.66702504), hence 5e-8.
   EXPECT_NEAR(fit->temperature, 1.66702504, 5e-8);
   EXPECT_NEAR(fit->temperature, 1.6670250006, 1e-9);
@@ -34,7 +34,7 @@ TEST(TemperatureScaling, MatchesMethodsWorkedExample) {
   // The minimum: nearby temperatures are worse.
   EXPECT_GT(temperature_nll(z, y, fit->temperature * 1.001), fit->nll_after);
   EXPECT_GT(temperature_nll(z, y, fit->temperature / 1.001), fit->nll_after);
-  // Scaling keeps the argmax (METHODS.md 9.4: accuracy unchanged) and stays normalised.
+  // Scaling keeps the argmax (docs/methods.md 9.4: accuracy unchanged) and stays normalised.
   const Eigen::MatrixXd scaled = apply_temperature(z, fit->temperature);
   EXPECT_EQ(predicted_classes(scaled), predicted_classes(z));
   EXPECT_TRUE(scaled.array().exp().colwise().sum().isApproxToConstant(1.0, 1e-15));
@@ -44,7 +44,7 @@ TEST(TemperatureScaling, MatchesMethodsWorkedExample) {
 }
 
 TEST(TemperatureScaling, RecoversAKnownTemperature) {
-  // Synthetic check (METHODS.md 9 "Test values", here with tau = 2.5 and more rows):
+  // Synthetic check (docs/methods.md 9 "Test values", here with tau = 2.5 and more rows):
   // logits N(0, 3^2) in 4 classes, labels drawn from softmax(z / 2.5). The fitted tau's
   // standard error at n = 100000 is about 0.4%; the tolerance is 2%.
   std::mt19937_64 gen(testing::test_seed(901));
@@ -77,7 +77,7 @@ TEST(TemperatureScaling, RecoversAKnownTemperature) {
 }
 
 TEST(TemperatureScaling, ReportsBoundsAndBadInput) {
-  // Source: METHODS.md 9.4 search range log tau in [-5, 5]; messages per STYLE.md rule 17.
+  // Source: docs/methods.md 9.4 search range log tau in [-5, 5]; messages per STYLE.md rule 17.
   Eigen::MatrixXd z(2, 2);
   z << 1, -1, -1, 1;  // both rows predicted right: NLL falls as tau -> 0
   const std::vector<std::int32_t> y = {0, 1};

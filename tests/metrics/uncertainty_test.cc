@@ -1,4 +1,4 @@
-// Tests of the ensemble uncertainty split (src/metrics/uncertainty.cc) against METHODS.md 9.1.
+// Tests of the ensemble uncertainty split (src/metrics/uncertainty.cc) against docs/methods.md 9.1.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -14,7 +14,7 @@ namespace {
 using testing::example_member;
 
 TEST(UncertaintySplit, MatchesMethodsWorkedExample) {
-  // Source: METHODS.md 9 "Test values" (derived there with NumPy), six decimals given.
+  // Source: docs/methods.md 9 "Test values" (derived there with NumPy), six decimals given.
   const Eigen::MatrixXd logs[2] = {example_member(0).array().log(),
                                    example_member(1).array().log()};
   const UncertaintySplit split = split_uncertainty(logs);
@@ -31,7 +31,7 @@ TEST(UncertaintySplit, MatchesMethodsWorkedExample) {
 }
 
 TEST(UncertaintySplit, TwoCertainDisagreeingMembersGiveLogTwo) {
-  // Source: METHODS.md 9 "Test values": members (1, 0) and (0, 1): H = MI = log 2, E H = 0.
+  // Source: docs/methods.md 9 "Test values": members (1, 0) and (0, 1): H = MI = log 2, E H = 0.
   const double inf = std::numeric_limits<double>::infinity();
   UncertaintyAccumulator acc(2, 1);
   acc.add_member(Eigen::Vector2d(0.0, -inf));
@@ -55,7 +55,7 @@ Eigen::MatrixXd random_log_probs(std::mt19937_64& gen, Eigen::Index k, Eigen::In
 }
 
 TEST(UncertaintySplit, OneMemberHasZeroMutualInformation) {
-  // Source: definition (METHODS.md 9.1): with S = 1, pbar = p_1 so H[pbar] = E H.
+  // Source: definition (docs/methods.md 9.1): with S = 1, pbar = p_1 so H[pbar] = E H.
   std::mt19937_64 gen(testing::test_seed(501));
   const Eigen::MatrixXd one = random_log_probs(gen, 5, 200, 3.0);
   UncertaintyAccumulator acc(5, 200);
@@ -66,7 +66,7 @@ TEST(UncertaintySplit, OneMemberHasZeroMutualInformation) {
 }
 
 TEST(UncertaintySplit, TotalIsExpectedPlusMutualInformationAndMatchesDirectAverage) {
-  // Source: definition H = E H + MI (METHODS.md 9.1), and pbar computed directly as the
+  // Source: definition H = E H + MI (docs/methods.md 9.1), and pbar computed directly as the
   // plain mean of exp(log p_s) (common practice, no outside source).
   std::mt19937_64 gen(testing::test_seed(502));
   std::vector<Eigen::MatrixXd> members;
@@ -83,7 +83,7 @@ TEST(UncertaintySplit, TotalIsExpectedPlusMutualInformationAndMatchesDirectAvera
 }
 
 TEST(UncertaintySplit, WeightsAreNormalisedByTheirTotal) {
-  // Source: definition pbar = sum_s w_s p_s with sum w_s = 1 (METHODS.md 9.1).
+  // Source: definition pbar = sum_s w_s p_s with sum w_s = 1 (docs/methods.md 9.1).
   const Eigen::MatrixXd a = example_member(0).array().log();
   const Eigen::MatrixXd b = example_member(1).array().log();
   UncertaintyAccumulator acc(3, 6);

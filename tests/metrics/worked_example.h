@@ -1,4 +1,4 @@
-// METHODS.md section 9 "Test values": two members, three classes, six rows.
+// docs/methods.md section 9 "Test values": two members, three classes, six rows.
 #pragma once
 
 #include <Eigen/Core>
@@ -7,7 +7,7 @@
 
 namespace credence::testing {
 
-/// Member s's probabilities as (K, n): the rows of METHODS.md's P_s become columns.
+/// Member s's probabilities as (K, n): the rows of docs/methods.md's P_s become columns.
 inline Eigen::MatrixXd example_member(int s) {
   Eigen::MatrixXd rows(6, 3);
   if (s == 0) {

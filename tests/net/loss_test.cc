@@ -1,4 +1,4 @@
-// Tests of softmax cross-entropy: METHODS.md test values, extreme logits, derivatives.
+// Tests of softmax cross-entropy: docs/methods.md test values, extreme logits, derivatives.
 #include "net/loss.h"
 
 #include <gtest/gtest.h>
@@ -11,7 +11,7 @@
 namespace credence {
 namespace {
 
-// Reference: METHODS.md section 1 "Test values" (computed there with NumPy/SciPy):
+// Reference: docs/methods.md section 1 "Test values" (computed there with NumPy/SciPy):
 // z = (2, 1, 0), y = 0 gives -log p = 0.40760596444438013 and gradient
 // (-0.33475904, 0.24472847, 0.09003057).
 TEST(SoftmaxCrossEntropy, MatchesMethodsTestValues) {

@@ -70,7 +70,7 @@ TEST(NetFile, CanonicalTextReadsBackEqual) {
   }
 }
 
-// scale=auto (METHODS.md section 15): the learned scale, its hyperprior settings, the
+// scale=auto (docs/methods.md section 15): the learned scale, its hyperprior settings, the
 // canonical text round trip, and the default without a prior line.
 TEST(NetFile, LearnedScaleSettings) {
   Result<NetSpec> spec = parse_net_text(

@@ -156,7 +156,7 @@ TEST(Workspace, BatchLargerThanTheWorkspaceIsAnError) {
 }
 
 // Reference: central finite differences (h = 1e-6, double) of scale * sum -log p(y|x).
-// Norm-wise relative error <= 1e-6 (METHODS.md section 1 test values).
+// Norm-wise relative error <= 1e-6 (docs/methods.md section 1 test values).
 TEST(Network, BackwardMatchesFiniteDifferencesOnA342Network) {
   const std::uint64_t seed = testing::test_seed(33);
   const ParamLayout layout = make_layout({4}, "tanh", 3, 2);

@@ -1,5 +1,5 @@
 // Tests of the potential U~: finite differences, closed-form logistic regression,
-// METHODS.md identities (b = N, epoch mean), tempering, and bad calls.
+// docs/methods.md identities (b = N, epoch mean), tempering, and bad calls.
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -65,7 +65,7 @@ Potential<double> make_potential(const Problem& p, Index max_batch, double tempe
 
 // Reference: central finite differences of U~ (h = 1e-6 scaled by max(1, |theta_i|),
 // double). Criterion: norm-wise relative error ||a - n|| / max(1e-8, ||a|| + ||n||) <= 1e-6
-// (common practice; METHODS.md section 1 asks < 1e-6 on a 3-4-2 network). Relu: every
+// (common practice; docs/methods.md section 1 asks < 1e-6 on a 3-4-2 network). Relu: every
 // pre-activation at least 1e-4 from the kink at the base point, checked below.
 TEST(Potential, GradientMatchesFiniteDifferencesForEveryActivationAndDepth) {
   const std::uint64_t seed = testing::test_seed(51);
@@ -182,7 +182,7 @@ TEST(Potential, NoHiddenLayerMatchesClosedFormLogisticRegression) {
   EXPECT_NEAR(potential.last_neg_log_prior(), prior, 1e-12 * std::abs(prior));
 }
 
-// Reference: METHODS.md section 1 test values: b = N gives U~ = U exactly; for N
+// Reference: docs/methods.md section 1 test values: b = N gives U~ = U exactly; for N
 // divisible by b the mean of U~ over the N/b batches of one epoch equals U.
 TEST(Potential, FullBatchAndEpochMeanEqualTheFullPotential) {
   const std::uint64_t seed = testing::test_seed(53);
@@ -229,7 +229,7 @@ TEST(Potential, FullBatchAndEpochMeanEqualTheFullPotential) {
   EXPECT_LE((grad_sum / batches - grad_full).norm(), 1e-12 * grad_full.norm());
 }
 
-// METHODS.md section 1: with whole-posterior tempering U and its gradient do not change
+// docs/methods.md section 1: with whole-posterior tempering U and its gradient do not change
 // with T and the samplers' noise carries T; likelihood tempering divides the likelihood
 // term by T and leaves noise temperature 1.
 TEST(Potential, TemperingConventions) {

@@ -1,4 +1,4 @@
-// Evidence updates of block precisions for optimizers (METHODS.md section 15).
+// Evidence updates of block precisions for optimizers (docs/methods.md section 15).
 #include "posterior/precision_evidence.h"
 
 #include <gtest/gtest.h>
@@ -61,7 +61,7 @@ TEST(EvidencePrecision, StepIsDampedInLogSpaceAndClipped) {
 // softmax, scaled by N/m) is unbiased for the Gauss-Newton diagonal. For a softmax
 // regression (no hidden layer) weight W_kj feeds logit k only, so the GGN diagonal is
 // exactly sum_n p_nk (1 - p_nk) x_nj^2 and the bias's is sum_n p_nk (1 - p_nk)
-// (METHODS.md section 15's formula with J_nki = x_nj for k, 0 elsewhere).
+// (docs/methods.md section 15's formula with J_nki = x_nj for k, 0 elsewhere).
 TEST(PrecisionEvidence, DiagonalEstimateIsUnbiasedForTheGaussNewtonDiagonal) {
   NetSpec spec;
   Result<ParamLayout> layout = resolve_layout(spec, 2, 3);

@@ -1,4 +1,4 @@
-// The Gibbs update of a prior that learns its scale (METHODS.md section 15): the
+// The Gibbs update of a prior that learns its scale (docs/methods.md section 15): the
 // conditional's parameters against the section's test values, Gamma draws against the
 // analytic moments, and the per-chain state (schedule, precisions, stream, resume).
 #include <gtest/gtest.h>
@@ -57,7 +57,7 @@ void expect_gamma_moments(double shape, double rate, std::uint64_t seed,
   EXPECT_NEAR(skew, true_skew, 4.5 * std::sqrt(6 / n) * (1 + 3 * true_skew));
 }
 
-// METHODS.md section 15 test values [D]: d = 1000, ||theta||^2 = 250, a = r = 1 gives
+// docs/methods.md section 15 test values [D]: d = 1000, ||theta||^2 = 250, a = r = 1 gives
 // Gamma(501, 126), mean 3.97619, sd 0.17764; whole-posterior tempering at T = 0.5 gives
 // Gamma(1001, 252), mean 3.97222, sd 0.12555.
 TEST(PrecisionConditional, MatchesMethodsTestValues) {
@@ -119,7 +119,7 @@ TEST(PrecisionGibbs, StartsAtTheFixedPriorAndDrawsEveryKSteps) {
   ASSERT_TRUE(potential.ok());
   const GaussianPrior& prior = potential->prior();
   ASSERT_EQ(prior.num_blocks(), 4);
-  // fan_in / s^2 for weights, 1 for biases (METHODS.md section 15's starting values).
+  // fan_in / s^2 for weights, 1 for biases (docs/methods.md section 15's starting values).
   EXPECT_DOUBLE_EQ(prior.block_precisions()[0], 3.0);
   EXPECT_DOUBLE_EQ(prior.block_precisions()[1], 1.0);
   EXPECT_DOUBLE_EQ(prior.block_precisions()[2], 4.0);

@@ -1,4 +1,4 @@
-// Tests of the Gaussian prior: METHODS.md values, scales per layer, finite differences.
+// Tests of the Gaussian prior: docs/methods.md values, scales per layer, finite differences.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -12,7 +12,7 @@
 namespace credence {
 namespace {
 
-// Reference: METHODS.md section 1 test values: theta = (1, -2), sigma = 2 gives
+// Reference: docs/methods.md section 1 test values: theta = (1, -2), sigma = 2 gives
 // -log p = 5/8 + log(8 pi) = 3.849171427529236 and gradient (0.25, -0.5).
 TEST(GaussianPrior, MatchesMethodsTestValues) {
   VecX<double> theta(2);
@@ -41,7 +41,7 @@ TEST(GaussianPrior, MatchesMethodsTestValues) {
   EXPECT_DOUBLE_EQ(grad(3), 1.0);
 }
 
-// Scales of nets/wide.net (METHODS.md section 1 defaults: weights s / sqrt(fan_in)).
+// Scales of nets/wide.net (docs/methods.md section 1 defaults: weights s / sqrt(fan_in)).
 TEST(GaussianPrior, FanInScalingAndLayerOverrides) {
   Result<NetSpec> spec = read_net_file(std::string(CREDENCE_SOURCE_DIR) + "/nets/wide.net");
   ASSERT_TRUE(spec.ok());

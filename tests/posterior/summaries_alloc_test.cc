@@ -17,7 +17,7 @@ namespace credence {
 namespace {
 
 TEST(SampleSummarizer, SummarizeAllocatesNothingAfterConstruction) {
-  // Shapes: logistic regression and two hidden layers; 32 probe rows (METHODS.md 10.3
+  // Shapes: logistic regression and two hidden layers; 32 probe rows (docs/methods.md 10.3
   // suggests 16-32 tracked rows) and 256 (the probe log-likelihood set).
   for (Index rows : {32, 256}) {
     for (std::vector<Index> hidden : {std::vector<Index>{}, std::vector<Index>{64, 64}}) {

@@ -1,4 +1,4 @@
-// Tracked per-sample summaries (METHODS.md 10.3) against numpy, by hand, and in law.
+// Tracked per-sample summaries (docs/methods.md 10.3) against numpy, by hand, and in law.
 #include "credence/summaries.h"
 
 #include <gtest/gtest.h>

@@ -84,7 +84,7 @@ TEST(TablePotentialState, DamagedStateIsRefusedAndChangesNothing) {
   EXPECT_EQ(potential->batch_position(), (BatchPosition{0, 0}));
 }
 
-// A prior that learns its scale (METHODS.md section 15): Gibbs draws every pass (6 batches
+// A prior that learns its scale (docs/methods.md section 15): Gibbs draws every pass (6 batches
 // of 16 over 90 rows), the precisions and their stream saved and restored with the state,
 // and none for optimizers (learn_prior_scale off).
 TEST(TablePotentialState, LearnedPrecisionsUpdateEveryPassAndResume) {

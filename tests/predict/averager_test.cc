@@ -1,4 +1,4 @@
-// EnsembleAverager against the worked values of METHODS.md section 9.1 / "Test values"
+// EnsembleAverager against the worked values of docs/methods.md section 9.1 / "Test values"
 // (two members, three classes, six rows; derived there with numpy in double precision).
 #include <gtest/gtest.h>
 
@@ -11,7 +11,7 @@ namespace credence {
 namespace {
 
 Eigen::MatrixXd log_of(std::initializer_list<std::initializer_list<double>> rows_by_class) {
-  // Input is written one data row per line, as in METHODS.md; the averager takes (K, B).
+  // Input is written one data row per line, as in docs/methods.md; the averager takes (K, B).
   const auto b = static_cast<Index>(rows_by_class.size());
   const auto k = static_cast<Index>(rows_by_class.begin()->size());
   Eigen::MatrixXd out(k, b);
@@ -45,7 +45,7 @@ TEST(EnsembleAverager, MatchesMethodsWorkedExample) {
   const double confidence[6] = {0.8, 0.7, 0.4, 0.5, 0.7, 0.5};
   for (Index b = 0; b < 6; ++b) {
     for (Index k = 0; k < 3; ++k) EXPECT_NEAR(out.probabilities(k, b), pbar[b][k], 1e-12) << b;
-    // METHODS.md prints six decimals.
+    // docs/methods.md prints six decimals.
     EXPECT_NEAR(out.entropy(b), h[b], 1e-6) << "row " << b;
     EXPECT_NEAR(out.expected_entropy(b), eh[b], 1e-6) << "row " << b;
     EXPECT_NEAR(out.mutual_information(b), mi[b], 1e-6) << "row " << b;
@@ -55,7 +55,7 @@ TEST(EnsembleAverager, MatchesMethodsWorkedExample) {
   EXPECT_EQ(out.clamped, 0);
 }
 
-// METHODS.md 9.1: members (1, 0) and (0, 1) give H = log 2, E H = 0, MI = log 2; this
+// docs/methods.md 9.1: members (1, 0) and (0, 1) give H = log 2, E H = 0, MI = log 2; this
 // also checks 0 log 0 = 0 with log-probabilities of -infinity.
 TEST(EnsembleAverager, DisagreeingCertainMembersGiveLog2) {
   const double inf = std::numeric_limits<double>::infinity();

@@ -130,7 +130,7 @@ TEST_F(Evaluate, SameResultForAnyThreadCountAndBlockSize) {
 }
 
 TEST_F(Evaluate, TemperatureTempersEveryMemberBeforeAveraging) {
-  // By hand (METHODS.md 9.4 applied per member, fit_ensemble_temperature's definition):
+  // By hand (docs/methods.md 9.4 applied per member, fit_ensemble_temperature's definition):
   // pbar = (1/S) sum_s softmax(log p_s / 2).
   const double tau = 2.0;
   Eigen::MatrixXd pbar = Eigen::MatrixXd::Zero(3, kRows);
@@ -167,7 +167,7 @@ TEST_F(Evaluate, TemperatureTempersEveryMemberBeforeAveraging) {
     EXPECT_NEAR(e->members[static_cast<std::size_t>(s)].nll,
                 negative_log_likelihood(kept, labels_), 1e-12);
   }
-  // The tempered average is still an average of distributions: H = E H + MI (METHODS.md 9.1).
+  // The tempered average is still an average of distributions: H = E H + MI (docs/methods.md 9.1).
   EXPECT_LT((e->split.total - e->split.expected - e->split.mutual_info).cwiseAbs().maxCoeff(),
             1e-12);
 

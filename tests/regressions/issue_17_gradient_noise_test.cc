@@ -1,6 +1,6 @@
 // Issue 17: the gradient-noise correction of sghmc and rsghmc silently did nothing with
 // the table potential, which does not estimate the minibatch gradient variance Vhat
-// (METHODS.md section 4). The correction is now refused with a message instead of
+// (docs/methods.md section 4). The correction is now refused with a message instead of
 // running the uncorrected sampler under its name.
 #include <gtest/gtest.h>
 

@@ -1,7 +1,7 @@
 // Issue 17: likelihood-only tempering applied T twice. The potential divides the
 // likelihood by T, and the samplers also injected noise at T, so the chain targeted
 // p(theta)^(1/T) p(D|theta)^(1/T^2) instead of p(theta) p(D|theta)^(1/T). The samplers
-// now take the potential's noise temperature (METHODS.md section 1, Form B: unit noise,
+// now take the potential's noise temperature (docs/methods.md section 1, Form B: unit noise,
 // likelihood gradient / T).
 #include <gtest/gtest.h>
 
@@ -21,7 +21,7 @@
 namespace credence {
 namespace {
 
-// Bayesian linear regression with known noise (METHODS.md 12.1; Pattern Recognition and
+// Bayesian linear regression with known noise (docs/methods.md 12.1; Pattern Recognition and
 // Machine Learning, 2006, Section 3.3), likelihood tempered at T as the table potential
 // does it: U = (alpha/2)|w|^2 + (1/T) (beta/2) |t - Phi w|^2, noise temperature 1.
 class TemperedLinearRegression : public PotentialFn {
@@ -59,7 +59,7 @@ class TemperedLinearRegression : public PotentialFn {
 
 TEST(Issue17LikelihoodTempering, HmcMatchesTheClosedFormLikelihoodTemperedPosterior) {
   // The likelihood-tempered posterior is the closed form with beta replaced by beta / T:
-  // S^-1 = alpha I + (beta/T) Phi^T Phi, m = (beta/T) S Phi^T t (METHODS.md 12.1). At
+  // S^-1 = alpha I + (beta/T) Phi^T Phi, m = (beta/T) S Phi^T t (docs/methods.md 12.1). At
   // T = 0.5: S^-1 = [[33, 16], [16, 49]], m = (29.6, 1368) / 1361. The double-tempered
   // chain had covariance T S instead (variances halved).
   constexpr double kTemperature = 0.5;
@@ -107,13 +107,13 @@ TEST(Issue17LikelihoodTempering, HmcMatchesTheClosedFormLikelihoodTemperedPoster
   for (int i = 0; i < 2; ++i) {
     std::printf("w%d: mean %.5f vs %.5f, variance %.6f vs %.6f\n", i, mean[i], m_n[i],
                 variance[i], s_n(i, i));
-    // METHODS.md 12.1 pass criterion; ESS taken as a quarter of the 20,000 draws.
+    // docs/methods.md 12.1 pass criterion; ESS taken as a quarter of the 20,000 draws.
     EXPECT_NEAR(mean[i], m_n[i], 4 * std::sqrt(s_n(i, i) / 5000));
     EXPECT_NEAR(variance[i] / s_n(i, i), 1.0, 0.1);
   }
 }
 
-// End to end through `credence train`, the identity METHODS.md section 1 states: with a
+// End to end through `credence train`, the identity docs/methods.md section 1 states: with a
 // fixed Gaussian prior, likelihood tempering at T with prior sd s equals whole-posterior
 // tempering at T with prior sd s / sqrt(T), both being p_s(theta) p(D|theta)^(1/T).
 // At T = 0.5 that is prior scale s*sqrt(2).

@@ -1,5 +1,5 @@
 // Issue 17: the polynomial schedule kept a sampler's samples with equal weight, although
-// a decreasing step needs each kept sample weighted by its step size (METHODS.md
+// a decreasing step needs each kept sample weighted by its step size (docs/methods.md
 // section 1, "Collecting the ensemble"; SGLD, ICML 2011). The run file keeps equal
 // weights, so samplers now refuse the schedule; optimizers, which keep one final
 // iterate, still take it.

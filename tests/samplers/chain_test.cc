@@ -56,7 +56,7 @@ SamplerSettings settings_for(Method method) {
   s.method = method;
   s.step_size = method == Method::kSghmc || method == Method::kMomentum ? 0.01 : 0.1;
   if (method == Method::kAdam) s.step_size = 0.01;
-  // santa's eta enters as sqrt(eta) g per step (METHODS.md 16): 1e-3 moves about as far.
+  // santa's eta enters as sqrt(eta) g per step (docs/methods.md 16): 1e-3 moves about as far.
   if (method == Method::kSanta || method == Method::kSantaOpt) s.step_size = 1e-3;
   s.relativistic.mass = 1;
   s.relativistic.speed = 1;
@@ -127,7 +127,7 @@ TEST(ChainDriver, SaveAndRestoreMidChainContinuesBitForBit) {
 }
 
 TEST(ChainDriver, ZeroTemperatureSamplersReproduceTheirOptimizersExactly) {
-  // METHODS.md 2, 4, 5.5, 7: sgld -> sgd, sghmc -> momentum, rsghmc -> rsgd, bit for bit
+  // docs/methods.md 2, 4, 5.5, 7: sgld -> sgd, sghmc -> momentum, rsghmc -> rsgd, bit for bit
   // on the same (noisy) gradient sequence.
   ChainSettings c;
   c.chains = 2;
@@ -155,7 +155,7 @@ TEST(ChainDriver, ZeroTemperatureSamplersReproduceTheirOptimizersExactly) {
 }
 
 TEST(ChainDriver, DivergenceStopsOnlyThatChainAndIsReported) {
-  // SGLD on a variance-1e-4 direction is unstable for eps >= 4e-4 (METHODS.md 2);
+  // SGLD on a variance-1e-4 direction is unstable for eps >= 4e-4 (docs/methods.md 2);
   // chain 1 gets that target, chain 0 a benign one.
   for (Method m : {Method::kSgld, Method::kSghmc}) {
     SamplerSettings s = settings_for(m);
@@ -193,7 +193,7 @@ TEST(ChainDriver, DivergenceStopsOnlyThatChainAndIsReported) {
 }
 
 TEST(ChainDriver, RelativisticStepNeverExceedsEpsTimesC) {
-  // METHODS.md 5.1: |theta_{t+1,i} - theta_{t,i}| <= eps c_i, here with gradients of
+  // docs/methods.md 5.1: |theta_{t+1,i} - theta_{t,i}| <= eps c_i, here with gradients of
   // order 1e8 (precision 1e8) and per-slice speeds. Float rounding of theta + eps v
   // may add half an ulp of theta.
   SamplerSettings s;
@@ -264,7 +264,7 @@ TEST(ChainDriver, OptimizersReachTheMinimiserOfAConvexQuadratic) {
 }
 
 TEST(ChainDriver, MassAdaptationReachesTheTargetSpeedAndIsRecorded) {
-  // METHODS.md 5.6: m adapts during burn-in until E|v|/c is within 0.1 of 0.5.
+  // docs/methods.md 5.6: m adapts during burn-in until E|v|/c is within 0.1 of 0.5.
   SamplerSettings s;
   s.method = Method::kRsghmc;
   s.step_size = 0.05;
@@ -297,7 +297,7 @@ TEST(ChainDriver, MassAdaptationReachesTheTargetSpeedAndIsRecorded) {
 }
 
 TEST(ChainDriver, CyclicalExplorationRunsTheZeroTemperatureLimitAndKeepsNothing) {
-  // METHODS.md 8: exploration steps are plain gradient steps (no noise) and are not
+  // docs/methods.md 8: exploration steps are plain gradient steps (no noise) and are not
   // kept; sampling steps add noise. Traced with thin = 1 on U = |theta|^2 / 2.
   SamplerSettings s;
   s.method = Method::kSgld;

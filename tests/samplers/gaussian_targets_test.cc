@@ -1,7 +1,7 @@
 // Every sampler on correlated Gaussians in 2 and 10 dimensions (correlation 0.9,
 // variances spanning a factor 100): sample mean and covariance against the truth
-// (METHODS.md 12.2) and, for the unadjusted linear rules, against the exact
-// stationary covariance of the discrete recursion (METHODS.md 2, 3, 4).
+// (docs/methods.md 12.2) and, for the unadjusted linear rules, against the exact
+// stationary covariance of the discrete recursion (docs/methods.md 2, 3, 4).
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -190,7 +190,7 @@ void report(const std::string& label, const Moments& m, const Target& t,
 class GaussianTargets : public ::testing::TestWithParam<int> {};
 
 TEST_P(GaussianTargets, SgldMatchesItsDiscreteStationaryLaw) {
-  // Exact discrete law (METHODS.md 2 per eigen-direction): S = (A - eps A^2 / 4)^-1.
+  // Exact discrete law (docs/methods.md 2 per eigen-direction): S = (A - eps A^2 / 4)^-1.
   const Target t = make_target(GetParam());
   const double lambda_min = 1.0 / largest_eigenvalue(t.precision);
   SamplerSettings s;
@@ -205,7 +205,7 @@ TEST_P(GaussianTargets, SgldMatchesItsDiscreteStationaryLaw) {
 }
 
 TEST_P(GaussianTargets, SghmcMatchesItsDiscreteStationaryLawAlsoWithNoisyGradients) {
-  // Exact discrete law (METHODS.md 4): S = (A - eta A^2 / (2 (2 - alpha)))^-1; with
+  // Exact discrete law (docs/methods.md 4): S = (A - eta A^2 / (2 (2 - alpha)))^-1; with
   // gradient noise V and beta_hat = eta V / 2 the law is the same.
   const Target t = make_target(GetParam());
   const double lambda_min = 1.0 / largest_eigenvalue(t.precision);
@@ -226,7 +226,7 @@ TEST_P(GaussianTargets, SghmcMatchesItsDiscreteStationaryLawAlsoWithNoisyGradien
 
 TEST_P(GaussianTargets, PsgldMatchesItsDiscreteStationaryLawWithFrozenPreconditioner) {
   // With G frozen after burn-in: x' = (I - (eps/2) G A) x + sqrt(eps G) xi, whose
-  // stationary covariance solves a discrete Lyapunov equation (METHODS.md 3).
+  // stationary covariance solves a discrete Lyapunov equation (docs/methods.md 3).
   const Target t = make_target(GetParam());
   SamplerSettings s;
   s.method = Method::kPsgld;

@@ -1,5 +1,5 @@
 // Full-batch hmc and rhmc: exactness by scipy's KS test, acceptance against step size,
-// dual averaging, and the stability limit of METHODS.md section 6.
+// dual averaging, and the stability limit of docs/methods.md section 6.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -91,7 +91,7 @@ TEST(ExactSamplers, AcceptanceFallsAsTheStepGrows) {
 }
 
 TEST(ExactSamplers, DualAveragingReachesTheTargetAcceptance) {
-  // METHODS.md 6: 10-D standard normal, L = 10: mean acceptance after warm-up in
+  // docs/methods.md 6: 10-D standard normal, L = 10: mean acceptance after warm-up in
   // delta +- 0.05 (delta = 0.65).
   HmcRun r =
       run_hmc(hmc_settings(Method::kHmc, 1.0, 10, true), 10, 4000, 2000, 1, testing::test_seed(64));
@@ -103,7 +103,7 @@ TEST(ExactSamplers, DualAveragingReachesTheTargetAcceptance) {
 }
 
 TEST(ExactSamplers, LeapfrogStabilityLimitOnTheCorrelatedGaussian) {
-  // METHODS.md 6 / 12.2: rho = 0.95, stable for eps < 2 sqrt(0.05) = 0.4472: eps = 0.45
+  // docs/methods.md 6 / 12.2: rho = 0.95, stable for eps < 2 sqrt(0.05) = 0.4472: eps = 0.45
   // must diverge (acceptance collapses), eps = 0.25 must sample the covariance.
   Eigen::MatrixXd cov(2, 2);
   cov << 1, 0.95, 0.95, 1;
@@ -124,7 +124,7 @@ TEST(ExactSamplers, LeapfrogStabilityLimitOnTheCorrelatedGaussian) {
 }
 
 TEST(ExactSamplers, RhmcSamplesTheBayesianLinearRegressionPosterior) {
-  // METHODS.md 12.1 (Pattern Recognition and Machine Learning, 2006, Section 3.3):
+  // docs/methods.md 12.1 (Pattern Recognition and Machine Learning, 2006, Section 3.3):
   // mean m_N and covariance S_N.
   for (Method method : {Method::kHmc, Method::kRhmc}) {
     SamplerSettings s = hmc_settings(method, 0.1, 10, true);
@@ -156,7 +156,7 @@ TEST(ExactSamplers, RhmcSamplesTheBayesianLinearRegressionPosterior) {
                 std::string(method_name(method)).c_str(), mean[0], mean[1], m_n[0], m_n[1],
                 cov(0, 0), cov(1, 1), s_n(0, 0), s_n(1, 1));
     for (int i = 0; i < 2; ++i) {
-      // METHODS.md 12.1 criterion with ESS >= 2000 assumed (10000 draws).
+      // docs/methods.md 12.1 criterion with ESS >= 2000 assumed (10000 draws).
       EXPECT_NEAR(mean[i], m_n[i], 4 * std::sqrt(s_n(i, i) / 2000)) << method_name(method);
       EXPECT_NEAR(cov(i, i) / s_n(i, i), 1.0, 0.1) << method_name(method);
     }

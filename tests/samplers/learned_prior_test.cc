@@ -1,10 +1,10 @@
 // Gibbs updates of prior precisions inside every sampler, through the chain driver
-// (METHODS.md section 15), on a target whose marginals are known: P independent blocks of
+// (docs/methods.md section 15), on a target whose marginals are known: P independent blocks of
 // one coordinate each, theta_i | lambda_i ~ N(0, 1/lambda_i), lambda_i ~ Gamma(a, r), and
 // no data. Then theta_i's marginal is a Student t with 2a degrees of freedom and scale
 // sqrt(r/a), whose variance is r/(a-1) for a > 1, and lambda_i's marginal is the
 // hyperprior itself, mean a/r (the Normal-Gamma conjugate pair; Pattern Recognition and
-// Machine Learning (2006) section 2.3.7, cited from memory; METHODS.md section 15's brief
+// Machine Learning (2006) section 2.3.7, cited from memory; docs/methods.md section 15's brief
 // for this test states the same).
 #include <gtest/gtest.h>
 
@@ -114,7 +114,7 @@ void expect_normal_gamma(const char* method, const Moments& m, double max_se_sha
   std::printf("%-7s E theta^2 %.4f +- %.4f (%.4f)  E lambda %.4f +- %.4f (%.4f)\n", method,
               m.theta2, m.theta2_se, theta2, m.lambda, m.lambda_se, lambda);
   // 4 standard errors plus 3% for the discretisation bias of the stochastic-gradient
-  // methods at these step sizes (METHODS.md sections 2 and 4: O(eps lambda) relative).
+  // methods at these step sizes (docs/methods.md sections 2 and 4: O(eps lambda) relative).
   EXPECT_NEAR(m.theta2, theta2, 4 * m.theta2_se + 0.03 * theta2) << method;
   EXPECT_NEAR(m.lambda, lambda, 4 * m.lambda_se + 0.03 * lambda) << method;
   EXPECT_LT(m.theta2_se, max_se_share * theta2) << method << ": too few effective samples to bite";

@@ -1,4 +1,4 @@
-// Bayesian linear regression with known noise (METHODS.md 12.1; Pattern Recognition
+// Bayesian linear regression with known noise (docs/methods.md 12.1; Pattern Recognition
 // and Machine Learning, 2006, Section 3.3): every stochastic-gradient sampler, fed
 // one-row minibatches scaled by N/b = 4, recovers the closed-form posterior.
 #include <gtest/gtest.h>
@@ -74,7 +74,7 @@ TEST(LinearRegression, EveryStochasticGradientSamplerRecoversTheClosedFormPoster
                 std::string(method_name(method)).c_str(), p.mean[0], p.mean[1], m_n[0], m_n[1],
                 p.variance[0], p.variance[1], s_n(0, 0), s_n(1, 1));
     for (int i = 0; i < 2; ++i) {
-      // METHODS.md 12.1: mean within 4 sqrt(S_ii / ESS) (ESS taken as 2000: replicas
+      // docs/methods.md 12.1: mean within 4 sqrt(S_ii / ESS) (ESS taken as 2000: replicas
       // share one minibatch sequence, so they are not independent); variances within 10%.
       EXPECT_NEAR(p.mean[i], m_n[i], 4 * std::sqrt(s_n(i, i) / 2000)) << method_name(method);
       EXPECT_NEAR(p.variance[i] / s_n(i, i), 1.0, 0.1) << method_name(method);
@@ -83,7 +83,7 @@ TEST(LinearRegression, EveryStochasticGradientSamplerRecoversTheClosedFormPoster
 }
 
 TEST(LinearRegression, ForgettingTheMinibatchScaleIsDetected) {
-  // METHODS.md 1 failure mode: without N/b the likelihood counts one row per step
+  // docs/methods.md 1 failure mode: without N/b the likelihood counts one row per step
   // instead of four, so the posterior comes out far too wide. Emulated with a potential
   // whose data gradient is scaled by 1 instead of N/b; the checks above must reject it.
   class Unscaled : public PotentialFn {

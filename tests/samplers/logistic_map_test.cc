@@ -192,7 +192,7 @@ TEST_F(LogisticMap, AdamMatchesScikitLearn) {
 }
 
 TEST_F(LogisticMap, SantaOptimizerMatchesScikitLearn) {
-  // Annealed exploration for the first half, then refinement without noise (METHODS.md 16).
+  // Annealed exploration for the first half, then refinement without noise (docs/methods.md 16).
   // At a constant step the default sigma = 0.999 lets v follow the vanishing gradient, so
   // g grows and the refinement hovers: measured gap 7e-3 at lr 1e-2, 5e-3 at 1e-3, 4e-5
   // at 1e-4; a longer memory (sigma = 0.9999) reaches 4e-5 at every lr from 1e-4 to 1e-2.

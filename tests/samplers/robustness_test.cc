@@ -34,7 +34,7 @@ struct Result1 {
 Result1 run(Method method, double eps, std::uint64_t seed) {
   SamplerSettings s;
   s.method = method;
-  // Same Newtonian dynamics for both (METHODS.md 5.4): eta = eps^2 / m, alpha = eps D / m
+  // Same Newtonian dynamics for both (docs/methods.md 5.4): eta = eps^2 / m, alpha = eps D / m
   // with m = 1, D = 1; rsghmc adds the speed limit c = 1.
   s.step_size = method == Method::kSghmc ? eps * eps : eps;
   s.sghmc.alpha = eps;

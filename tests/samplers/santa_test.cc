@@ -1,6 +1,6 @@
 // santa on Gaussians with known moments, and santa-opt on a convex quadratic (its minimiser).
 //
-// The stationary checks are METHODS.md section 16's discriminating test: with the
+// The stationary checks are docs/methods.md section 16's discriminating test: with the
 // preconditioner held fixed (sigma = 1 keeps v at the first gradient's square, so g is
 // set by the start), beta = 1, eta = 1e-4 and U = theta^2 / (2 s^2), the Euler scheme with
 // noise sqrt(2 eta^(3/2) g T) has Var(theta) = s^2 and the thermostat settles at
@@ -60,8 +60,8 @@ Moments run_santa(double variance, double start, std::uint64_t seed, int burn_in
 }
 
 TEST(SantaStationary, VarianceAndThermostatMatchTheContinuousLimit) {
-  // METHODS.md 16: g = 1, eta = 1e-4: Var(theta) = 1.00 +- 0.01, mean alpha = 0.0100.
-  // A second target (s^2 = 2) and g = 3 (METHODS.md: the eta-form noise diverges there).
+  // docs/methods.md 16: g = 1, eta = 1e-4: Var(theta) = 1.00 +- 0.01, mean alpha = 0.0100.
+  // A second target (s^2 = 2) and g = 3 (docs/methods.md: the eta-form noise diverges there).
   struct Case {
     double variance, start, g;
   };

@@ -1,5 +1,5 @@
 // Stationary moments of the discrete recursions on 1-D Gaussians (20000 parallel
-// chains in one vector) against METHODS.md's closed forms (sections 2, 3, 4, 5.8).
+// chains in one vector) against docs/methods.md's closed forms (sections 2, 3, 4, 5.8).
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -37,7 +37,7 @@ Estimate theta_variance(const SamplerSettings& s, PotentialFn& potential, int bu
 }
 
 TEST(SgldStationary, VarianceMatchesTheDiscreteFormula) {
-  // METHODS.md 2 [D]: Var = T sigma^2 / (1 - eps / (4 sigma^2)).
+  // docs/methods.md 2 [D]: Var = T sigma^2 / (1 - eps / (4 sigma^2)).
   const std::uint64_t seed = testing::test_seed(31);
   struct Case {
     double var, eps, expected;
@@ -55,7 +55,7 @@ TEST(SgldStationary, VarianceMatchesTheDiscreteFormula) {
 }
 
 TEST(SgldStationary, GradientNoiseAddsEpsVOverFour) {
-  // METHODS.md 2 [D]: sigma^2 (T + eps V / 4) / (1 - eps / (4 sigma^2)); sigma^2 = 1,
+  // docs/methods.md 2 [D]: sigma^2 (T + eps V / 4) / (1 - eps / (4 sigma^2)); sigma^2 = 1,
   // eps = 0.1, V = 2: 1.0769230769.
   SamplerSettings s;
   s.method = Method::kSgld;
@@ -66,7 +66,7 @@ TEST(SgldStationary, GradientNoiseAddsEpsVOverFour) {
 }
 
 TEST(SghmcStationary, MomentsMatchTheTableOfMethodsSection4) {
-  // METHODS.md 4 [D]: Var(theta) and Var(v) of the discrete recursion, sigma^2 = T = 1.
+  // docs/methods.md 4 [D]: Var(theta) and Var(v) of the discrete recursion, sigma^2 = T = 1.
   struct Row {
     double eta, alpha, var_theta, var_v;
   };
@@ -99,7 +99,7 @@ TEST(SghmcStationary, MomentsMatchTheTableOfMethodsSection4) {
 }
 
 TEST(SghmcStationary, NoiseCorrectionRestoresTheNoiseFreeMoments) {
-  // METHODS.md 4: with gradient noise V and beta_hat = eta V / 2 the moments equal the
+  // docs/methods.md 4: with gradient noise V and beta_hat = eta V / 2 the moments equal the
   // noise-free row (eta = 0.1, alpha = 0.5: 30/29). Without the correction they are
   // inflated (effective T about 1 + beta_hat / alpha).
   SamplerSettings s;
@@ -117,7 +117,7 @@ TEST(SghmcStationary, NoiseCorrectionRestoresTheNoiseFreeMoments) {
 }
 
 TEST(RsghmcStationary, VarianceWithinThreePercentOfTheTarget) {
-  // METHODS.md 5.8: 60 time units at eps = 0.05; tolerance 3% on Var(theta), 15% on Var(p).
+  // docs/methods.md 5.8: 60 time units at eps = 0.05; tolerance 3% on Var(theta), 15% on Var(p).
   struct Case {
     double m, c, t, d, var_p;
   };
@@ -146,7 +146,7 @@ TEST(RsghmcStationary, VarianceWithinThreePercentOfTheTarget) {
 }
 
 TEST(RsghmcStationary, JointFormSamplesAnIsotropicGaussian) {
-  // Joint kinetic energy (METHODS.md 5.1) on a 20-D standard normal, m = 1, c = 3:
+  // Joint kinetic energy (docs/methods.md 5.1) on a 20-D standard normal, m = 1, c = 3:
   // Var(theta) = 1 in the continuous limit; eps = 0.05 over 1500 time units.
   SamplerSettings s;
   s.method = Method::kRsghmc;
@@ -168,7 +168,7 @@ TEST(RsghmcStationary, JointFormSamplesAnIsotropicGaussian) {
 }
 
 TEST(PsgldStationary, FrozenPreconditionerGivesSgldWithPerCoordinateSteps) {
-  // METHODS.md 3: with G frozen, Var_i = T sigma^2 / (1 - eps G_i / (4 sigma^2)).
+  // docs/methods.md 3: with G frozen, Var_i = T sigma^2 / (1 - eps G_i / (4 sigma^2)).
   SamplerSettings s;
   s.method = Method::kPsgld;
   s.step_size = 0.05;
@@ -178,7 +178,7 @@ TEST(PsgldStationary, FrozenPreconditionerGivesSgldWithPerCoordinateSteps) {
   auto sampler = Sampler::create(s, kChains, 1, seed);
   ASSERT_TRUE(sampler.ok());
   // Start from the target: at theta = 0 every gradient is 0, V = 0 and G = 1/lambda,
-  // the "dead unit" failure of METHODS.md 3.
+  // the "dead unit" failure of docs/methods.md 3.
   Eigen::VectorXf start(kChains);
   Rng rng(seed + 1);
   rng.fill_normal({start.data(), static_cast<std::size_t>(kChains)});

@@ -1,4 +1,4 @@
-// Single-step and few-step values of every update rule against METHODS.md's worked
+// Single-step and few-step values of every update rule against docs/methods.md's worked
 // numbers (sections 2, 4, 5.2, 5.8, 6, 7, 8), plus method names and schedules.
 #include <gtest/gtest.h>
 
@@ -35,7 +35,7 @@ Eigen::VectorXf run_steps(const SamplerSettings& settings, Eigen::VectorXf theta
 }
 
 TEST(UpdateRules, SgdTenStepsGivePointNineToTheTenth) {
-  // METHODS.md 7: U = theta^2/2, theta_0 = 1, step 0.1 (eps = 0.2): 0.9^10.
+  // docs/methods.md 7: U = theta^2/2, theta_0 = 1, step 0.1 (eps = 0.2): 0.9^10.
   SamplerSettings s;
   s.method = Method::kSgd;
   s.step_size = 0.2;
@@ -44,7 +44,7 @@ TEST(UpdateRules, SgdTenStepsGivePointNineToTheTenth) {
 }
 
 TEST(UpdateRules, HeavyBallTenStepsMatchMethodsSection4) {
-  // METHODS.md 4: theta_0 = 1, v_0 = 0, eta = 0.1, alpha = 0.1, ten steps.
+  // docs/methods.md 4: theta_0 = 1, v_0 = 0, eta = 0.1, alpha = 0.1, ten steps.
   SamplerSettings s;
   s.method = Method::kMomentum;
   s.step_size = 0.1;
@@ -56,7 +56,7 @@ TEST(UpdateRules, HeavyBallTenStepsMatchMethodsSection4) {
 }
 
 TEST(UpdateRules, RelativisticSgdTenStepsMatchMethods58AndRespectTheBound) {
-  // METHODS.md 5.8: eps = 0.1, D = 1, m = 1, theta_0 = 1, p_0 = 0.
+  // docs/methods.md 5.8: eps = 0.1, D = 1, m = 1, theta_0 = 1, p_0 = 0.
   for (auto [c, expected] : {std::pair{1.0, 0.6475275931527721}, {0.05, 0.9508872724954301}}) {
     SamplerSettings s;
     s.method = Method::kRsgd;
@@ -71,7 +71,7 @@ TEST(UpdateRules, RelativisticSgdTenStepsMatchMethods58AndRespectTheBound) {
 }
 
 TEST(UpdateRules, AdamThreeStepsMatchMethodsSection7) {
-  // METHODS.md 7: U = |theta|^2/2 from (1, -2), a = 1e-3, paper defaults, N = 1.
+  // docs/methods.md 7: U = |theta|^2/2 from (1, -2), a = 1e-3, paper defaults, N = 1.
   SamplerSettings s;
   s.method = Method::kAdam;
   s.step_size = 1e-3;
@@ -111,7 +111,7 @@ Trajectory leapfrog(Method method, double q0, double p0, double eps, int steps) 
 }
 
 TEST(UpdateRules, HmcLeapfrogMatchesTheHarmonicOscillatorValues) {
-  // METHODS.md 6 (double-precision values; float engine, tolerances ~1e-6).
+  // docs/methods.md 6 (double-precision values; float engine, tolerances ~1e-6).
   Trajectory a = leapfrog(Method::kHmc, 1, 0, 0.1, 1);
   EXPECT_NEAR(a.q, 0.995, 1e-6);
   EXPECT_NEAR(a.p, -0.09975, 1e-6);
@@ -126,7 +126,7 @@ TEST(UpdateRules, HmcLeapfrogMatchesTheHarmonicOscillatorValues) {
 }
 
 TEST(UpdateRules, RhmcLeapfrogMatchesMethods58) {
-  // METHODS.md 5.8: U = q^2/2, m = c = 1.
+  // docs/methods.md 5.8: U = q^2/2, m = c = 1.
   Trajectory a = leapfrog(Method::kRhmc, 1, 0, 0.1, 1);
   EXPECT_NEAR(a.q, 0.9950062383056107, 1e-6);
   EXPECT_NEAR(a.p, -0.09975031191528054, 1e-6);
@@ -138,7 +138,7 @@ TEST(UpdateRules, RhmcLeapfrogMatchesMethods58) {
 }
 
 TEST(UpdateRules, RhmcLeapfrogIsReversible) {
-  // METHODS.md 5.8: L steps, negate p, L steps, negate p: back to the start
+  // docs/methods.md 5.8: L steps, negate p, L steps, negate p: back to the start
   // (1e-12 in double; float here, so 1e-5).
   Trajectory forward = leapfrog(Method::kRhmc, 0.3, 1.7, 0.07, 50);
   Trajectory back = leapfrog(Method::kRhmc, forward.q, -forward.p, 0.07, 50);
@@ -147,7 +147,7 @@ TEST(UpdateRules, RhmcLeapfrogIsReversible) {
 }
 
 TEST(UpdateRules, RelativisticVelocityIsBoundedAndNewtonianForLargeC) {
-  // METHODS.md 5.8: |v| < c for huge p (float's largest here); v -> p/m for c = 1e8.
+  // docs/methods.md 5.8: |v| < c for huge p (float's largest here); v -> p/m for c = 1e8.
   const float huge = std::numeric_limits<float>::max();
   EXPECT_LE(std::abs(samplers::relativistic_velocity(huge, 1, 0.5f)), 0.5f);
   EXPECT_LE(std::abs(samplers::relativistic_velocity(-huge, 1e-30f, 0.5f)), 0.5f);
@@ -155,7 +155,7 @@ TEST(UpdateRules, RelativisticVelocityIsBoundedAndNewtonianForLargeC) {
 }
 
 TEST(UpdateRules, MeanSpeedRatioMatchesTheTableOfMethods52) {
-  // METHODS.md 5.2 table (E|v|/c as a function of u) and its inverse values.
+  // docs/methods.md 5.2 table (E|v|/c as a function of u) and its inverse values.
   const double u[] = {0.1, 0.25, 0.5, 1, 2, 4, 10, 100};
   const double ratio[] = {0.918258, 0.831380, 0.732330, 0.611190,
                           0.483804, 0.366797, 0.243447, 0.079491};
@@ -166,7 +166,7 @@ TEST(UpdateRules, MeanSpeedRatioMatchesTheTableOfMethods52) {
 }
 
 TEST(UpdateRules, MomentumSliceSamplerReachesTheHyperbolicVariance) {
-  // METHODS.md 5.2: Var(p) = m T K_2(u) / K_1(u); table values for m = T = 1, c = sqrt(u).
+  // docs/methods.md 5.2: Var(p) = m T K_2(u) / K_1(u); table values for m = T = 1, c = sqrt(u).
   Rng rng(testing::test_seed(21));
   const int n = 20000;
   for (auto [u, expected] : {std::pair{0.1, 20.2463068}, {1.0, 2.69948394}, {10.0, 1.15341725}}) {
@@ -208,7 +208,7 @@ TEST(MethodNames, UnknownNameListsTheValidOnes) {
 }
 
 TEST(Schedules, PolynomialDecayValuesAndFit) {
-  // METHODS.md 2: a = 0.01, b = 1, gamma = 0.55; fit 1e-2 -> 1e-4 over 10000 steps.
+  // docs/methods.md 2: a = 0.01, b = 1, gamma = 0.55; fit 1e-2 -> 1e-4 over 10000 steps.
   double a = 0, b = 0;
   fit_polynomial_decay(1e-2, 1e-4, 0.55, 10000, a, b);
   EXPECT_NEAR(a, 0.0158509, 1e-6);
@@ -225,7 +225,7 @@ TEST(Schedules, PolynomialDecayValuesAndFit) {
 }
 
 TEST(Schedules, CyclicalCosineValuesAndStages) {
-  // METHODS.md 8: K = 12, M = 3, alpha_0 = 1, beta = 0.5.
+  // docs/methods.md 8: K = 12, M = 3, alpha_0 = 1, beta = 0.5.
   ScheduleSettings settings;
   settings.kind = ScheduleKind::kCyclical;
   settings.cycles = 3;
@@ -254,7 +254,7 @@ TEST(Settings, BadValuesNameTheField) {
 }
 
 TEST(Settings, LearningRatesConvertToPotentialUnits) {
-  // METHODS.md 0, 2, 4: eps = 2 lr / N, eta = lr / N; time steps sqrt(lr / N).
+  // docs/methods.md 0, 2, 4: eps = 2 lr / N, eta = lr / N; time steps sqrt(lr / N).
   SamplerSettings s;
   s.learning_rate = 0.01;
   s.method = Method::kSgld;

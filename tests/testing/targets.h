@@ -1,6 +1,6 @@
 // Test problems with known answers for the samplers (STYLE.md rule 22): Gaussian
 // targets with known stationary moments, a convex quadratic with a known minimiser,
-// and Bayesian linear regression with its closed-form posterior (METHODS.md 12.1).
+// and Bayesian linear regression with its closed-form posterior (docs/methods.md 12.1).
 #pragma once
 
 #include <Eigen/Cholesky>
@@ -135,7 +135,7 @@ class ReplicatedGaussian : public PotentialFn {
 };
 
 /// Correlation rho between every pair, standard deviations log-spaced from
-/// `smallest` to 1 (METHODS.md 12.2 style, generalised to d dimensions).
+/// `smallest` to 1 (docs/methods.md 12.2 style, generalised to d dimensions).
 inline Eigen::MatrixXd correlated_covariance(int d, double rho, double smallest) {
   Eigen::VectorXd sd(d);
   for (int i = 0; i < d; ++i) {
@@ -147,7 +147,7 @@ inline Eigen::MatrixXd correlated_covariance(int d, double rho, double smallest)
   return sd.asDiagonal() * c * sd.asDiagonal();
 }
 
-/// Bayesian linear regression with known noise, the data of METHODS.md 12.1:
+/// Bayesian linear regression with known noise, the data of docs/methods.md 12.1:
 /// x = (-1, 0, 1, 2), t = (-1.1, 0.2, 0.9, 2.1), phi(x) = (1, x), alpha = 1, beta = 4,
 /// replicated R times in theta = [w_1; ...; w_R] (w_r of length 2). minibatch() uses
 /// one row per call, cycling through the rows of a fixed permutation per epoch, with

@@ -12,7 +12,7 @@ split's rows from the run file with h5py (docs/run-file.md, /data/train_rows and
 settings), each after median imputation and standardisation in a Pipeline, on the same
 training rows, scoring them on the same test rows: log_loss, the multi-class Brier score
 (mean over rows of sum_k (p_k - y_k)^2, as assess reports it), top-label ECE with 15
-equal-width bins (METHODS.md 9.3, the function sklearn_assess.py checks assess against)
+equal-width bins (docs/methods.md 9.3, the function sklearn_assess.py checks assess against)
 and accuracy. Writes DIR/evaluate.md (a Markdown table) and DIR/evaluate.json.
 
 Tables (see TABLES): scikit-learn's breast cancer, iris, wine and digits; statsmodels'

@@ -2,7 +2,7 @@
 
 Rebuilds each kept sample's class probabilities with rebuild_probabilities.py (which
 follows docs/run-file.md and nets/README.md), then computes in double precision, per
-row (METHODS.md 9.1): pbar = mean_s p_s, H[pbar] = -sum_k pbar log pbar, E H =
+row (docs/methods.md 9.1): pbar = mean_s p_s, H[pbar] = -sum_k pbar log pbar, E H =
 mean_s -sum_k p_s log p_s, MI = H - E H, with 0 log 0 = 0. Compares them with the
 predictions CSV column by column (each interval column with numpy.quantile over the
 members) and prints the largest differences; exits 1 when a

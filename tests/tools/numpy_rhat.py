@@ -1,7 +1,7 @@
 """Independent numpy/scipy implementation of split, rank-normalised (bulk) and folded
 R-hat, bulk-ESS and tail-ESS, following "Rank-normalization, folding, and localization:
 an improved R-hat for assessing convergence of MCMC" (Bayesian Analysis, 2021) as
-written out in METHODS.md 10.1-10.2. Autocovariances are computed directly with
+written out in docs/methods.md 10.1-10.2. Autocovariances are computed directly with
 numpy.correlate (no FFT), so they check the C++ FFT path as well.
 
 usage:

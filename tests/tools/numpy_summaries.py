@@ -1,4 +1,4 @@
-"""Recomputes credence's tracked per-sample summaries (METHODS.md 10.3) with numpy.
+"""Recomputes credence's tracked per-sample summaries (docs/methods.md 10.3) with numpy.
 
 Usage: numpy_summaries.py DIR [DIR ...]
 Reads DIR/layout.txt (one line per layer: in out activation weight_offset bias_offset),

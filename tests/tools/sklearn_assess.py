@@ -12,7 +12,7 @@ usage:
       brier_score_loss (two classes, positive class = index 1), the multi-class Brier score
       by numpy from its definition, roc_auc_score (binary, or multi_class='ovr' macro),
       sklearn.calibration.calibration_curve (uniform and quantile) and top-label ECE/MCE with
-      equal-width bins (numpy, METHODS.md 9.3). Also checks per row of the whole predictions
+      equal-width bins (numpy, docs/methods.md 9.3). Also checks per row of the whole predictions
       file that MI >= 0 and entropy = expected_entropy + mutual_information, and the JSON's
       mean uncertainties against the file's means over the scored rows. With DATA.csv, also
       rebuilds every kept sample's probabilities with numpy (rebuild_probabilities.py) and
@@ -70,7 +70,7 @@ def write_iris(out_path):
 
 
 def top_label_ece_mce(p, y, bins):
-    """METHODS.md 9.3: np.linspace edges, right-closed bins, searchsorted(..., 'left')."""
+    """docs/methods.md 9.3: np.linspace edges, right-closed bins, searchsorted(..., 'left')."""
     conf = p.max(axis=1)
     correct = (p.argmax(axis=1) == y).astype(np.float64)
     edges = np.linspace(0.0, 1.0, bins + 1)
@@ -149,7 +149,7 @@ def check(run_path, pred_path, json_path, target, tol, data_path=None):
         print("JSON rows %d, run file %s has %d" % (report["rows"], split, len(rows)))
         FAILURES.append("rows")
 
-    # Per row of the whole file (METHODS.md 9.1): MI >= 0 and H = E H + MI.
+    # Per row of the whole file (docs/methods.md 9.1): MI >= 0 and H = E H + MI.
     h_all = np.array([float(r["entropy"]) for r in pred])
     eh_all = np.array([float(r["expected_entropy"]) for r in pred])
     mi_all = np.array([float(r["mutual_information"]) for r in pred])

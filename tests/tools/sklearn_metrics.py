@@ -23,7 +23,7 @@ def main(directory):
     assert labels.shape == (n,)
     out = {"sklearn_version": [sklearn.__version__]}
     out["log_loss"] = [log_loss(labels, probs, labels=list(range(k)))]
-    # Multi-class Brier from its definition (METHODS.md 9.2), in numpy.
+    # Multi-class Brier from its definition (docs/methods.md 9.2), in numpy.
     onehot = np.eye(k)[labels]
     out["brier_multiclass"] = [np.mean(np.sum((probs - onehot) ** 2, axis=1))]
     if k == 2:
