@@ -209,8 +209,8 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
       summary.id_columns.push_back(name);
     } else if (!options.id_columns.empty()) {
       return Status::invalid_input(fmt::format(
-          "{}: id column '{}' is not in the header; name one of the columns present ({})",
-          input_path, name, table->column_list()));
+          "{}: id column '{}' is not in the header; name a column present ({})", input_path,
+          name, table->column_hint(name)));
     }
   }
   columns.row_number = columns.passed.empty();
@@ -219,8 +219,8 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
     const int j = table->find_column(name);
     if (j < 0) {
       return Status::invalid_input(fmt::format(
-          "{}: column '{}' to keep is not in the header; name one of the columns present ({})",
-          input_path, name, table->column_list()));
+          "{}: column '{}' to keep is not in the header; name a column present ({})",
+          input_path, name, table->column_hint(name)));
     }
     if (!contains(ids, name) && name != pre.target) columns.passed.push_back(j);
   }
