@@ -33,12 +33,13 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       {"--friction", "method"}, {"--max-move", "method"}, {"--speed", "method"},
       {"--mass", "method"}, {"--fixed-mass", "method"}, {"--leapfrog", "method"},
       {"--target-accept", "method"}, {"--temperature-scale", "method"},
+      {"--exploration", "method"},
       // Budget: how much work, on how many chains and threads.
       {"--chains", "budget"}, {"--burn-in", "budget"}, {"--thin", "budget"},
       {"--samples", "budget"}, {"--batch", "budget"}, {"--steps", "budget"},
       {"--epochs", "budget"}, {"--check-every", "budget"}, {"--patience", "budget"},
       {"--min-steps", "budget"}, {"--chain-seed", "budget"}, {"--threads", "budget"},
-      {"--max-memory", "budget"}, {"--resume", "budget"},
+      {"--max-memory", "budget"}, {"--resume", "budget"}, {"--extend-seconds", "budget"},
       // Output: what is written where.
       {"--out", "output"}, {"--force", "output"}, {"--json", "output"}, {"--plot", "output"},
       {"--bins", "output"}, {"--binning", "output"}, {"--bootstrap", "output"},
@@ -47,6 +48,7 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       // Decisions drawn from the probabilities (issue 19, item 1), when present.
       {"--threshold", "output"}, {"--cost-fp", "output"}, {"--cost-fn", "output"},
       {"--target-sensitivity", "output"}, {"--level", "output"}, {"--interval", "output"},
+      {"--outside-above", "output"},
       // General: every command.
       {"--help", "general"}, {"--quiet", "general"}, {"--log-level", "general"},
       {"--version", "general"},

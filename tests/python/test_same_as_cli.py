@@ -19,7 +19,9 @@ def cli_predictions(cli_run, breast_cancer_csv, tmp_path_factory):
 
 
 def probability_columns(frame):
-    return [c for c in frame.columns if c.startswith("p_")]
+    """The ensemble's class probabilities, without the per-row interval columns."""
+    return [c for c in frame.columns
+            if c.startswith("p_") and not c.endswith(("_lo90", "_hi90"))]
 
 
 def test_predict_path_equals_cli_csv(cli_run, breast_cancer_csv, cli_predictions):
