@@ -29,11 +29,14 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
   command.add_option("--epochs", flags.epochs,
                      fmt::format("Gradient budget per chain, in passes over the training rows "
                                  "(the same for every method) [default: sized to the table, as a "
-                                 "sampler's train defaults: burn-in max({} steps, {:g} passes), "
+                                 "sampler's train defaults: burn-in max({} steps, {:g} passes; "
+                                 "{} steps up to {} training rows, falling as 1/rows), "
                                  "at most {}, then as much again to sample and at least {} steps "
                                  "per kept sample]",
                                  BudgetDefaults::kSamplerBurnInFloor,
                                  BudgetDefaults::kSamplerBurnInPasses,
+                                 BudgetDefaults::kSamplerSmallTableFloor,
+                                 BudgetDefaults::kSamplerSmallTableRows,
                                  BudgetDefaults::kSamplerPhaseCap,
                                  BudgetDefaults::kSamplerThinFloor));
   command.add_option("--chains", flags.chains,
