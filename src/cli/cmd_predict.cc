@@ -11,6 +11,7 @@
 #include "credence/run_settings.h"
 #include "credence/ensemble.h"
 #include "credence/predict.h"
+#include "predict/temp_output.h"
 #include "util/log.h"
 
 #ifdef CREDENCE_HAVE_BLAS
@@ -53,7 +54,6 @@ ReadOptions stored_read_options(const RunHeader& header) {
 }
 
 Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
-  if (flags.out.empty()) return Status::invalid_input("give --out PRED.csv for the predictions");
   if (flags.samples < 0) {
     return Status::invalid_input(fmt::format(
         "--samples {}: give a positive count (or 0 for all kept samples)", flags.samples));
@@ -145,11 +145,14 @@ Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
                  predictor->temperature());
   }
 
-  Result<PredictCsvSummary> done = predict_csv(*predictor, flags.data_path, flags.out, options);
+  // No --out (or --out -): the CSV goes to standard output, whole or not at all.
+  const std::string out = flags.out.empty() ? std::string(predict::kStandardOutput) : flags.out;
+  Result<PredictCsvSummary> done = predict_csv(*predictor, flags.data_path, out, options);
   if (!done.ok()) return done.status();
   if (!global.quiet) {
     std::string line = fmt::format("predicted {} rows with {} samples into {}", done->rows,
-                                   done->samples, flags.out);
+                                   done->samples,
+                                   out == predict::kStandardOutput ? "standard output" : out);
     if (options.flag_above) {
       line += fmt::format("; {} rows flagged for referral ({} > {})", done->flagged,
                           flag_by_name(options.flag_by), *options.flag_above);
@@ -189,7 +192,9 @@ void add_predict_command(CLI::App& app, const GlobalOptions& global, CommandList
   sub->add_option("RUN.h5", flags->run_path, "The run file written by train")->required();
   sub->add_option("NEW.csv", flags->data_path, "Rows to predict, with the model's input columns")
       ->required();
-  sub->add_option("--out", flags->out, "Where to write the predictions CSV");
+  sub->add_option("--out", flags->out,
+                  "Where to write the predictions CSV (default, or '-': standard output, "
+                  "written once every row is predicted)");
   sub->add_option("--id", flags->id,
                   "Columns passed through to identify rows (default: the run's id columns)")
       ->delimiter(',');

@@ -9,7 +9,12 @@
 
 namespace credence::predict {
 
-/// Writes to `<path>.tmp-<pid>` and renames it over `path` in commit(). Destroying an
+/// `path` that means standard output: the bytes wait in an unnamed temporary file and
+/// reach standard output only in commit().
+inline constexpr std::string_view kStandardOutput = "-";
+
+/// Writes to `<path>.tmp-<pid>` and renames it over `path` in commit() (for "-": to an
+/// unnamed temporary file, copied to standard output in commit()). Destroying an
 /// uncommitted TempOutput removes the temporary file, so a failure leaves nothing.
 class TempOutput {
  public:
@@ -29,6 +34,7 @@ class TempOutput {
  private:
   TempOutput(std::string path, std::string temp, std::FILE* file);
   void discard();
+  Status copy_to_standard_output();
 
   std::string path_;
   std::string temp_;

@@ -172,6 +172,36 @@ TEST_F(Predict, MissingColumnIsNamedAndLeavesNoOutput) {
   EXPECT_EQ(files_starting_with(dir_->path(), "missing_out.csv"), 0);
 }
 
+TEST_F(Predict, WithoutOutTheCsvGoesToStandardOutputWholeOrNotAtAll) {
+  // stdout and stderr to separate files, so only the CSV is compared.
+  auto to_stdout = [](const std::string& args, const std::string& out) {
+    const std::string command = std::string("'") + CREDENCE_BIN + "' " + args + " > '" + out +
+                                "' 2> '" + out + ".err'";
+    const int status = std::system(command.c_str());
+    return WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  };
+  const std::string file = path("to_file.csv");
+  ASSERT_EQ(predict(data_, file, "--quiet").exit_code, 0);
+  const std::string quoted = "'" + run_ + "' '" + data_ + "'";
+  ASSERT_EQ(to_stdout("predict " + quoted, path("piped.csv")), 0);
+  EXPECT_EQ(read_text(path("piped.csv")), read_text(file));
+  EXPECT_NE(read_text(path("piped.csv.err")).find("into standard output"), std::string::npos);
+  ASSERT_EQ(to_stdout("--quiet predict " + quoted + " --out -", path("dash.csv")), 0);
+  EXPECT_EQ(read_text(path("dash.csv")), read_text(file));
+  // A refusal at the last row (a category training never showed) writes nothing to stdout.
+  const std::string input = edited_copy("late_unseen.csv", [](int n, const std::string& line) {
+    if (n != 401) return line;  // the last data row
+    auto cells = split_line(line);
+    cells[1] = "lake";  // a water_source training never showed
+    std::string joined;
+    for (const std::string& c : cells) joined += (joined.empty() ? "" : ",") + c;
+    return joined;
+  });
+  EXPECT_EQ(to_stdout("predict '" + run_ + "' '" + input + "'", path("refused.csv")), 2);
+  EXPECT_EQ(read_text(path("refused.csv")), "");
+  EXPECT_NE(read_text(path("refused.csv.err")).find("'lake'"), std::string::npos);
+}
+
 TEST_F(Predict, UnseenCategoryIsNamedWithItsColumn) {
   const std::string input = edited_copy("lake.csv", [](int n, const std::string& line) {
     if (n != 5) return line;
