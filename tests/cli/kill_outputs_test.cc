@@ -4,6 +4,7 @@
 // invented pump-wear scenario of `credence synth`.
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <chrono>
 #include <cstdio>
 #include <filesystem>
@@ -50,9 +51,21 @@ class KillOutputs : public ::testing::Test {
   static void TearDownTestSuite() { delete dir_; }
   static std::string path(const std::string& name) { return (dir_->path() / name).string(); }
 
-  // Runs `args` writing `out`, killing it after a random delay, `rounds` times; after each
-  // kill, `out` must be absent or equal `reference`. Returns how many kills landed before
-  // the command finished.
+  // Milliseconds `command` takes uninterrupted (exit code checked by the caller's reference
+  // run). Kill delays are drawn inside this span, so kills land mid-run whether the
+  // machine is idle or loaded; fixed delays made the test depend on the machine's speed.
+  static int duration_ms(const std::string& command) {
+    const auto start = std::chrono::steady_clock::now();
+    const auto result = run_credence(command);
+    EXPECT_EQ(result.exit_code, 0) << result.output;
+    const auto elapsed = std::chrono::steady_clock::now() - start;
+    return static_cast<int>(
+        std::chrono::duration_cast<std::chrono::milliseconds>(elapsed).count());
+  }
+
+  // Runs `args` writing `out`, killing it after a random delay below `max_ms`, `rounds`
+  // times; after each kill, `out` must be absent or equal `reference`. Returns how many
+  // kills landed before the command finished.
   static int kill_repeatedly(const std::vector<std::string>& args, const std::string& out,
                              const std::string& reference, int rounds, int max_ms) {
     std::mt19937_64 random(testing::test_seed(20261202));
@@ -98,8 +111,11 @@ TEST_F(KillOutputs, PredictLeavesNoHalfWrittenFile) {
   ASSERT_EQ(whole.exit_code, 0) << whole.output;
   const std::string expected = testing::read_text(reference);
   const std::string out = path("predictions.csv");
-  const int landed = kill_repeatedly(
-      {"--quiet", "predict", path("a.h5"), path("many.csv"), "--out", out}, out, expected, 8, 150);
+  const int span = duration_ms("--quiet predict '" + path("a.h5") + "' '" + path("many.csv") +
+                               "' --out '" + path("timed.csv") + "'");
+  const int landed =
+      kill_repeatedly({"--quiet", "predict", path("a.h5"), path("many.csv"), "--out", out}, out,
+                      expected, 8, std::max(10, span * 3 / 4));
   EXPECT_GE(landed, 4) << "most kills should land before predict ends; lengthen the input";
   std::printf("predict: %d of 8 kills landed mid-run\n", landed);
   // A rerun after the kills writes the same bytes and clears the killed runs' temporaries.
@@ -125,6 +141,9 @@ TEST_F(KillOutputs, MergeLeavesNoHalfWrittenRun) {
             0);
   const bool bytes_repeat = testing::read_text(out) == testing::read_text(reference);
   fs::remove(out);
+  const int span = duration_ms("--quiet merge '" + path("a.h5") + "' '" + path("b.h5") +
+                               "' --out '" + out + "'");
+  fs::remove(out);
   std::mt19937_64 random(testing::test_seed(20261203));
   int landed = 0, present = 0;
   for (int round = 0; round < 8; ++round) {
@@ -132,7 +151,8 @@ TEST_F(KillOutputs, MergeLeavesNoHalfWrittenRun) {
     testing::ChildProcess child({"--quiet", "merge", path("a.h5"), path("b.h5"), "--out", out},
                                 path("merge.log"));
     ASSERT_TRUE(child.started());
-    std::this_thread::sleep_for(std::chrono::milliseconds(2 + random() % 60));
+    std::this_thread::sleep_for(std::chrono::milliseconds(
+        2 + random() % static_cast<unsigned>(std::max(10, span * 3 / 4))));
     child.signal(SIGKILL);
     const int code = child.wait();
     if (code != 128 + SIGKILL) {
