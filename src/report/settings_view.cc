@@ -5,6 +5,7 @@
 
 #include <set>
 
+#include "credence/net.h"
 #include "credence/posterior.h"
 #include "credence/run_settings.h"
 
@@ -153,22 +154,33 @@ void budget_rows(const TrainSettings& s, const RunHeader& h, Rows& rows) {
   }
   const std::int64_t steps = c.burn_in + 1;
   const std::int64_t per_pass = train > 0 ? (train + batch - 1) / batch : 1;
-  rows.emplace_back("steps per chain",
-                    fmt::format("{} ({:.3g} passes over the training rows); the final iterate "
-                                "is kept",
-                                steps, static_cast<double>(steps) / static_cast<double>(per_pass)));
   const EarlyStopSettings& e = c.early_stop;
+  rows.emplace_back("steps per chain",
+                    fmt::format("{}{} ({:.3g} passes over the training rows)",
+                                e.every > 0 ? "at most " : "", steps,
+                                static_cast<double>(steps) / static_cast<double>(per_pass)));
   rows.emplace_back(
       "early stop",
       e.every > 0
-          ? fmt::format("validation NLL every {} steps; stops after {} without a fall of {:g}, "
-                        "not before step {} (--check-every, --patience, --min-steps)",
+          ? fmt::format("held-out NLL scored every {} steps; a chain ends after {} without a "
+                        "fall of {:g}, not before step {}, and keeps its best scored iterate "
+                        "(--check-every, --patience, --min-steps)",
                         e.every, count_text(e.patience, "check", "checks"), e.min_improvement,
                         e.min_steps)
-          : std::string("off: every step runs"));
+          : std::string("off: every step runs and the final iterate is kept"));
 }
 
 }  // namespace
+
+std::string network_words(const RunHeader& header) {
+  Result<NetSpec> spec = parse_net_text(header.net_text, "stored net");
+  if (!spec.ok()) return "(net text unreadable: " + spec.status().message() + ")";
+  std::string text = fmt::format("{} inputs", header.preprocessing.input_width);
+  for (const HiddenLayerSpec& layer : spec->hidden) {
+    text += fmt::format(" -> {} {}", layer.width, activation_name(layer.activation));
+  }
+  return text + fmt::format(" -> {} classes", header.preprocessing.class_names.size());
+}
 
 std::string method_of(const RunHeader& header) {
   for (const auto& [name, value] : header.settings) {
@@ -189,9 +201,9 @@ std::vector<std::pair<std::string, std::string>> settings_rows(const RunHeader& 
   }
   rows.emplace_back("method", std::string(method_name(s.sampler.method)));
   method_rows(s, rows);
-  rows.emplace_back("chains", fmt::format("{}", s.chains.chains));
   budget_rows(s, header, rows);
-  rows.emplace_back("network", fmt::format("{} parameters", header.parameters));
+  rows.emplace_back("network", fmt::format("{}; {} parameters", network_words(header),
+                                           header.parameters));
   rows.emplace_back("CSV delimiter", delimiter_text(read.delimiter));
   rows.emplace_back("missing values", missing_tokens_text(read.na_tokens));
   rows.emplace_back("seeds", fmt::format("chains {}, start {}, summaries {}", s.chains.seed,

@@ -47,9 +47,11 @@ TEST(SettingsRows, AnOptimizerShowsItsStepsAndNothingOfTheSamplers) {
   const std::string text = all_text(rows);
   EXPECT_EQ(value_of(rows, "method"), "adam");
   // 1920 rows at the default batch of 128: 15 steps per pass; 3110 / 15 = 207.3 passes.
-  EXPECT_NE(value_of(rows, "steps per chain").find("3110 (207 passes"), std::string::npos) << text;
-  EXPECT_NE(value_of(rows, "early stop").find("every 100 steps; stops after 5 checks"),
+  EXPECT_NE(value_of(rows, "steps per chain").find("at most 3110 (207 passes"),
             std::string::npos) << text;
+  EXPECT_NE(value_of(rows, "early stop").find("every 100 steps; a chain ends after 5 checks"),
+            std::string::npos) << text;
+  EXPECT_NE(value_of(rows, "early stop").find("keeps its best scored iterate"), std::string::npos);
   EXPECT_NE(value_of(rows, "moment decays").find("0.9 and 0.999"), std::string::npos) << text;
   for (const char* absent : {"burn", "3109", "epochs", "temperature", "friction", "--max-move",
                              "leapfrog", "psgld", "sghmc", "santa", "hmc_", "\x1f"}) {
@@ -59,6 +61,9 @@ TEST(SettingsRows, AnOptimizerShowsItsStepsAndNothingOfTheSamplers) {
   EXPECT_EQ(value_of(rows, "CSV delimiter"), "comma");
   EXPECT_EQ(value_of(rows, "positive_class"), "fault");  // written outside TrainSettings
   EXPECT_LT(rows.size(), 16u) << text;
+  s.chains.early_stop.every = 0;
+  EXPECT_EQ(value_of(report::settings_rows(header_of(s)), "early stop"),
+            "off: every step runs and the final iterate is kept");
 }
 
 // Each sampler shows its own flags (the ones `credence train` accepts for it, per
