@@ -64,6 +64,7 @@ footer { color: var(--muted); font-size: 12px; margin-top: 10px; }
 @media (max-width: 1000px) {
   body { padding: 16px 10px 28px; }
   section { padding: 12px 12px 14px; }
+  nav.contents ol { columns: 2; }
   table.data { font-size: 12px; }
   table.data th, table.data td { padding: 3px 5px; }
   table.data th { white-space: normal; }
