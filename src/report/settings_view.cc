@@ -77,12 +77,15 @@ void step_rows(const TrainSettings& s, Rows& rows) {
     if (r.speed > 0) {
       rows.emplace_back("speed of light", fmt::format("{:g} (--speed)", r.speed));
     } else {
-      rows.emplace_back("largest move per step", fmt::format("{:g} (--max-move)", r.max_move));
+      rows.emplace_back("largest move per step",
+                        fmt::format("{:g} (--max-move; --speed replaces it)", r.max_move));
     }
     rows.emplace_back("mass", r.mass > 0 ? fmt::format("{:g} (--mass)", r.mass)
-                                         : std::string("derived from the target speed ratio"));
+                                         : std::string("derived from the target speed ratio "
+                                                       "(no --mass)"));
     if (m.method == Method::kRsghmc) {
-      rows.emplace_back("mass adaptation", r.adapt_mass ? "during burn-in" : "off (--fixed-mass)");
+      rows.emplace_back("mass adaptation", r.adapt_mass ? "during burn-in (--fixed-mass stops it)"
+                                                        : "off (--fixed-mass)");
     }
   }
 }
@@ -91,22 +94,22 @@ void method_rows(const TrainSettings& s, Rows& rows) {
   const SamplerSettings& m = s.sampler;
   step_rows(s, rows);
   if (is_sampler(m.method)) {
-    rows.emplace_back("temperature", fmt::format("{:g}", m.temperature));
-    rows.emplace_back("tempering", std::string(tempering_name(s.tempering)));
+    rows.emplace_back("temperature", fmt::format("{:g} (--temperature)", m.temperature));
+    rows.emplace_back("tempering", fmt::format("{} (--tempering)", tempering_name(s.tempering)));
   }
   if (!is_full_batch(m.method) && !is_santa(m.method)) {
     const ScheduleSettings& sc = m.schedule;
     switch (sc.kind) {
       case ScheduleKind::kConstant:
-        rows.emplace_back("schedule", "constant step");
+        rows.emplace_back("schedule", "constant step (--schedule)");
         break;
       case ScheduleKind::kPolynomial:
         rows.emplace_back("schedule", fmt::format("polynomial decay, power {:g}, to {:g} of the "
-                                                  "first step",
+                                                  "first step (--schedule)",
                                                   sc.gamma, sc.end_ratio));
         break;
       case ScheduleKind::kCyclical:
-        rows.emplace_back("schedule", fmt::format("cyclical, {} (--cycles)",
+        rows.emplace_back("schedule", fmt::format("cyclical, {} (--schedule, --cycles)",
                                                   count_text(sc.cycles, "cycle", "cycles")));
         break;
     }
@@ -156,7 +159,8 @@ void budget_rows(const TrainSettings& s, const RunHeader& h, Rows& rows) {
   const std::int64_t per_pass = train > 0 ? (train + batch - 1) / batch : 1;
   const EarlyStopSettings& e = c.early_stop;
   rows.emplace_back("steps per chain",
-                    fmt::format("{}{} ({:.3g} passes over the training rows)",
+                    fmt::format("{}{} ({:.3g} passes over the training rows; --steps, or "
+                                "--epochs in passes)",
                                 e.every > 0 ? "at most " : "", steps,
                                 static_cast<double>(steps) / static_cast<double>(per_pass)));
   rows.emplace_back(
@@ -167,7 +171,8 @@ void budget_rows(const TrainSettings& s, const RunHeader& h, Rows& rows) {
                         "(--check-every, --patience, --min-steps)",
                         e.every, count_text(e.patience, "check", "checks"), e.min_improvement,
                         e.min_steps)
-          : std::string("off: every step runs and the final iterate is kept"));
+          : std::string("off: every step runs and the final iterate is kept (--check-every "
+                        "turns it on; --patience, --min-steps)"));
 }
 
 }  // namespace
