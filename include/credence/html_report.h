@@ -42,7 +42,8 @@ std::string_view cautions_text();
 enum class ColumnAlign { kAuto, kLeft, kRight };
 
 /// Which value of a column is best, for highlighting in HTML (kNone: no highlight). Cells
-/// compare by their leading number; cells without one never win; ties all win.
+/// compare by their leading number; cells without one never win; ties all win; a column
+/// with fewer than two numbers marks nothing (one value has nothing to beat).
 enum class BestValue { kNone, kLowest, kHighest };
 
 struct TextColumn {

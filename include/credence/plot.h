@@ -81,6 +81,10 @@ struct LineChart {
   std::vector<MissingPoint> missing;  // listed in the legend as "x = <missing_label>"
   std::string missing_label = "no value";
   int first_colour = 0;  // series i takes palette colour first_colour + i (small multiples)
+  // A dashed y = x reference line across the plot (chance on a ROC curve, perfect
+  // calibration on a reliability curve), labelled in the legend when `diagonal_label` is set.
+  bool diagonal = false;
+  std::string diagonal_label;
   PlotFrame frame;
 };
 

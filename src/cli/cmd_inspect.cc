@@ -8,6 +8,7 @@
 #include "util/json.h"
 #include "credence/ensemble.h"
 #include "credence/net.h"
+#include "report/settings_view.h"
 #include "util/atomic_file.h"
 
 namespace credence::cli {
@@ -36,17 +37,6 @@ std::string setting_json(const SettingValue& value) {
   if (const auto* text = std::get_if<std::string>(&value)) return json_string(*text);
   if (const auto* number = std::get_if<double>(&value)) return json_number(*number);
   return fmt::format("{}", std::get<std::int64_t>(value));
-}
-
-// "13 inputs -> 32 relu -> 32 relu -> 2 classes", from the stored net text.
-std::string network_text(const RunHeader& header) {
-  Result<NetSpec> spec = parse_net_text(header.net_text, "stored net");
-  if (!spec.ok()) return "(net text unreadable: " + spec.status().message() + ")";
-  std::string text = fmt::format("{} inputs", header.preprocessing.input_width);
-  for (const HiddenLayerSpec& layer : spec->hidden) {
-    text += fmt::format(" -> {} {}", layer.width, activation_name(layer.activation));
-  }
-  return text + fmt::format(" -> {} classes", header.preprocessing.class_names.size());
 }
 
 // The prior the run used: fixed scales, or a learned scale and its hyperprior.
@@ -95,7 +85,7 @@ std::string text_report(const std::string& path, const RunHeader& h, const RunSu
     classes += (classes.empty() ? "" : ", ") + name;
   }
   line("target", fmt::format("{} (classes {})", h.preprocessing.target, classes));
-  line("network", fmt::format("{}; {} parameters", network_text(h), h.parameters));
+  line("network", fmt::format("{}; {} parameters", report::network_words(h), h.parameters));
   line("prior", prior_text(h));
   line("samples", fmt::format("{} kept of {} planned ({} chains x {})", s.samples,
                               h.samples_per_chain * h.chains, h.chains, h.samples_per_chain));

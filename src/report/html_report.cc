@@ -105,7 +105,19 @@ void HtmlReport::figure(std::string svg, std::string caption) {
   std::size_t at = svg.find(kNamespace);
   if (at != std::string::npos && at < tag_end) svg.erase(at, kNamespace.size());
   std::string html = "<figure>\n" + svg;
-  if (!caption.empty()) html += fmt::format("<figcaption>{}</figcaption>\n", escape_markup(caption));
+  // The caption wraps at the chart's width: a wider caption would widen the figure, and
+  // two charts that fit side by side would then stack.
+  std::string width_style;
+  if (const std::size_t found = svg.find(" width=\""); found < svg.find('>')) {
+    const std::size_t start = found + 8;
+    const std::string width = svg.substr(start, svg.find('"', start) - start);
+    if (!width.empty() && width.find_first_not_of("0123456789") == std::string::npos) {
+      width_style = fmt::format(" style=\"max-width: {}px\"", width);
+    }
+  }
+  if (!caption.empty()) {
+    html += fmt::format("<figcaption{}>{}</figcaption>\n", width_style, escape_markup(caption));
+  }
   add(Block::Kind::kFigure, html + "</figure>\n");
 }
 

@@ -59,8 +59,20 @@ div.warning { border-left-color: var(--warn-edge); background: var(--warn); }
 div.note strong, div.warning strong { margin-right: 0.4em; }
 section.cautions { border-color: var(--ochre); border-left: 6px solid var(--ochre); }
 footer { color: var(--muted); font-size: 12px; margin-top: 10px; }
+/* Narrow windows and print: tighter cells and wrapping headers, so a wide table fits
+   instead of scrolling sideways (tests/report/page_audit_test.cc checks at 800 px). */
+@media (max-width: 1000px) {
+  body { padding: 16px 10px 28px; }
+  section { padding: 12px 12px 14px; }
+  nav.contents ol { columns: 2; }
+  table.data { font-size: 12px; }
+  table.data th, table.data td { padding: 3px 5px; }
+  table.data th { white-space: normal; }
+  table.data .num { white-space: normal; }
+}
 @media print {
   html, section, nav.contents { background: #fff; }
+  table.data { font-size: 11px; }
   section { break-inside: avoid-page; }
 }
 )css";

@@ -53,6 +53,9 @@ std::vector<bool> best_rows(const TextTable& table, std::size_t col) {
     values[r] = value;
     if (std::isnan(top) || (rule == BestValue::kLowest ? value < top : value > top)) top = value;
   }
+  // One number has nothing to be better than: no highlight until two rows compare.
+  const auto numbers = std::count_if(values.begin(), values.end(), [](double v) { return !std::isnan(v); });
+  if (numbers < 2) return best;
   for (std::size_t r = 0; r < table.rows.size(); ++r) best[r] = values[r] == top;
   return best;
 }

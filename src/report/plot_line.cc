@@ -16,6 +16,9 @@ using report::AxisTicks;
 using report::coord;
 using report::Scale;
 
+// The diagonal takes the last dash pattern of the series, so it never looks like a curve.
+constexpr int kDiagonalDash = 7;
+
 bool usable(double x, double y, bool log_x) {
   return std::isfinite(x) && std::isfinite(y) && (!log_x || x > 0);
 }
@@ -62,6 +65,9 @@ std::string render_line_chart(const LineChart& chart) {
   if (!chart.missing.empty()) {
     legend.push_back({chart.missing_label, report::kInk, report::Swatch::kCross, 0});
   }
+  if (chart.diagonal && !chart.diagonal_label.empty()) {
+    legend.push_back({chart.diagonal_label, report::kMuted, report::Swatch::kLine, kDiagonalDash});
+  }
 
   double top = report::draw_header(doc, chart.title, legend, width);
   AxisTicks x_axis = chart.log_x ? report::log_axis(x_lo, x_hi, chart.x_min, chart.x_max)
@@ -79,6 +85,15 @@ std::string render_line_chart(const LineChart& chart) {
   report::draw_x_axis(doc, area, x, x_axis, chart.x_label, true);
   report::draw_y_axis(doc, area, y, y_axis, chart.y_label, true, 22);
   std::string& b = doc.body();
+  if (chart.diagonal && !chart.log_x) {
+    const double lo = std::max(x_axis.lo, y_axis.lo);
+    const double hi = std::min(x_axis.hi, y_axis.hi);
+    if (lo < hi) {
+      doc.line(x(lo), y(lo), x(hi), y(hi), report::kMuted, 1.2,
+               fmt::format("class=\"diagonal\" stroke-dasharray=\"{}\"",
+                           report::series_dash(kDiagonalDash)));
+    }
+  }
   for (const XMark& m : chart.x_marks) {
     if (!usable(m.x, 0, chart.log_x)) continue;
     const double px = x(m.x);

@@ -4,13 +4,15 @@
 #include <fmt/format.h>
 
 #include <cmath>
-#include <filesystem>
 #include <limits>
 
 #include "util/json.h"
 #include "report/verdict_output.h"
 #include "credence/plot.h"
+#include "credence/samplers_settings.h"
 #include "credence/version.h"
+#include "report/decision_figures.h"
+#include "report/settings_view.h"
 #include "report/verdict_section.h"
 #include "util/log.h"
 
@@ -25,19 +27,8 @@ std::string num(double v, int digits = 4) {
 
 
 bool is_sampler_run(const MethodRun& run) {
-  for (const auto& [name, value] : run.header.settings) {
-    if (name != "method") continue;
-    if (const auto* text = std::get_if<std::string>(&value)) {
-      return *text != "sgd" && *text != "momentum" && *text != "rsgd" && *text != "adam";
-    }
-  }
-  return false;
-}
-
-std::string setting_text(const SettingValue& value) {
-  if (const auto* text = std::get_if<std::string>(&value)) return *text;
-  if (const auto* number = std::get_if<double>(&value)) return fmt::format("{:g}", *number);
-  return fmt::format("{}", std::get<std::int64_t>(value));
+  Result<Method> method = parse_method(report::method_of(run.header));
+  return method.ok() && is_sampler(*method);
 }
 
 std::string verdict_text(const MethodRun& run) {
@@ -118,8 +109,10 @@ void data_section(HtmlReport& page, const std::vector<MethodRun>& runs,
 void scores_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
   page.section("Scores on held-out rows");
   page.table(score_table(runs),
-             "The model average of each run on the same rows; best per column in bold. Lower "
-             "is better for NLL, Brier, ECE and MCE. ECE and MCE: 15 equal-width bins.");
+             std::string(runs.size() > 1 ? "The model average of each run on the same rows; best "
+                                           "per column in bold. "
+                                         : "The model average on the scored rows. ") +
+                 "Lower is better for NLL, Brier, ECE and MCE. ECE and MCE: 15 equal-width bins.");
   const TextTable intervals = interval_table(runs);
   if (!intervals.rows.empty()) {
     page.table(intervals,
@@ -286,10 +279,7 @@ void settings_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
         {"status", std::string(run_status_name(run.summary.status))},
         {"kept samples", fmt::format("{} ({} chains)", run.summary.samples, run.header.chains)},
     };
-    for (const auto& [name, value] : run.header.settings) {
-      if (name.starts_with("data_")) continue;
-      items.emplace_back(name, setting_text(value));
-    }
+    for (auto& row : report::settings_rows(run.header)) items.push_back(std::move(row));
     page.paragraph(run.label);
     page.key_values(std::move(items));
   }
@@ -308,9 +298,10 @@ Result<MethodRun> load_method_run(const std::string& run_path, const std::string
   if (!reader.ok()) return reader.status();
   const RunReader& run = **reader;
   MethodRun out;
-  out.label = label.empty() ? std::filesystem::path(run_path).stem().string() : label;
-  out.run_path = run_path;
   out.header = run.header();
+  // The method names the run in tables and figures; its file is listed under settings.
+  out.label = label.empty() ? report::method_of(out.header) : label;
+  out.run_path = run_path;
   out.summary = run.summary();
   for (double s : out.summary.seconds_per_chain) out.seconds += s;
   for (std::int64_t g : out.summary.gradient_evals_per_chain) out.gradient_evals += g;
@@ -428,6 +419,7 @@ std::string report_page(const std::string& title, const std::vector<MethodRun>& 
   for (const MethodRun& run : runs) verdicts.push_back({run.label, run.verdict ? &*run.verdict : nullptr});
   report::verdict_section(page, verdicts);
   reliability_section(page, runs);
+  report::decisions_section(page, runs);
   abstain_section(page, runs);
   doubt_section(page, runs);
   diagnostics_section(page, runs);

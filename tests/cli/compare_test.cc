@@ -124,7 +124,7 @@ TEST_F(Compare, ReportRendersInHeadlessChromium) {
   const std::string log = path("render.txt");
   const int code = run_python("'" + std::string(CREDENCE_SOURCE_DIR) +
                                   "/tests/tools/render_check.py' '" + path("cmp/report.html") +
-                                  "' --expect-sections 10",
+                                  "' --expect-sections 11",  // with "Decisions on the positive class"
                               log);
   if (code == 77) GTEST_SKIP() << "chromium is not installed (scripts/bootstrap installs it)";
   EXPECT_EQ(code, 0) << read_text(log);

@@ -87,6 +87,20 @@ TEST(TextTable, HtmlMarksTheBestCellsAndEscapes) {
   EXPECT_NE(html.find("<th class=\"num\">NLL</th>"), std::string::npos);
 }
 
+// Issue 19: with one run there is nothing to compare, so nothing is marked best (the old
+// page marked every cell of a lone run's score row).
+TEST(TextTable, HtmlMarksNothingBestInALoneRow) {
+  TextTable t;
+  t.column("method").column("accuracy", ColumnAlign::kAuto, BestValue::kHighest);
+  t.column("NLL", ColumnAlign::kAuto, BestValue::kLowest);
+  t.add_row({"adam", "0.912", "0.301"});
+  EXPECT_EQ(render_html(t).find("best"), std::string::npos) << render_html(t);
+  t.add_row({"sgld", "-", "n/a"});  // a second row without numbers still compares nothing
+  EXPECT_EQ(render_html(t).find("best"), std::string::npos) << render_html(t);
+  t.add_row({"sghmc", "0.915", "0.290"});
+  EXPECT_NE(render_html(t).find("<td class=\"num best\">0.915</td>"), std::string::npos);
+}
+
 TEST(TextTable, LeadingNumbers) {
   EXPECT_EQ(leading_number("0.31 [0.28, 0.35]"), 0.31);
   EXPECT_EQ(leading_number("-1e-4"), -1e-4);
@@ -148,8 +162,14 @@ TEST(HtmlReport, EverySectionWithItsAnchorAndContentsEntry) {
   EXPECT_NE(html.find("<div class=\"warning\">"), std::string::npos);
   EXPECT_NE(html.find("<div class=\"note\">"), std::string::npos);
   EXPECT_NE(html.find("<dt>&lt;target&gt;</dt><dd>fault_14d</dd>"), std::string::npos);
-  EXPECT_NE(html.find("<figcaption>A trace &amp; its &lt;caption&gt;.</figcaption>"),
-            std::string::npos);
+  EXPECT_NE(html.find(">A trace &amp; its &lt;caption&gt;.</figcaption>"), std::string::npos);
+  // Captions wrap at their chart's width, so charts that fit side by side stay side by
+  // side (a 560 px caption under a 420 px chart made them stack).
+  const std::size_t svg = html.find("<svg ");
+  const std::size_t width = html.find(" width=\"", svg) + 8;
+  const std::string chart_width = html.substr(width, html.find('"', width) - width);
+  EXPECT_NE(html.find("<figcaption style=\"max-width: " + chart_width + "px\">"),
+            std::string::npos) << chart_width;
   EXPECT_NE(html.find("<title>credence report: &lt;cold-store&gt; &amp; &quot;friends&quot;</title>"),
             std::string::npos);
   // Both figures share one side-by-side group.
