@@ -1,4 +1,4 @@
-// Budgets that fit the table (src/cli/budget.cc, held_out.cc, compare_job.cc), end to
+// Budgets that fit the table (src/run/budget.cc, held_out.cc, src/compare/compare_job.cc), end to
 // end on a 100-row invented table (credence synth): train's defaults are sized in passes
 // with floors in steps and recorded in the run file; flags given are kept as given;
 // optimizers stop early on validation NLL and the run file says why; compare gives
