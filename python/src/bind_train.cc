@@ -73,6 +73,7 @@ py::dict train(const std::string& data_path, const std::string& out_path,
   } else {
     raise_if_error(check_method_flags(r.settings.sampler.method,
                                       r.settings.sampler.schedule.kind, false, given));
+    apply_method_defaults(r.settings.sampler, given);
     r.budget_given = BudgetGiven{.burn_in = options.contains("burn_in"),
                                  .thin = options.contains("thin"),
                                  .samples = options.contains("samples"),
