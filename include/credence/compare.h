@@ -127,8 +127,10 @@ std::string budget_line(const CompareRequest& request, const CompareBudget& budg
 
 /// Trains every entry into out_dir/<file_stem>.h5 (overwriting), then assesses each on
 /// the test rows. A diverged or failed entry is reported in its outcome, not as an error;
-/// errors are bad input (exit 2) and I/O.
-Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request);
+/// errors are bad input (exit 2) and I/O. `budget`, when given, receives the budget
+/// every entry got.
+Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
+                                                CompareBudget* budget = nullptr);
 
 /// The runs that trained, for score_table / report_page.
 std::vector<MethodRun> trained_runs(const std::vector<CompareOutcome>& outcomes);
@@ -137,8 +139,13 @@ std::vector<MethodRun> trained_runs(const std::vector<CompareOutcome>& outcomes)
 struct CompareSummary {
   std::vector<CompareOutcome> outcomes;
   std::string text;  // summary.txt: the score table, verdicts, failures, notes, cautions
-  std::string csv;   // summary.csv: the score table, one row per method that trained
-  std::string json;  // summary.json
+  /// summary.csv: the score table, one row per method that trained, with snake_case
+  /// headers and an empty cell for a number that does not apply (pandas reads numbers
+  /// as numbers).
+  std::string csv;
+  /// summary.json: one object with the budget, the data, the split and the per-method
+  /// rows ("methods"); docs/compare-files.md names every key.
+  std::string json;
 };
 
 /// run_compare, then summary.txt, summary.csv, summary.json and report.html written into

@@ -124,11 +124,13 @@ std::string budget_line(const CompareRequest& request, const CompareBudget& budg
       request.epochs > 0 ? "" : "; sized to the table, --epochs sets it");
 }
 
-Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
+Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
+                                                CompareBudget* budget_out) {
   if (request.entries.empty()) return Status::invalid_input("give at least one method");
   if (request.chains < 1) return Status::invalid_input("--chains needs at least 1");
   Result<CompareBudget> budget = compare_budget(request);
   if (!budget.ok()) return budget.status();
+  if (budget_out != nullptr) *budget_out = *budget;
   std::error_code error;
   std::filesystem::create_directories(request.out_dir, error);
   if (error) {
