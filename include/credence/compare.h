@@ -69,7 +69,8 @@ CompareEntry compare_entry(Method method);
 /// What compare reads as text: the method list and the network's widths.
 struct CompareLists {
   std::string methods;           // comma-separated: "adam,sghmc"
-  std::string hidden = "32,32";  // hidden-layer widths; "none": no hidden layer; unread with net_path
+  /// Hidden-layer widths; "none": no hidden layer. Not read with a net_path.
+  std::string hidden = "32,32";
   bool extend_given = false;     // extend_seconds was given (refused with epochs)
 };
 
