@@ -93,4 +93,9 @@ struct MeanSd {
 };
 MeanSd member_mean_sd(const std::vector<MemberScores>& members, double MemberScores::*score);
 
+/// What `assess --save-temperature` stores in the run file: the temperature `result`
+/// fitted (result.fit must be set) for an ensemble of `samples` kept samples, stamped with
+/// the current UTC time.
+StoredTemperature fitted_temperature_record(const AssessJobResult& result, std::int64_t samples);
+
 }  // namespace credence

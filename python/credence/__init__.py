@@ -6,6 +6,7 @@ score calibration, with the same results and messages as the `credence` command.
     run = credence.open_run("run.h5")
     table = credence.predict(run, frame)         # DataFrame: p_<class>, entropy, ...
     scores = credence.assess(run, "data.csv")    # dict, as `credence assess --json`
+    table = credence.compare("data.csv", "out", target="fault")  # DataFrame, summary.csv
 
 Calibration holds only for data like the held-out rows; decisions about health, credit
 or safety need local validation and licensed practice.
@@ -13,6 +14,7 @@ or safety need local validation and licensed practice.
 
 from ._credence import __version__, set_log_level
 from .api import assess, diagnose, predict
+from .comparison import compare
 from .training import train
 from .errors import (CorruptRunError, CredenceError, DivergedError, InvalidInputError,
                      RunIOError, TrainingInterrupted)
@@ -20,6 +22,7 @@ from .run import Run, open_run
 
 __all__ = [
     "__version__", "set_log_level", "Run", "open_run", "train", "predict", "assess", "diagnose",
+    "compare",
     "CredenceError", "InvalidInputError", "CorruptRunError", "RunIOError", "DivergedError",
     "TrainingInterrupted", "CredenceClassifier",
 ]

@@ -15,5 +15,7 @@ void bind_predict(pybind11::module_& m);
 void bind_assess(pybind11::module_& m);
 /// train(data_path, out_path, options, progress): run_train with the CLI's defaults.
 void bind_train(pybind11::module_& m);
+/// compare(data_path, out_dir, options, progress): run_compare_job with the CLI's defaults.
+void bind_compare(pybind11::module_& m);
 
 }  // namespace credence::python

@@ -33,6 +33,7 @@ PYBIND11_MODULE(_credence, m) {
   credence::python::bind_predict(m);
   credence::python::bind_assess(m);
   credence::python::bind_train(m);
+  credence::python::bind_compare(m);
   m.def("set_log_level", &set_log_level, pybind11::arg("level"),
         "How much the library logs to stderr: trace, debug, info, warning (default), error, off.");
   set_log_level("warning");

@@ -1,15 +1,10 @@
 // `credence assess`: calibration and accuracy of a run's ensemble on labelled rows.
-#include <fmt/chrono.h>
-#include <fmt/format.h>
-
-#include <cmath>
 #include <cstdio>
-#include <ctime>
 
 #include "credence/assess.h"
 #include "report/assess_output.h"
+#include "cli/assess_flags.h"
 #include "cli/commands.h"
-#include "cli/data_options.h"
 #include "cli/memory_option.h"
 #include "credence/ensemble.h"
 #include "util/atomic_file.h"
@@ -22,136 +17,8 @@ extern "C" void openblas_set_num_threads(int);
 namespace credence::cli {
 namespace {
 
-struct AssessFlags {
-  std::string run_path;
-  std::string data_path;
-  std::string split = "auto";
-  int bins = 15;
-  std::string binning = "width";
-  std::string json_path;
-  std::string plot_path;
-  std::int64_t samples = 0;
-  int bootstrap = 1000;
-  std::uint64_t seed = 0;
-  bool temperature_scale = false;
-  bool save_temperature = false;
-  std::optional<double> temperature;
-  std::optional<std::string> unseen;  // overrides the run's unseen-category policy
-  std::string truth_path;
-  std::optional<std::string> positive_class;
-  std::optional<double> threshold;
-  std::optional<double> cost_fp;
-  std::optional<double> cost_fn;
-  std::optional<double> target_sensitivity;
-  std::string max_memory;  // --max-memory; empty: the default share of physical memory
-};
-
-// At most one rule: a fixed --threshold, costs, or a target sensitivity.
-Status threshold_rule(const AssessFlags& flags, ThresholdSettings& t) {
-  const bool cost = flags.cost_fp || flags.cost_fn;
-  if ((flags.threshold ? 1 : 0) + (cost ? 1 : 0) + (flags.target_sensitivity ? 1 : 0) > 1) {
-    return Status::invalid_input(
-        "give one way to set the decision threshold: --threshold P, or --cost-fp and "
-        "--cost-fn, or --target-sensitivity S");
-  }
-  if (flags.threshold) {
-    if (!(*flags.threshold > 0 && *flags.threshold < 1)) {
-      return Status::invalid_input(fmt::format(
-          "--threshold {}: give a probability strictly between 0 and 1, e.g. 0.3",
-          *flags.threshold));
-    }
-    t.threshold = *flags.threshold;
-  } else if (cost) {
-    t.rule = ThresholdRule::kCost;
-    t.cost_fp = flags.cost_fp.value_or(1.0);
-    t.cost_fn = flags.cost_fn.value_or(1.0);
-    if (!(t.cost_fp > 0 && std::isfinite(t.cost_fp) && t.cost_fn > 0 &&
-          std::isfinite(t.cost_fn))) {
-      return Status::invalid_input(fmt::format(
-          "--cost-fp {} --cost-fn {}: give two positive costs (the one not given is 1)",
-          t.cost_fp, t.cost_fn));
-    }
-  } else if (flags.target_sensitivity) {
-    t.rule = ThresholdRule::kSensitivity;
-    t.target_sensitivity = *flags.target_sensitivity;
-    if (!(t.target_sensitivity > 0 && t.target_sensitivity <= 1)) {
-      return Status::invalid_input(fmt::format(
-          "--target-sensitivity {}: give a fraction in (0, 1], e.g. 0.9", t.target_sensitivity));
-    }
-  }
-  return Status::ok_status();
-}
-
-Result<AssessJobOptions> job_options(const AssessFlags& flags) {
-  AssessJobOptions o;
-  if (flags.split == "auto") {
-    o.split = AssessSplit::kAuto;
-  } else if (flags.split == "test") {
-    o.split = AssessSplit::kTest;
-  } else if (flags.split == "val") {
-    o.split = AssessSplit::kVal;
-  } else if (flags.split == "all") {
-    o.split = AssessSplit::kAll;
-  } else {
-    return Status::invalid_input(fmt::format(
-        "--split '{}': use test (the run's held-out rows), val, all (every row) or auto",
-        flags.split));
-  }
-  if (flags.binning == "width") {
-    o.binning = Binning::kEqualWidth;
-  } else if (flags.binning == "mass") {
-    o.binning = Binning::kEqualMass;
-  } else {
-    return Status::invalid_input(fmt::format(
-        "--binning '{}': use width (equal-width bins) or mass (equal counts per bin)",
-        flags.binning));
-  }
-  if (flags.bins < 1 || flags.bins > 1000) {
-    return Status::invalid_input(fmt::format("--bins {}: give 1 to 1000 (15 is usual)", flags.bins));
-  }
-  if (flags.samples < 0) {
-    return Status::invalid_input(fmt::format(
-        "--samples {}: give a positive count (or 0 for all kept samples)", flags.samples));
-  }
-  if (flags.bootstrap < 0) {
-    return Status::invalid_input(fmt::format(
-        "--bootstrap {}: give a number of resamples (0 for no intervals)", flags.bootstrap));
-  }
-  if (flags.temperature && !(*flags.temperature > 0 && std::isfinite(*flags.temperature))) {
-    return Status::invalid_input(
-        fmt::format("--temperature {}: give a positive number", *flags.temperature));
-  }
-  if (flags.save_temperature && !flags.temperature_scale) {
-    return Status::invalid_input("--save-temperature stores the temperature that "
-                                 "--temperature-scale fits; give both");
-  }
-  if (flags.temperature && flags.temperature_scale) {
-    return Status::invalid_input("give either --temperature (a fixed value) or "
-                                 "--temperature-scale (fit one), not both");
-  }
-  CREDENCE_RETURN_IF_ERROR(threshold_rule(flags, o.threshold));
-  o.positive_class = flags.positive_class;
-  o.metrics.bins = flags.bins;
-  o.metrics.classwise_bins = flags.bins;
-  o.metrics.curve_bins = flags.bins;
-  o.metrics.bootstrap.resamples = flags.bootstrap;
-  o.metrics.bootstrap.seed = flags.seed;
-  o.metrics.bootstrap.ece_bins = flags.bins;
-  o.metrics.bootstrap.ece_binning = o.binning;
-  o.samples = flags.samples;
-  o.temperature = flags.temperature;
-  o.fit_temperature = flags.temperature_scale;
-  o.truth_path = flags.truth_path;
-  if (flags.unseen) {
-    Result<UnseenPolicy> unseen = parse_unseen_flag(*flags.unseen);
-    if (!unseen.ok()) return unseen.status();
-    o.unseen = *unseen;
-  }
-  return o;
-}
-
 Status run_assess(const AssessFlags& flags, const GlobalOptions& global) {
-  Result<AssessJobOptions> options = job_options(flags);
+  Result<AssessJobOptions> options = assess_job_options(flags);
   if (!options.ok()) return options.status();
 #ifdef CREDENCE_HAVE_BLAS
   openblas_set_num_threads(1);  // row blocks run in parallel (DESIGN.md section 6)
@@ -186,13 +53,7 @@ Status run_assess(const AssessFlags& flags, const GlobalOptions& global) {
   std::fflush(stdout);
 
   if (flags.save_temperature && result->fit) {
-    StoredTemperature stored;
-    stored.temperature = result->fit->temperature;
-    stored.samples = committed;
-    stored.fitted_on = fmt::format("validation split, {} rows", result->val_rows);
-    stored.nll_before = result->fit->nll_before;
-    stored.nll_after = result->fit->nll_after;
-    stored.fitted_utc = fmt::format("{:%Y-%m-%dT%H:%M:%SZ}", fmt::gmtime(std::time(nullptr)));
+    const StoredTemperature stored = fitted_temperature_record(*result, committed);
     CREDENCE_RETURN_IF_ERROR(store_temperature(flags.run_path, stored));
     if (!global.quiet) {
       std::fprintf(stderr,

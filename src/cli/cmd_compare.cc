@@ -1,13 +1,10 @@
 // `credence compare`: optimizers against samplers on one split, one network and one
 // gradient budget; a table, CSV, JSON and an HTML report.
-#include <fmt/format.h>
-
 #include <cstdio>
 
 #include "cli/commands.h"
-#include "cli/compare_extend.h"
 #include "cli/compare_flags.h"
-#include "report/verdict_output.h"
+#include "compare/compare_extend.h"
 
 namespace credence::cli {
 namespace {
@@ -16,42 +13,11 @@ Status run_compare_command(const CompareFlags& flags, const GlobalOptions& globa
   std::vector<Method> methods;
   Result<CompareRequest> request = compare_request(flags, methods);
   if (!request.ok()) return request.status();
-  for (Method m : methods) {
-    const std::string name(method_name(m));
-    request->entries.push_back({m, std::nullopt, name, name});
-  }
-  request->quiet = global.quiet;
-  request->command_line = global.command_line;
-  Result<std::vector<CompareOutcome>> outcomes = run_compare(*request);
-  if (!outcomes.ok()) return outcomes.status();
-  const std::vector<MethodRun> runs = trained_runs(*outcomes);
-
-  std::string failures;
-  for (const CompareOutcome& o : *outcomes) {
-    if (!o.run) failures += fmt::format("{}: no result ({})\n", o.entry.label, o.failure);
-  }
-  if (runs.empty()) {
-    return Status::diverged("no method produced a usable run:\n" + failures);
-  }
-  const TextTable table = score_table(runs);
-  std::string text = fmt::format("compare on {} (test rows: {})\n\n{}", flags.data_path,
-                                 runs.front().assessment.rows.size(), render_text(table));
-  text += "\n";
-  for (const MethodRun& run : runs) {
-    if (run.verdict) text += verdict_text(*run.verdict, run.label);
-  }
-  if (!failures.empty()) text += "\n" + failures;
-  for (const CompareOutcome& o : *outcomes) {
-    if (!o.budget_note.empty()) text += fmt::format("\nnote, {}: {}\n", o.entry.label, o.budget_note);
-  }
-  text += fmt::format("\n{}\n", cautions_text());
-  CREDENCE_RETURN_IF_ERROR(write_output(request->out_dir, "summary.txt", text));
-  CREDENCE_RETURN_IF_ERROR(write_output(request->out_dir, "summary.csv", render_csv(table)));
-  CREDENCE_RETURN_IF_ERROR(write_output(request->out_dir, "summary.json", score_json(runs)));
-  CREDENCE_RETURN_IF_ERROR(write_output(
-      request->out_dir, "report.html",
-      report_page(fmt::format("credence compare: {}", flags.data_path), runs, flags.data_path)));
-  std::fputs(text.c_str(), stdout);
+  for (Method m : methods) request->entries.push_back(compare_entry(m));
+  set_compare_hooks(*request, global);
+  Result<CompareSummary> summary = run_compare_job(*request);
+  if (!summary.ok()) return summary.status();
+  std::fputs(summary->text.c_str(), stdout);
   std::fprintf(stdout, "\nreport: %s/report.html\n", request->out_dir.c_str());
   return Status::ok_status();
 }

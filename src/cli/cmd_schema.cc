@@ -10,6 +10,7 @@
 #include "cli/data_options.h"
 #include "util/json.h"
 #include "cli/memory_option.h"
+#include "util/memory_guard.h"
 #include "credence/data.h"
 #include "util/atomic_file.h"
 

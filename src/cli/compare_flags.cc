@@ -3,14 +3,12 @@
 
 #include <fmt/format.h>
 
-#include <algorithm>
-#include <cmath>
-#include <filesystem>
-#include <sstream>
+#include <cstdio>
 
-#include "cli/compare_extend.h"
-#include "cli/compare_samples.h"
-#include "util/atomic_file.h"
+#include "cli/interrupt.h"
+#include "cli/progress.h"
+#include "compare/compare_extend.h"
+#include "compare/compare_samples.h"
 
 namespace credence::cli {
 
@@ -79,45 +77,7 @@ Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Me
   Result<DataOptions> data = resolve_data_options(flags.data);
   if (!data.ok()) return data.status();
   r.data = *data;
-  if (r.data.schema.target.empty()) {
-    return Status::invalid_input("give --target COLUMN (the class column)");
-  }
-  methods.clear();
-  std::stringstream stream(flags.methods);
-  for (std::string name; std::getline(stream, name, ',');) {
-    Result<Method> method = parse_method(name);
-    if (!method.ok()) return method.status().with_context("--methods");
-    if (*method == Method::kHmc || *method == Method::kRhmc) {
-      return Status::invalid_input(fmt::format(
-          "--methods: {} uses the full data per step, so it has no minibatch budget to share; "
-          "train it on its own with credence train",
-          name));
-    }
-    methods.push_back(*method);
-  }
-  if (methods.empty()) return Status::invalid_input("--methods: give at least one method");
-  // A flag no chosen method reads is refused, as in train (method_flags.h).
-  if (flags.samples_option != nullptr && flags.samples_option->count() > 0 &&
-      std::none_of(methods.begin(), methods.end(), is_sampler)) {
-    return Status::invalid_input(fmt::format(
-        "--samples is not read by --methods {}: optimizers keep one final iterate per chain; "
-        "add a sampler or drop --samples",
-        flags.methods));
-  }
-  if (!flags.net_path.empty()) {
-    r.net_path = flags.net_path;
-  } else if (flags.hidden != "none") {
-    std::stringstream widths(flags.hidden);
-    for (std::string piece; std::getline(widths, piece, ',');) {
-      char* end = nullptr;
-      const long long width = std::strtoll(piece.c_str(), &end, 10);
-      if (piece.empty() || *end != '\0' || width < 1) {
-        return Status::invalid_input(
-            fmt::format("--hidden '{}': write positive widths like 32,32", flags.hidden));
-      }
-      r.hidden.push_back(static_cast<Index>(width));
-    }
-  }
+  r.net_path = flags.net_path;
   r.activation = flags.activation;
   r.epochs = flags.epochs;
   r.chains = flags.chains;
@@ -128,27 +88,26 @@ Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Me
   r.truth_path = flags.truth_path;
   r.bootstrap = flags.bootstrap;
   r.extend_seconds = flags.extend_seconds;
-  if (flags.extend_option != nullptr && flags.extend_option->count() > 0 && flags.epochs > 0) {
-    return Status::invalid_input(
-        "--extend-seconds is not read with --epochs: a budget given in passes is kept as "
-        "given; drop one of them");
-  }
-  if (!(r.extend_seconds >= 0) || !std::isfinite(r.extend_seconds)) {
-    return Status::invalid_input("--extend-seconds: give 0 (never) or a positive number of seconds");
-  }
   if (flags.chain_seed_option != nullptr && flags.chain_seed_option->count() > 0) {
     r.chain_seed = flags.chain_seed;
   }
-  if (r.epochs < 0) return Status::invalid_input("--epochs: give a positive number of passes");
-  if (r.chains < 1 || r.batch_rows < 1 || r.samples < 1 || r.bootstrap < 0) {
-    return Status::invalid_input(
-        "--chains, --batch and --samples need at least 1, and --bootstrap at least 0");
-  }
+  const CompareLists lists{
+      .methods = flags.methods,
+      .hidden = flags.hidden,
+      .extend_given = flags.extend_option != nullptr && flags.extend_option->count() > 0};
+  Result<std::vector<Method>> chosen = complete_compare_request(r, lists);
+  if (!chosen.ok()) return chosen.status();
+  methods = std::move(*chosen);
   return r;
 }
 
-Status write_output(const std::string& out_dir, const std::string& name, const std::string& text) {
-  return write_file_atomically((std::filesystem::path(out_dir) / name).string(), text);
+void set_compare_hooks(CompareRequest& request, const GlobalOptions& global) {
+  request.hooks.stop = &install_interrupt_handlers();
+  request.hooks.progress = progress_line(global.quiet);
+  if (!global.quiet) {
+    request.on_budget = [](const std::string& line) { std::fprintf(stderr, "%s\n", line.c_str()); };
+  }
+  request.command_line = global.command_line;
 }
 
 }  // namespace credence::cli

@@ -4,8 +4,9 @@
 #include <CLI/CLI.hpp>
 #include <string>
 
-#include "cli/compare_job.h"
+#include "cli/commands.h"
 #include "cli/data_options.h"
+#include "credence/compare.h"
 
 namespace credence::cli {
 
@@ -37,7 +38,8 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
 /// The request without entries (the caller adds them), and the method list parsed.
 Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Method>& methods);
 
-/// Prints `text` to stdout and writes out_dir/<name> atomically.
-Status write_output(const std::string& out_dir, const std::string& name, const std::string& text);
+/// Ctrl-C, the progress line, the budget line on stderr (unless --quiet) and the
+/// command line for the run files.
+void set_compare_hooks(CompareRequest& request, const GlobalOptions& global);
 
 }  // namespace credence::cli

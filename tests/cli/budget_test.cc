@@ -1,4 +1,4 @@
-// Budgets that fit the table (src/cli/budget.cc, held_out.cc, compare_job.cc), end to
+// Budgets that fit the table (src/run/budget.cc, held_out.cc, src/compare/compare_job.cc), end to
 // end on a 100-row invented table (credence synth): train's defaults are sized in passes
 // with floors in steps and recorded in the run file; flags given are kept as given;
 // optimizers stop early on validation NLL and the run file says why; compare gives
@@ -257,10 +257,10 @@ TEST_F(Budget, CompareSaysWhenItCutsSamples) {
   ASSERT_EQ(compared.exit_code, 0) << compared.output;
   EXPECT_NE(compared.output.find("--samples 100 cut to 1"), std::string::npos) << compared.output;
   const std::string summary = out + "/summary.json";
-  EXPECT_NE(json_value(summary, "[r['budget_note'] for r in d if r['method']=='sgld'][0]")
+  EXPECT_NE(json_value(summary, "[r['budget_note'] for r in d['methods'] if r['method']=='sgld'][0]")
                 .find("cut to 1"),
             std::string::npos);
-  EXPECT_EQ(json_value(summary, "[r['budget_note'] for r in d if r['method']=='adam'][0]"), "");
+  EXPECT_EQ(json_value(summary, "[r['budget_note'] for r in d['methods'] if r['method']=='adam'][0]"), "");
   EXPECT_NE(testing::read_text(out + "/summary.txt").find("note, sgld: --samples 100 cut to 1"),
             std::string::npos);
 }

@@ -89,7 +89,7 @@ TEST_F(Compare, EveryMethodGetsAVerdictInTheTextAndTheJson) {
   }
   // summary.json: every row carries its verdict with the six checks (Python's json module).
   const std::string script =
-      "import json, sys; rows = json.load(open(sys.argv[1])); "
+      "import json, sys; rows = json.load(open(sys.argv[1]))['methods']; "
       "assert all(len(r['verdict']['checks']) == 6 for r in rows), rows; "
       "assert all(c['outcome'] in ('ok', 'FAILED', 'n/a') for r in rows for c in r['verdict']['checks'])";
   const std::string log = path("verdict_check.txt");
@@ -102,7 +102,7 @@ TEST_F(Compare, TrueProbabilitiesScoreBelowEveryTrainedModel) {
   // were drawn from must have a lower NLL than any model fitted to a sample of them.
   ASSERT_EQ(compare_.exit_code, 0) << compare_.output;
   const std::string script =
-      "import json,sys; rows=json.load(open(sys.argv[1])); "
+      "import json,sys; rows=json.load(open(sys.argv[1]))['methods']; "
       "bad=[r['method'] for r in rows if not r['truth_kl'] > 0]; "
       "print(bad); sys.exit(1 if bad else 0)";
   const std::string log = path("truth.txt");

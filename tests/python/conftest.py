@@ -16,6 +16,16 @@ def run_cli(*args):
                           text=True)
 
 
+def cli_flags(settings):
+    """Keywords as the CLI's flags: burn_in=200 as --burn-in 200, hidden=[8, 8] as
+    --hidden 8,8."""
+    flags = []
+    for key, value in settings.items():
+        flags += ["--" + key.replace("_", "-"),
+                  ",".join(map(str, value)) if isinstance(value, list) else str(value)]
+    return flags
+
+
 @pytest.fixture(scope="session")
 def breast_cancer_csv():
     path = os.path.join(REFDATA_DIR, "breast_cancer.csv")

@@ -15,17 +15,9 @@ import pandas as pd
 import pytest
 
 import credence
-from conftest import run_cli
+from conftest import cli_flags, run_cli
 
 SHORT = dict(method="sghmc", hidden=[8], chains=2, burn_in=200, thin=10, samples=10, seed=3)
-
-
-def cli_flags(settings):
-    flags = []
-    for key, value in settings.items():
-        flags += ["--" + key.replace("_", "-"),
-                  ",".join(map(str, value)) if isinstance(value, list) else str(value)]
-    return flags
 
 
 def test_python_run_equals_cli_run(tmp_path, breast_cancer_csv):

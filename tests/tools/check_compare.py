@@ -3,10 +3,10 @@
 
 Usage: check_compare.py OUT_DIR METHOD[,METHOD...]
 
-summary.json (read with Python's json module, RFC 8259) must hold one object per method,
-in order, each with every metric named in docs/assess-json.md's compare subset; every
+summary.json (read with Python's json module, RFC 8259) must be one object whose
+"methods" hold one object per method, in order, each with every metric named in docs/assess-json.md's compare subset; every
 method must have had the same gradient budget; summary.csv (csv module, RFC 4180) must
-have the same rows; the report must reference nothing outside itself. Prints what fails
+have the same rows, snake_case headers, and numbers or empty cells where numbers go; the report must reference nothing outside itself. Prints what fails
 and exits 1; exits 0 when all holds.
 """
 import csv
@@ -16,7 +16,11 @@ import sys
 
 out_dir, methods = sys.argv[1], sys.argv[2].split(",")
 failures = []
-rows = json.load(open(f"{out_dir}/summary.json"))
+summary = json.load(open(f"{out_dir}/summary.json"))
+for key in ("budget", "data", "split", "methods"):
+    if key not in summary:
+        failures.append(f"summary.json lacks {key!r}")
+rows = summary["methods"]
 if [r["method"] for r in rows] != methods:
     failures.append(f"methods {[r['method'] for r in rows]} != {methods}")
 for r in rows:
@@ -37,10 +41,20 @@ for r in rows:
 budgets = {r["gradient_evals"] for r in rows}
 if len(budgets) != 1:
     failures.append(f"gradient budgets differ: {budgets}")
+
 with open(f"{out_dir}/summary.csv", newline="") as f:
     table = list(csv.DictReader(f))
 if [t["method"] for t in table] != methods:
     failures.append("summary.csv rows differ from summary.json")
+for t in table:
+    for name, cell in t.items():
+        if name != name.lower() or " " in name or "-" in name:
+            failures.append(f"summary.csv header {name!r} is not snake_case")
+        if name not in ("method", "mixing") and cell != "":
+            try:
+                float(cell)
+            except ValueError:
+                failures.append(f"summary.csv {name}={cell!r} is neither a number nor empty")
 html = open(f"{out_dir}/report.html", encoding="utf-8").read()
 for bad in ("http://", "https://", "<script", "<link", " src=", "@import"):
     if bad in html:

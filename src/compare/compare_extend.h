@@ -18,7 +18,7 @@
 
 #include "credence/run_verdict.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// Longest re-run, in steps per chain: room for the demo's estimate (about 360,000) and
 /// for rsghmc's measured 300,000 (about 50 s per sampler for the demo's network, 4
@@ -53,4 +53,4 @@ struct ExtendShare {
 };
 ExtendShare extend_share(std::int64_t steps, std::int64_t samples);
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -1,7 +1,7 @@
-// compare's bounded re-run of a sampler that is not done (src/cli/compare_extend.h). The
+// compare's bounded re-run of a sampler that is not done (src/compare/compare_extend.h). The
 // figures are worked by hand from the rule in the header: this checks the arithmetic of
 // the rule and its limits; compare_test checks the re-run end to end.
-#include "cli/compare_extend.h"
+#include "compare/compare_extend.h"
 
 #include <gtest/gtest.h>
 
@@ -10,7 +10,7 @@
 #include <string>
 #include <vector>
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 RunVerdict verdict_failing(std::vector<std::string> failed, std::optional<std::int64_t> more) {
@@ -71,4 +71,4 @@ TEST(CompareExtend, HalfBurnsInTheRestKeepsTheSamples) {
 }
 
 }  // namespace
-}  // namespace credence::cli
+}  // namespace credence

@@ -19,7 +19,7 @@
 
 #include "credence/net.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// Kept samples per chain compare gives a sampler by default (see above).
 inline constexpr std::int64_t kCompareRhatDraws = 400;
@@ -40,4 +40,4 @@ struct CompareSamples {
 /// kCompareSampleBytes (at least 1). `parameters` <= 0: unknown, not cut.
 CompareSamples default_compare_samples(std::int64_t parameters, int chains);
 
-}  // namespace credence::cli
+}  // namespace credence

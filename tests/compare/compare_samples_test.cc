@@ -1,7 +1,7 @@
-// compare's default kept samples per sampler chain (src/cli/compare_samples.h): enough
+// compare's default kept samples per sampler chain (src/compare/compare_samples.h): enough
 // draws that the verdict's largest R-hat over every probe row can fall to the 2021
 // paper's 1.01 when the chains do agree, and a cut when run files would grow too large.
-#include "cli/compare_samples.h"
+#include "compare/compare_samples.h"
 
 #include <gtest/gtest.h>
 
@@ -11,7 +11,7 @@
 #include "credence/diagnostics.h"
 #include "testing/seed.h"
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 // The largest R-hat (max of bulk and folded, as the verdict judges) over `summaries`
@@ -70,4 +70,4 @@ TEST(CompareSamples, LargeNetworksKeepFewerAndSaySo) {
 }
 
 }  // namespace
-}  // namespace credence::cli
+}  // namespace credence

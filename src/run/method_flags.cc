@@ -1,11 +1,11 @@
 // The table of which method reads which `credence train` flag.
-#include "cli/method_flags.h"
+#include "credence/method_flags.h"
 
 #include <fmt/format.h>
 
 #include <string_view>
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 bool is_relativistic(Method m) {
@@ -104,21 +104,6 @@ constexpr FlagRule kRules[] = {
 
 }  // namespace
 
-std::set<std::string> given_flags(const CLI::App& command) {
-  std::set<std::string> given;
-  for (const CLI::Option* option : command.get_options()) {
-    if (option->count() == 0 || option->get_lnames().empty()) continue;
-    given.insert("--" + option->get_lnames().front());
-  }
-  // Option groups are nameless subcommands holding their own options.
-  for (const CLI::App* group :
-       command.get_subcommands([](const CLI::App* app) { return app->get_name().empty(); })) {
-    const std::set<std::string> inner = given_flags(*group);
-    given.insert(inner.begin(), inner.end());
-  }
-  return given;
-}
-
 Status check_method_flags(Method method, ScheduleKind schedule, bool net_file,
                           const std::set<std::string>& given) {
   const Use use{method, schedule, net_file, given};
@@ -129,6 +114,12 @@ Status check_method_flags(Method method, ScheduleKind schedule, bool net_file,
                     fmt::format(fmt::runtime(rule.instead), fmt::arg("m", method_name(method)))));
   }
   return Status::ok_status();
+}
+
+void apply_method_defaults(SamplerSettings& sampler, const std::set<std::string>& given) {
+  if (is_santa(sampler.method) && given.count("--lr") == 0) {
+    sampler.learning_rate = kSantaLearningRate;
+  }
 }
 
 Status check_resume_flags(const std::set<std::string>& given) {
@@ -150,4 +141,4 @@ Status check_resume_flags(const std::set<std::string>& given) {
   return Status::ok_status();
 }
 
-}  // namespace credence::cli
+}  // namespace credence

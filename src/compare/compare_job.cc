@@ -1,24 +1,21 @@
 // run_compare: train each entry on one split and budget, then assess each on the test rows.
-#include "cli/compare_job.h"
+#include "credence/compare.h"
 
 #include <fmt/format.h>
 
 #include <chrono>
 #include <cmath>
-#include <cstdio>
 #include <filesystem>
 
-#include "cli/compare_extend.h"
-#include "cli/compare_samples.h"
-#include "cli/interrupt.h"
-#include "cli/progress.h"
+#include "compare/compare_extend.h"
+#include "compare/compare_samples.h"
 #include "util/log.h"
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
-                         const Budget& budget) {
+                         const CompareBudget& budget) {
   TrainRequest r;
   r.data_path = c.data_path;
   r.data = c.data;
@@ -27,8 +24,7 @@ TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
   r.activation = c.activation;
   r.out_path = (std::filesystem::path(c.out_dir) / (entry.file_stem + ".h5")).string();
   r.force = true;
-  r.hooks.stop = &install_interrupt_handlers();
-  r.hooks.progress = progress_line(c.quiet);
+  r.hooks = c.hooks;
   r.command_line = c.command_line;
   TrainSettings& s = r.settings;
   s.sampler.method = entry.method;
@@ -71,19 +67,19 @@ SamplerShare sampler_share(std::int64_t steps, std::int64_t samples) {
   return share;
 }
 
-SamplerShare sampler_share(const Budget& budget) {
+SamplerShare sampler_share(const CompareBudget& budget) {
   if (!budget.sized_burn_in || !budget.sized_thin) return sampler_share(budget.steps, budget.samples);
   return {*budget.sized_burn_in, *budget.sized_thin, budget.samples, {}};
 }
 
-Result<Budget> compare_budget(const CompareRequest& request) {
+Result<CompareBudget> compare_budget(const CompareRequest& request) {
   if (request.epochs < 0 || !std::isfinite(request.epochs)) {
     return Status::invalid_input(
         fmt::format("--epochs {}: give a positive number of passes", request.epochs));
   }
   Result<Dataset> data = load_dataset(request.data_path, request.data);
   if (!data.ok()) return data.status();
-  Budget budget;
+  CompareBudget budget;
   budget.train_rows = static_cast<std::int64_t>(data->split.train.size());
   if (request.samples_given) {
     budget.samples = request.samples;
@@ -116,31 +112,32 @@ Result<Budget> compare_budget(const CompareRequest& request) {
   return budget;
 }
 
-Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request) {
+std::string budget_line(const CompareRequest& request, const CompareBudget& budget) {
+  const std::int64_t per_pass = steps_per_pass(budget.train_rows, request.batch_rows);
+  const double passes = static_cast<double>(budget.steps) / static_cast<double>(per_pass);
+  const std::string passes_text =
+      passes >= 100 ? fmt::format("{:.0f}", passes) : fmt::format("{:.3g}", passes);
+  return fmt::format(
+      "every method: {} steps per chain x {} chains ({} passes over {} training rows, batch "
+      "{}{})",
+      budget.steps, request.chains, passes_text, budget.train_rows, request.batch_rows,
+      request.epochs > 0 ? "" : "; sized to the table, --epochs sets it");
+}
+
+Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
+                                                CompareBudget* budget_out) {
   if (request.entries.empty()) return Status::invalid_input("give at least one method");
   if (request.chains < 1) return Status::invalid_input("--chains needs at least 1");
-  Result<Budget> budget = compare_budget(request);
+  Result<CompareBudget> budget = compare_budget(request);
   if (!budget.ok()) return budget.status();
+  if (budget_out != nullptr) *budget_out = *budget;
   std::error_code error;
   std::filesystem::create_directories(request.out_dir, error);
   if (error) {
     return Status::io_error(fmt::format("cannot create the output folder {}: {}",
                                         request.out_dir, error.message()));
   }
-  if (!request.quiet) {
-    const std::int64_t per_pass = steps_per_pass(budget->train_rows, request.batch_rows);
-    const double passes = static_cast<double>(budget->steps) / static_cast<double>(per_pass);
-    const std::string passes_text =
-        passes >= 100 ? fmt::format("{:.0f}", passes) : fmt::format("{:.3g}", passes);
-    std::fprintf(stderr,
-                 "every method: %lld steps per chain x %d chains (%s passes over %lld training "
-                 "rows, batch %lld%s)\n",
-                 static_cast<long long>(budget->steps), request.chains,
-                 passes_text.c_str(),
-                 static_cast<long long>(budget->train_rows),
-                 static_cast<long long>(request.batch_rows),
-                 request.epochs > 0 ? "" : "; sized to the table, --epochs sets it");
-  }
+  if (request.on_budget) request.on_budget(budget_line(request, *budget));
   // Said once, before any training, and again in the summary of each sampler it touches.
   const std::string cut = sampler_share(*budget).note;
   bool any_sampler = false;
@@ -215,4 +212,4 @@ std::vector<MethodRun> trained_runs(const std::vector<CompareOutcome>& outcomes)
   return runs;
 }
 
-}  // namespace credence::cli
+}  // namespace credence

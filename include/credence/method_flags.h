@@ -1,4 +1,5 @@
-// Which `credence train` flag each method reads, and the refusal of one it does not.
+// Which `credence train` flag each method reads (Python's train keywords go by the same
+// names), and the refusal of one it does not.
 //
 // A flag the chosen method ignores is an error (exit 2), never a silent no-op: the message
 // names the flag, the method and what that method reads instead. The table in
@@ -6,25 +7,25 @@
 // text of each flag names the same methods.
 #pragma once
 
-#include <CLI/CLI.hpp>
 #include <set>
 #include <string>
 
 #include "credence/samplers_settings.h"
 #include "credence/status.h"
 
-namespace credence::cli {
-
-/// The long names ("--lr") of the options of `command` the user gave.
-std::set<std::string> given_flags(const CLI::App& command);
+namespace credence {
 
 /// Refuses (kInvalidInput) the first flag in `given` that `method` does not read, with
 /// `schedule` the chosen schedule and `net_file` whether --net was given.
 Status check_method_flags(Method method, ScheduleKind schedule, bool net_file,
                           const std::set<std::string>& given);
 
+/// Defaults that hang on the method and on what was given: santa and santa-opt take
+/// kSantaLearningRate unless --lr was given (samplers_settings.h says why).
+void apply_method_defaults(SamplerSettings& sampler, const std::set<std::string>& given);
+
 /// With --resume every setting comes from the run file: refuses a method, chain or
 /// network flag, which would be ignored.
 Status check_resume_flags(const std::set<std::string>& given);
 
-}  // namespace credence::cli
+}  // namespace credence

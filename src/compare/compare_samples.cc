@@ -1,11 +1,11 @@
 // default_compare_samples: kept samples per chain that let R-hat resolve 1.01.
-#include "cli/compare_samples.h"
+#include "compare/compare_samples.h"
 
 #include <fmt/format.h>
 
 #include <algorithm>
 
-namespace credence::cli {
+namespace credence {
 
 std::int64_t dense_parameters(std::int64_t input_width, const std::vector<Index>& hidden,
                               int classes) {
@@ -33,4 +33,4 @@ CompareSamples default_compare_samples(std::int64_t parameters, int chains) {
   return out;
 }
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -1,12 +1,12 @@
 // plan_extension, extend_share: compare's bounded re-run of a sampler that is not done.
-#include "cli/compare_extend.h"
+#include "compare/compare_extend.h"
 
 #include <fmt/format.h>
 
 #include <algorithm>
 #include <cmath>
 
-namespace credence::cli {
+namespace credence {
 namespace {
 
 bool more_steps_can_help(const RunVerdict& verdict) {
@@ -69,4 +69,4 @@ ExtendShare extend_share(std::int64_t steps, std::int64_t samples) {
   return share;
 }
 
-}  // namespace credence::cli
+}  // namespace credence

@@ -1,15 +1,26 @@
-// `compare` and `sweep`: several trainings on one split and one gradient budget, each
-// assessed on the same held-out rows, gathered for a table and a report.
+// compare as a library call: several trainings on one split, one network and one gradient
+// budget, each assessed on the same held-out rows, gathered for a table and a report
+// (`credence compare`, `credence sweep` through sweep.h, and the Python module).
+//
+// Usage:
+//   CompareRequest r;
+//   r.data_path = "faults.csv";
+//   r.data.schema.target = "fault";
+//   Result<std::vector<Method>> methods = complete_compare_request(r, {.methods = "adam,sghmc"});
+//   for (Method m : *methods) r.entries.push_back(compare_entry(m));
+//   r.out_dir = "faults-compare";
+//   Result<CompareSummary> s = run_compare_job(r);  // trains, scores, writes summary.*
 #pragma once
 
+#include <functional>
 #include <optional>
 #include <string>
 #include <vector>
 
-#include "report/report_page.h"
+#include "credence/method_run.h"
 #include "credence/train.h"
 
-namespace credence::cli {
+namespace credence {
 
 /// One training of a comparison: a method at a learning rate.
 struct CompareEntry {
@@ -44,9 +55,33 @@ struct CompareRequest {
   double extend_seconds = 0;
   /// Seed of every entry's chains; empty: the split's seed (as train's --chain-seed).
   std::optional<std::uint64_t> chain_seed;
-  bool quiet = false;
-  std::string command_line;
+  /// Every training's stop flag and progress callback (one callback serves them all).
+  TrainHooks hooks;
+  /// Told once, before any training, how much every method gets (budget_line); may be
+  /// empty.
+  std::function<void(const std::string&)> on_budget;
+  std::string command_line;  // stored in every run file's provenance
 };
+
+/// An entry for `method` at its default learning rate, labelled and named by the method.
+CompareEntry compare_entry(Method method);
+
+/// What compare reads as text: the method list and the network's widths.
+struct CompareLists {
+  std::string methods;           // comma-separated: "adam,sghmc"
+  /// Hidden-layer widths; "none": no hidden layer. Not read with a net_path.
+  std::string hidden = "32,32";
+  bool extend_given = false;     // extend_seconds was given (refused with epochs)
+};
+
+/// Checks `request` (filled in but for entries and hidden), sets its hidden widths from
+/// `lists` and returns the methods of lists.methods. Refuses (kInvalidInput, naming the
+/// flag): no target, an unknown method or a full-data one (hmc, rhmc, which have no
+/// minibatch budget to share), --samples with only optimizers, bad widths,
+/// --extend-seconds with --epochs, and out-of-range epochs, chains, batch, samples or
+/// bootstrap.
+Result<std::vector<Method>> complete_compare_request(CompareRequest& request,
+                                                     const CompareLists& lists);
 
 /// The outcome of one entry: a loaded run, or why it has none.
 struct CompareOutcome {
@@ -61,7 +96,7 @@ struct CompareOutcome {
 /// The steps per chain every method gets: ceil(epochs * train rows / batch) when epochs
 /// is given; by default the budget a sampler gets from `credence train` (budget.h) for
 /// the samples compare keeps, so samplers burn in and keep them at thin >= 10.
-struct Budget {
+struct CompareBudget {
   std::int64_t train_rows = 0;
   std::int64_t steps = 0;
   std::int64_t samples = 0;  // kept samples per sampler chain asked for (--samples or sized)
@@ -84,15 +119,38 @@ struct SamplerShare {
 SamplerShare sampler_share(std::int64_t steps, std::int64_t samples);
 /// The share a sampler gets of `budget`: the sized burn-in and thinning when the budget
 /// was sized to the table, else sampler_share(budget.steps, budget.samples).
-SamplerShare sampler_share(const Budget& budget);
-Result<Budget> compare_budget(const CompareRequest& request);
+SamplerShare sampler_share(const CompareBudget& budget);
+Result<CompareBudget> compare_budget(const CompareRequest& request);
+
+/// The one line that says what every method gets ("every method: 4000 steps per chain x
+/// 4 chains (...)"), without its newline.
+std::string budget_line(const CompareRequest& request, const CompareBudget& budget);
 
 /// Trains every entry into out_dir/<file_stem>.h5 (overwriting), then assesses each on
 /// the test rows. A diverged or failed entry is reported in its outcome, not as an error;
-/// errors are bad input (exit 2) and I/O.
-Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request);
+/// errors are bad input (exit 2) and I/O. `budget`, when given, receives the budget
+/// every entry got.
+Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
+                                                CompareBudget* budget = nullptr);
 
 /// The runs that trained, for score_table / report_page.
 std::vector<MethodRun> trained_runs(const std::vector<CompareOutcome>& outcomes);
 
-}  // namespace credence::cli
+/// A whole comparison and what it leaves in out_dir.
+struct CompareSummary {
+  std::vector<CompareOutcome> outcomes;
+  std::string text;  // summary.txt: the score table, verdicts, failures, notes, cautions
+  /// summary.csv: the score table, one row per method that trained, with snake_case
+  /// headers and an empty cell for a number that does not apply (pandas reads numbers
+  /// as numbers).
+  std::string csv;
+  /// summary.json: one object with the budget, the data, the split and the per-method
+  /// rows ("methods"); docs/compare-files.md names every key.
+  std::string json;
+};
+
+/// run_compare, then summary.txt, summary.csv, summary.json and report.html written into
+/// out_dir (each atomically). kDiverged, listing why, when no method produced a usable run.
+Result<CompareSummary> run_compare_job(const CompareRequest& request);
+
+}  // namespace credence
