@@ -8,6 +8,7 @@
 
 #include "cli/commands.h"
 #include "cli/compare_flags.h"
+#include "cli/sweep_map.h"
 #include "credence/plot.h"
 
 namespace credence::cli {
@@ -16,6 +17,7 @@ namespace {
 struct SweepFlags {
   CompareFlags compare;
   std::string step_sizes = "1e-3:1:7";
+  TuningMapFlags map;  // --masses x --max-moves: rsghmc's tuning map (sweep_map.h)
 };
 
 // "0.001,0.01,0.1" or a log range "FROM:TO:COUNT" (COUNT values spaced evenly in log).
@@ -57,6 +59,9 @@ std::string num(double v, int digits = 4) {
 }
 
 Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
+  if (tuning_map_requested(flags.map)) {
+    return run_tuning_map(flags.map, flags.compare, flags.step_sizes, global);
+  }
   Result<std::vector<double>> rates = parse_step_sizes(flags.step_sizes);
   if (!rates.ok()) return rates.status();
   std::vector<Method> methods;
@@ -179,6 +184,7 @@ void add_sweep_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                   "Learning rates (mean-loss units, as train's --lr): a list 0.001,0.01 or a "
                   "log range FROM:TO:COUNT")
       ->capture_default_str();
+  add_tuning_map_flags(*sub, flags->map);
   commands.push_back({sub, [flags, &global] { return run_sweep(*flags, global); }});
 }
 

@@ -2,6 +2,7 @@
 // assessed on the same held-out rows, gathered for a table and a report.
 #pragma once
 
+#include <functional>
 #include <optional>
 #include <string>
 #include <vector>
@@ -46,6 +47,9 @@ struct CompareRequest {
   std::optional<std::uint64_t> chain_seed;
   bool quiet = false;
   std::string command_line;
+  /// Called with each entry's position in `entries` and its train request just before it
+  /// trains (sweep's tuning map sets a cell's mass and max move); empty: nothing changed.
+  std::function<void(std::size_t, TrainRequest&)> adjust_request;
 };
 
 /// The outcome of one entry: a loaded run, or why it has none.
