@@ -5,8 +5,8 @@
 // Colour alone never carries a number: every cell prints its value, and has a <title> a
 // screen reader or a hover shows. Colour runs from a pale ground (lowest value) to deep
 // cobalt (highest), one hue, so it reads the same under red-green colour blindness; the
-// text on each cell takes whichever of ink or white contrasts more with its fill. A cell
-// where a chain diverged is crossed out in rust and says so; a cell with no value is
+// text on each cell is ink, white or black, whichever reads at 4.5:1 or more on its fill. A cell
+// where a chain diverged is pale rust, crossed out, and says so (its value still printed); a cell with no value is
 // grey with a dash; the chosen cell gets a heavy ink frame. The legend names the marks,
 // and a bar under the plot spans the lowest to the highest value.
 //
@@ -50,6 +50,10 @@ std::string render_heat_map(const HeatMapChart& chart);
 
 /// The fill of a cell at `t` in [0, 1] of the value range ("#rrggbb"); t is clamped.
 std::string heat_colour(double t);
+
+/// The colour of text on a cell of `fill`: the chart ink, white or black, whichever gives a
+/// contrast of at least 4.5:1 (WCAG 2.1 success criterion 1.4.3), ink first, then white.
+std::string cell_text_colour(const std::string& fill);
 
 /// WCAG 2.1 contrast ratio (success criterion 1.4.3) of two "#rrggbb" colours, >= 1.
 double contrast_ratio(const std::string& a, const std::string& b);

@@ -22,6 +22,7 @@ constexpr std::array<double, 3> kLow = {0xf3, 0xed, 0xe0};
 constexpr std::array<double, 3> kHigh = {0x1f, 0x3c, 0x86};
 constexpr std::string_view kNoValueFill = "#d9d4ca";
 constexpr std::string_view kDivergedInk = "#792603";  // the palette's rust
+constexpr std::string_view kDivergedFill = "#f2e4dc";  // a pale rust: the value stays readable
 constexpr std::string_view kWhite = "#ffffff";
 
 std::array<double, 3> rgb(const std::string& hex) {
@@ -60,6 +61,16 @@ std::string heat_colour(double t) {
 double contrast_ratio(const std::string& a, const std::string& b) {
   const double la = luminance(a), lb = luminance(b);
   return (std::max(la, lb) + 0.05) / (std::min(la, lb) + 0.05);
+}
+
+std::string cell_text_colour(const std::string& fill) {
+  // Between the ramp's pale and dark ends lies a band where neither the warm ink nor white
+  // reaches 4.5:1; black does there (black or white always reaches 4.58:1 at least).
+  const double ink = contrast_ratio(fill, std::string(report::kInk));
+  const double white = contrast_ratio(fill, std::string(kWhite));
+  if (white >= 4.5 && white >= ink) return std::string(kWhite);
+  if (ink >= 4.5) return std::string(report::kInk);
+  return white >= contrast_ratio(fill, "#000000") ? std::string(kWhite) : "#000000";
 }
 
 std::string render_heat_map(const HeatMapChart& chart) {
@@ -126,7 +137,9 @@ std::string render_heat_map(const HeatMapChart& chart) {
       const double v = value_at(i);
       const bool finite = std::isfinite(v);
       const double t = finite && hi > lo ? (v - lo) / (hi - lo) : 0;  // all equal: pale
-      const std::string fill = finite ? heat_colour(t) : std::string(kNoValueFill);
+      const std::string fill = diverged_at(i) ? std::string(kDivergedFill)
+                               : finite       ? heat_colour(t)
+                                              : std::string(kNoValueFill);
       const double x0 = x(static_cast<double>(c)), y0 = y(static_cast<double>(r + 1));
       const bool chosen = chart.chosen == i;
       std::string described = fmt::format("{} {}, {} {}: {}", chart.y_label, chart.y_labels[r],
@@ -140,10 +153,7 @@ std::string render_heat_map(const HeatMapChart& chart) {
           i, diverged_at(i) ? " data-diverged=\"1\"" : "", chosen ? " data-chosen=\"1\"" : "",
           escape_markup(described), coord(x0), coord(y0), coord(cell_w), coord(cell_h), fill,
           report::kGround);
-      const std::string ink = contrast_ratio(fill, std::string(kWhite)) >
-                                      contrast_ratio(fill, std::string(report::kInk))
-                                  ? std::string(kWhite)
-                                  : std::string(report::kInk);
+      const std::string ink = cell_text_colour(fill);
       const double cx = x0 + cell_w / 2, cy = y0 + cell_h / 2;
       if (diverged_at(i)) {
         const double pad = std::min(cell_w, cell_h) * 0.18;
@@ -157,7 +167,7 @@ std::string render_heat_map(const HeatMapChart& chart) {
                  "font-weight=\"600\"");
       }
       doc.text(cx, cy + text_size / 3, value_text(v, chart.digits), "middle", text_size,
-               diverged_at(i) ? std::string_view(report::kInk) : std::string_view(ink));
+               ink);
       if (chosen) {
         b += fmt::format(
             "<rect class=\"chosen\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"none\" "
