@@ -3,11 +3,11 @@
 // threads at once.
 //
 // Colour alone never carries a number: every cell prints its value, and has a <title> a
-// screen reader or a hover shows. Colour runs from a pale ground (lowest value) to deep
-// cobalt (highest), one hue, so it reads the same under red-green colour blindness; the
+// screen reader or a hover shows. Colour runs from a pale ground (lowest value) through sky blue
+// to deep cobalt (highest), light to dark, so it reads under red-green colour blindness; the
 // text on each cell is ink, white or black, whichever reads at 4.5:1 or more on its fill. A cell
 // where a chain diverged is pale rust, crossed out, and says so (its value still printed); a cell with no value is
-// grey with a dash; the chosen cell gets a heavy ink frame. The legend names the marks,
+// white in a dashed frame, with a dash; the chosen cell gets a heavy ink frame. The legend names the marks,
 // and a bar under the plot spans the lowest to the highest value.
 //
 //   HeatMapChart map;

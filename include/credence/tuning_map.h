@@ -91,9 +91,15 @@ struct TuningCell {
   std::string run_file;       // the cell's run file name (in the output folder)
 };
 
-/// The chosen cell of `method`: among trained cells with no diverged chain and a finite
-/// ESS rate, the highest ESS per 1000 gradients; ties go to the lower test NLL, then to
-/// the earlier cell. Empty when no cell qualifies.
+/// How much worse than the best cell's test NLL a cell may predict and still be chosen:
+/// 0.01 nats, the tolerance the project's default checks use for "reaches the same NLL"
+/// (a credence choice, common practice, no outside source).
+inline constexpr double kTuningNllSlack = 0.01;
+
+/// The chosen cell of `method`: among trained cells with no diverged chain, a finite ESS
+/// rate and a test NLL within kTuningNllSlack of the lowest such NLL, the highest ESS per
+/// 1000 gradients; ties go to the lower test NLL, then to the earlier cell. Empty when no
+/// cell qualifies. (A fast-mixing cell that predicts clearly worse has not settled.)
 std::optional<std::size_t> choose_tuning_cell(const std::vector<TuningCell>& cells, Method method);
 
 /// The map as CSV (header line, one row per cell, numbers with 6 significant digits,

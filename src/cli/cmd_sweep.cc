@@ -73,8 +73,8 @@ Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
     if (m == Method::kRsghmc) {
       return Status::invalid_input(
           "--methods: sweep varies the learning rate, which rsghmc does not read (each "
-          "weight's move per step comes from --max-move); sweep rsgd, or train rsghmc with "
-          "several --max-move values");
+          "weight's move per step comes from --max-move); sweep rsgd, or map rsghmc with "
+          "--masses and --max-moves");
     }
   }
   for (Method m : methods) {

@@ -131,8 +131,8 @@ Status run_tuning_map(const TuningMapFlags& flags, const CompareFlags& compare_f
 
   TextTable table;
   table.column("method", ColumnAlign::kLeft).column("mass").column(by_move ? "max move" : "learning rate");
-  table.column("ESS / 1000 grads", ColumnAlign::kAuto, BestValue::kHighest);
-  table.column("mean |v|/c").column("test NLL", ColumnAlign::kAuto, BestValue::kLowest);
+  // No per-column highlight: the chosen column names the one cell the rule picks.
+  table.column("ESS / 1000 grads").column("mean |v|/c").column("test NLL");
   table.column("diverged chains").column("chosen", ColumnAlign::kLeft);
   for (std::size_t i = 0; i < cells.size(); ++i) {
     const TuningCell& c = cells[i];

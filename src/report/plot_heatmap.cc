@@ -16,11 +16,13 @@ namespace {
 using report::Area;
 using report::coord;
 
-// The ramp's ends: a pale warm ground and a deep cobalt (the palette's first colour,
-// darkened), so the lowest value is light and the highest dark.
-constexpr std::array<double, 3> kLow = {0xf3, 0xed, 0xe0};
-constexpr std::array<double, 3> kHigh = {0x1f, 0x3c, 0x86};
-constexpr std::string_view kNoValueFill = "#d9d4ca";
+// The ramp: a pale warm ground, a light sky blue, then a deep cobalt (the palette's first
+// colour, darkened), so the lowest value is light and the highest dark. The middle stop
+// keeps the blend blue: straight from the warm ground to cobalt it passes through greys.
+constexpr std::array<std::array<double, 3>, 3> kStops = {{{0xf3, 0xed, 0xe0},
+                                                         {0x9c, 0xb8, 0xe0},
+                                                         {0x1f, 0x3c, 0x86}}};
+constexpr std::string_view kNoValueFill = "#ffffff";  // white with a dashed frame
 constexpr std::string_view kDivergedInk = "#792603";  // the palette's rust
 constexpr std::string_view kDivergedFill = "#f2e4dc";  // a pale rust: the value stays readable
 constexpr std::string_view kWhite = "#ffffff";
@@ -53,8 +55,12 @@ std::string value_text(double v, int digits) {
 
 std::string heat_colour(double t) {
   t = std::isfinite(t) ? std::clamp(t, 0.0, 1.0) : 0.0;
+  const std::size_t low = t < 0.5 ? 0 : 1;
+  const double u = (t - 0.5 * static_cast<double>(low)) * 2;
   int c[3];
-  for (std::size_t i = 0; i < 3; ++i) c[i] = static_cast<int>(std::lround(kLow[i] + t * (kHigh[i] - kLow[i])));
+  for (std::size_t i = 0; i < 3; ++i) {
+    c[i] = static_cast<int>(std::lround(kStops[low][i] + u * (kStops[low + 1][i] - kStops[low][i])));
+  }
   return fmt::format("#{:02x}{:02x}{:02x}", c[0], c[1], c[2]);
 }
 
@@ -129,7 +135,7 @@ std::string render_heat_map(const HeatMapChart& chart) {
   std::string& b = doc.body();
   const double cell_w = area.width() / static_cast<double>(columns);
   const double cell_h = area.height() / static_cast<double>(rows);
-  const double text_size = std::min(report::kLabelSize, std::max(8.0, cell_h / 3));
+  const double text_size = report::kLabelSize;  // the one text scale (plot_svg.h)
   b += "<g class=\"heat-cells\">\n";
   for (std::size_t r = 0; r < rows; ++r) {
     for (std::size_t c = 0; c < columns; ++c) {
@@ -149,10 +155,11 @@ std::string render_heat_map(const HeatMapChart& chart) {
       if (chosen) described += "; the chosen cell";
       b += fmt::format(
           "<g class=\"heat-cell\" data-cell=\"{}\"{}{}><title>{}</title>\n"
-          "<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\" stroke=\"{}\"/>\n",
+          "<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\" stroke=\"{}\"{}/>\n",
           i, diverged_at(i) ? " data-diverged=\"1\"" : "", chosen ? " data-chosen=\"1\"" : "",
           escape_markup(described), coord(x0), coord(y0), coord(cell_w), coord(cell_h), fill,
-          report::kGround);
+          finite || diverged_at(i) ? report::kGround : report::kMuted,
+          finite || diverged_at(i) ? "" : " stroke-dasharray=\"4 3\"");
       const std::string ink = cell_text_colour(fill);
       const double cx = x0 + cell_w / 2, cy = y0 + cell_h / 2;
       if (diverged_at(i)) {

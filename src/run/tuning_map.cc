@@ -4,6 +4,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdlib>
 #include <limits>
@@ -26,7 +27,8 @@ std::string_view tuning_axis_name(TuningAxis axis) {
 
 std::string_view tuning_choice_rule() {
   return "the highest bulk-ESS of the probe log-likelihood per 1000 gradient evaluations "
-         "among cells where no chain diverged (ties: the lower test NLL)";
+         "among cells where no chain diverged and whose test NLL is within 0.01 nats of the "
+         "best such cell's (ties: the lower test NLL)";
 }
 
 Result<std::vector<double>> parse_positive_values(const std::string& text, std::string_view flag) {
@@ -139,22 +141,27 @@ TuningMeasures tuning_measures(const std::optional<RunDiagnostics>& diagnostics,
 }
 
 std::optional<std::size_t> choose_tuning_cell(const std::vector<TuningCell>& cells, Method method) {
+  const auto eligible = [&](const TuningCell& c) {
+    return c.method == method && c.trained && c.measures.diverged_chains == 0 &&
+           std::isfinite(c.measures.ess_per_1000_grads) && std::isfinite(c.measures.test_nll);
+  };
+  double best_nll = std::numeric_limits<double>::infinity();
+  for (const TuningCell& c : cells) {
+    if (eligible(c)) best_nll = std::min(best_nll, c.measures.test_nll);
+  }
   std::optional<std::size_t> best;
   for (std::size_t i = 0; i < cells.size(); ++i) {
-    const TuningCell& c = cells[i];
-    const TuningMeasures& m = c.measures;
-    if (c.method != method || !c.trained || m.diverged_chains > 0 ||
-        !std::isfinite(m.ess_per_1000_grads)) {
-      continue;
-    }
+    const TuningMeasures& m = cells[i].measures;
+    // A fast cell whose ensemble predicts worse has not settled: mixing speed counts only
+    // among cells that predict about as well as the best one.
+    if (!eligible(cells[i]) || m.test_nll > best_nll + kTuningNllSlack) continue;
     if (!best) {
       best = i;
       continue;
     }
     const TuningMeasures& b = cells[*best].measures;
-    const bool lower_nll = std::isfinite(m.test_nll) && (!std::isfinite(b.test_nll) || m.test_nll < b.test_nll);
     if (m.ess_per_1000_grads > b.ess_per_1000_grads ||
-        (m.ess_per_1000_grads == b.ess_per_1000_grads && lower_nll)) {
+        (m.ess_per_1000_grads == b.ess_per_1000_grads && m.test_nll < b.test_nll)) {
       best = i;
     }
   }

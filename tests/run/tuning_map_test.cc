@@ -105,6 +105,16 @@ TuningCell cell(double mass, double ess_rate, double nll, int diverged) {
   return c;
 }
 
+TEST(TuningChoice, FastButWorsePredictingCellsAreNotChosen) {
+  // 0.305 is within 0.01 of the best 0.3; 0.32 is not, however fast it mixes.
+  std::vector<TuningCell> cells = {cell(1, 50, 0.32, 0), cell(2, 3, 0.3, 0), cell(3, 5, 0.305, 0)};
+  EXPECT_EQ(choose_tuning_cell(cells, Method::kRsghmc), 2u);
+  cells[1].measures.diverged_chains = 1;  // the best NLL no longer counts: 0.305 is the bar
+  EXPECT_EQ(choose_tuning_cell(cells, Method::kRsghmc), 2u);
+  cells[2].measures.test_nll = 0.33;  // now 0.32 is the best that qualifies
+  EXPECT_EQ(choose_tuning_cell(cells, Method::kRsghmc), 0u);
+}
+
 TEST(TuningChoice, HighestEssRateWithoutDivergenceTiesToLowerNll) {
   std::vector<TuningCell> cells = {cell(0.1, 9, 0.5, 1),   // fastest, but a chain diverged
                                    cell(1, 4, 0.4, 0), cell(10, 4, 0.3, 0), cell(100, kNaN, 0.1, 0)};
