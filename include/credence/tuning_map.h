@@ -47,7 +47,7 @@ struct TuningGrid {
 
 /// Parses "0.1,1,10" (or a log range "FROM:TO:COUNT", COUNT values spaced evenly in log,
 /// 2 <= COUNT <= 50) into positive finite numbers. kInvalidInput names `flag` and says
-/// what to give.
+/// what to give. sweep's --step-sizes, --masses and --max-moves all read this way.
 Result<std::vector<double>> parse_positive_values(const std::string& text, std::string_view flag);
 
 /// The grid of `masses_text` x (`max_moves_text`, or else `step_sizes_text`) for

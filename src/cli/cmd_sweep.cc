@@ -4,11 +4,11 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
-#include <sstream>
 
 #include "cli/commands.h"
 #include "cli/compare_flags.h"
 #include "cli/sweep_map.h"
+#include "credence/tuning_map.h"
 #include "credence/plot.h"
 
 namespace credence::cli {
@@ -20,40 +20,6 @@ struct SweepFlags {
   TuningMapFlags map;  // --masses x --max-moves: rsghmc's tuning map (sweep_map.h)
 };
 
-// "0.001,0.01,0.1" or a log range "FROM:TO:COUNT" (COUNT values spaced evenly in log).
-Result<std::vector<double>> parse_step_sizes(const std::string& text) {
-  std::vector<double> out;
-  const auto bad = [&] {
-    return Status::invalid_input(fmt::format(
-        "--step-sizes '{}': give positive numbers like 0.001,0.01,0.1 or a log range "
-        "FROM:TO:COUNT like 1e-3:1:7",
-        text));
-  };
-  if (text.find(':') != std::string::npos) {
-    double from = 0, to = 0;
-    long count = 0;
-    char c1 = 0, c2 = 0;
-    std::istringstream in(text);
-    if (!(in >> from >> c1 >> to >> c2 >> count) || c1 != ':' || c2 != ':' || !(from > 0) ||
-        !(to > from) || count < 2 || count > 50 || !in.eof()) {
-      return bad();
-    }
-    for (long i = 0; i < count; ++i) {
-      out.push_back(from * std::pow(to / from, static_cast<double>(i) / static_cast<double>(count - 1)));
-    }
-    return out;
-  }
-  std::stringstream stream(text);
-  for (std::string piece; std::getline(stream, piece, ',');) {
-    char* end = nullptr;
-    const double v = std::strtod(piece.c_str(), &end);
-    if (piece.empty() || *end != '\0' || !(v > 0) || !std::isfinite(v)) return bad();
-    out.push_back(v);
-  }
-  if (out.empty()) return bad();
-  return out;
-}
-
 std::string num(double v, int digits = 4) {
   return std::isfinite(v) ? fmt::format("{:.{}f}", v, digits) : "-";
 }
@@ -62,7 +28,7 @@ Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
   if (tuning_map_requested(flags.map)) {
     return run_tuning_map(flags.map, flags.compare, flags.step_sizes, global);
   }
-  Result<std::vector<double>> rates = parse_step_sizes(flags.step_sizes);
+  Result<std::vector<double>> rates = parse_positive_values(flags.step_sizes, "--step-sizes");
   if (!rates.ok()) return rates.status();
   std::vector<Method> methods;
   Result<CompareRequest> request = compare_request(flags.compare, methods);

@@ -35,14 +35,7 @@ def close(a, b, rel=1e-6):
 
 def measure(path):
     f = h5py.File(path, "r")
-    slot = f["checkpoint/slot_%d" % int(f["run/active_slot"][0])]
-    s_count = int(slot["committed_samples"][0])
-    chains_n = int(f["sampling"].attrs["chains"])
-    chain = f["samples/chain"][:s_count]
-    index = f["samples/index"][:s_count]
-    order = [np.where(chain == c)[0][np.argsort(index[chain == c], kind="stable")]
-             for c in range(chains_n)]
-    n = min(len(o) for o in order)
+    slot, s_count, chains_n, order, n = numpy_rhat.kept_order(f)
     log_lik = f["samples/probe_log_lik"][:s_count]
     ess = numpy_rhat.diagnose(np.array([log_lik[o[:n]] for o in order], dtype=np.float64))["ess_bulk"]
     grads = float(np.sum(slot["gradient_evals"][:]))
