@@ -53,8 +53,9 @@ Result<std::vector<double>> parse_positive_values(const std::string& text, std::
 /// The grid of `masses_text` x (`max_moves_text`, or else `step_sizes_text`) for
 /// `methods`. kInvalidInput, one message, when a method is not rsghmc (rhmc takes full-data
 /// steps with no minibatch budget to share; rsgd is an optimizer with nothing to sample;
-/// the others read no mass), when both second axes are given, when --masses is missing, or
-/// when a list is malformed.
+/// the others read no mass), when both second axes are given, when --masses is missing,
+/// when a list is malformed, or when two values of a list agree to 4 significant digits
+/// (which name the cells and their run files).
 Result<TuningGrid> parse_tuning_grid(const std::string& masses_text,
                                      const std::string& max_moves_text,
                                      const std::string& step_sizes_text,

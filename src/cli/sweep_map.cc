@@ -13,7 +13,7 @@
 namespace credence::cli {
 namespace {
 
-std::string short_number(double v) { return fmt::format("{:.3g}", v); }
+std::string short_number(double v) { return fmt::format("{:.4g}", v); }  // as the grid tells apart
 
 std::string cell_text(double v, int digits) {
   return std::isfinite(v) ? fmt::format("{:.{}g}", v, digits) : "-";
@@ -90,8 +90,10 @@ Status run_tuning_map(const TuningMapFlags& flags, const CompareFlags& compare_f
         CompareEntry entry;
         entry.method = m;
         if (!by_move) entry.learning_rate = v;
-        entry.label = fmt::format("{} m={:.3g} {}={:.3g}", name, mass, by_move ? "max move" : "lr", v);
-        entry.file_stem = fmt::format("{}_m{:.3g}_{}{:.3g}", name, mass, by_move ? "mm" : "lr", v);
+        entry.label = fmt::format("{} m={} {}={}", name, short_number(mass),
+                                  by_move ? "max move" : "lr", short_number(v));
+        entry.file_stem = fmt::format("{}_m{}_{}{}", name, short_number(mass), by_move ? "mm" : "lr",
+                                      short_number(v));
         TuningCell cell;
         cell.method = m;
         cell.mass = mass;

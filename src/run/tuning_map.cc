@@ -64,6 +64,26 @@ Result<std::vector<double>> parse_positive_values(const std::string& text, std::
   return out;
 }
 
+namespace {
+
+// Cells are named by their values at 4 significant digits (run files, labels, heat-map
+// ticks), so two values alike at that precision would overwrite each other's run file.
+Status refuse_lookalikes(const std::vector<double>& values, std::string_view flag) {
+  for (std::size_t i = 0; i < values.size(); ++i) {
+    for (std::size_t j = 0; j < i; ++j) {
+      if (fmt::format("{:.4g}", values[i]) == fmt::format("{:.4g}", values[j])) {
+        return Status::invalid_input(fmt::format(
+            "{}: {} and {} are the same to 4 significant digits, which name the map's cells "
+            "and run files; give each value once",
+            flag, values[j], values[i]));
+      }
+    }
+  }
+  return Status::ok_status();
+}
+
+}  // namespace
+
 Result<TuningGrid> parse_tuning_grid(const std::string& masses_text,
                                      const std::string& max_moves_text,
                                      const std::string& step_sizes_text,
@@ -100,6 +120,7 @@ Result<TuningGrid> parse_tuning_grid(const std::string& masses_text,
   grid.methods = methods;
   Result<std::vector<double>> masses = parse_positive_values(masses_text, "--masses");
   if (!masses.ok()) return masses.status();
+  CREDENCE_RETURN_IF_ERROR(refuse_lookalikes(*masses, "--masses"));
   grid.masses = std::move(*masses);
   grid.axis = step_sizes_text.empty() ? TuningAxis::kMaxMove : TuningAxis::kStepSize;
   const std::string& second = step_sizes_text.empty() ? max_moves_text : step_sizes_text;
@@ -110,6 +131,8 @@ Result<TuningGrid> parse_tuning_grid(const std::string& masses_text,
   Result<std::vector<double>> values = parse_positive_values(
       second, grid.axis == TuningAxis::kMaxMove ? "--max-moves" : "--step-sizes");
   if (!values.ok()) return values.status();
+  CREDENCE_RETURN_IF_ERROR(refuse_lookalikes(
+      *values, grid.axis == TuningAxis::kMaxMove ? "--max-moves" : "--step-sizes"));
   grid.values = std::move(*values);
   return grid;
 }

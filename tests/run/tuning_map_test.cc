@@ -49,6 +49,9 @@ TEST(TuningGrid, RefusesWhatItCannotMap) {
       {"1,", "0.01", "", {Method::kRsghmc}, "--masses '1,'"},
       {"1", "0.01,nan", "", {Method::kRsghmc}, "--max-moves"},
       {"1", "1:0.1:3", "", {Method::kRsghmc}, "--max-moves '1:0.1:3'"},
+      // Would name the same run file twice (4 significant digits name the cells).
+      {"1,0.10001,0.1", "0.01", "", {Method::kRsghmc}, "--masses: 0.10001 and 0.1"},
+      {"1", "0.01,0.01", "", {Method::kRsghmc}, "the same to 4 significant digits"},
   };
   for (const Case& c : cases) {
     Result<TuningGrid> grid = parse_tuning_grid(c.masses, c.moves, c.steps, c.methods);
