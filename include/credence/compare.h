@@ -61,6 +61,9 @@ struct CompareRequest {
   /// empty.
   std::function<void(const std::string&)> on_budget;
   std::string command_line;  // stored in every run file's provenance
+  /// Called with each entry's position in `entries` and its train request just before it
+  /// trains (sweep's tuning map sets a cell's mass and max move); empty: nothing changed.
+  std::function<void(std::size_t, TrainRequest&)> adjust_request;
 };
 
 /// An entry for `method` at its default learning rate, labelled and named by the method.

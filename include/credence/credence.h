@@ -15,6 +15,7 @@
 #include "credence/net.h"
 #include "credence/posterior.h"
 #include "credence/plot.h"
+#include "credence/plot_heatmap.h"
 #include "credence/html_report.h"
 #include "credence/assess.h"
 #include "credence/predict.h"
@@ -28,4 +29,5 @@
 #include "credence/synth.h"
 #include "credence/table_potential.h"
 #include "credence/train.h"
+#include "credence/tuning_map.h"
 #include "credence/version.h"

@@ -34,4 +34,20 @@ struct SweepSummary {
 /// sweep.csv, sweep.json, nll.svg, ece.svg and report.html into compare.out_dir.
 Result<SweepSummary> run_sweep_job(SweepRequest request);
 
+/// rsghmc's tuning map: every cell of masses x (max moves or learning rates) trained
+/// through the comparison's split and budget (tuning_map.h holds the grid and measures).
+struct TuningMapRequest {
+  /// The comparison every cell shares; its entries are filled by run_tuning_map_job.
+  CompareRequest compare;
+  std::vector<Method> methods;  // only rsghmc is mapped; others are refused
+  std::string masses;           // --masses: a list or FROM:TO:COUNT
+  std::string max_moves;        // --max-moves; empty when step_sizes is the second axis
+  std::string step_sizes;       // --step-sizes, only when given
+};
+
+/// Checks the grid (nothing is trained or written when it is refused), trains every cell
+/// and writes tuning_map.csv, tuning_map.json, one heat map per measure and method
+/// (<method>_<measure>.svg), sweep.txt and report.html into compare.out_dir.
+Result<SweepSummary> run_tuning_map_job(TuningMapRequest request);
+
 }  // namespace credence

@@ -3,6 +3,7 @@
 
 #include "cli/commands.h"
 #include "cli/compare_flags.h"
+#include "cli/sweep_map.h"
 #include "credence/sweep.h"
 
 namespace credence::cli {
@@ -11,9 +12,13 @@ namespace {
 struct SweepFlags {
   CompareFlags compare;
   std::string step_sizes = "1e-3:1:7";
+  TuningMapFlags map;  // --masses x --max-moves: rsghmc's tuning map (sweep_map.h)
 };
 
 Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {
+  if (tuning_map_requested(flags.map)) {
+    return run_tuning_map(flags.map, flags.compare, flags.step_sizes, global);
+  }
   SweepRequest request;
   Result<std::vector<double>> rates = parse_step_sizes(flags.step_sizes);
   if (!rates.ok()) return rates.status();
@@ -43,6 +48,7 @@ void add_sweep_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                   "Learning rates (mean-loss units, as train's --lr): a list 0.001,0.01 or a "
                   "log range FROM:TO:COUNT")
       ->capture_default_str();
+  add_tuning_map_flags(*sub, flags->map);
   commands.push_back({sub, [flags, &global] { return run_sweep(*flags, global); }});
 }
 

@@ -33,7 +33,7 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       {"--friction", "method"}, {"--max-move", "method"}, {"--speed", "method"},
       {"--mass", "method"}, {"--fixed-mass", "method"}, {"--leapfrog", "method"},
       {"--target-accept", "method"}, {"--temperature-scale", "method"},
-      {"--exploration", "method"},
+      {"--exploration", "method"}, {"--masses", "method"}, {"--max-moves", "method"},
       // Budget: how much work, on how many chains and threads.
       {"--chains", "budget"}, {"--burn-in", "budget"}, {"--thin", "budget"},
       {"--samples", "budget"}, {"--batch", "budget"}, {"--steps", "budget"},
@@ -67,6 +67,7 @@ const std::map<std::string_view, std::string_view>& flag_values() {
       {"--na", "TEXT,..."}, {"--out", "PATH"}, {"--json", "FILE"}, {"--plot", "FILE"},
       {"--truth", "FILE"}, {"--resume", "RUN.h5"}, {"--net", "FILE"}, {"--hidden", "W,W,..."},
       {"--methods", "NAME,..."}, {"--step-sizes", "LIST|FROM:TO:N"},
+      {"--masses", "LIST|FROM:TO:N"}, {"--max-moves", "LIST|FROM:TO:N"},
       {"--save-temperature", "RUN.h5"}, {"--max-memory", "SIZE"},
   };
   return table;
@@ -304,7 +305,10 @@ std::vector<HelpExample> help_examples(std::string_view command) {
       {"sweep",
        {{"how robust each method is to its learning rate",
          "credence sweep demo.csv --target fault_14d --id unit_id --impute median "
-         "--methods sgld,sghmc --step-sizes 1e-3:1:7 --out swp"}}},
+         "--methods sgld,sghmc --step-sizes 1e-3:1:7 --out swp"},
+        {"rsghmc's tuning map: rest mass against the largest move per step",
+         "credence sweep demo.csv --target fault_14d --id unit_id --impute median "
+         "--masses 0.01:10:4 --max-moves 0.003,0.01,0.03 --out map"}}},
       {"report",
        {{"one HTML page about a run", "credence report run.h5 demo.csv --out report.html"}}},
       {"inspect", {{"what a run file holds", "credence inspect run.h5"}}},

@@ -154,6 +154,9 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
     CompareOutcome outcome;
     outcome.entry = entry;
     TrainRequest train = request_for(request, entry, *budget);
+    if (request.adjust_request) {
+      request.adjust_request(static_cast<std::size_t>(&entry - request.entries.data()), train);
+    }
     outcome.run_path = train.out_path;
     if (is_sampler(entry.method)) {
       outcome.budget_note = sampler_share(*budget).note;

@@ -8,6 +8,7 @@
 #include <sstream>
 
 #include "credence/sweep.h"
+#include "credence/tuning_map.h"
 #include "util/atomic_file.h"
 
 namespace credence {
@@ -91,36 +92,7 @@ SweepCharts tabulate(const SweepRequest& request, const std::vector<CompareOutco
 }  // namespace
 
 Result<std::vector<double>> parse_step_sizes(const std::string& text) {
-  std::vector<double> out;
-  const auto bad = [&] {
-    return Status::invalid_input(fmt::format(
-        "--step-sizes '{}': give positive numbers like 0.001,0.01,0.1 or a log range "
-        "FROM:TO:COUNT like 1e-3:1:7",
-        text));
-  };
-  if (text.find(':') != std::string::npos) {
-    double from = 0, to = 0;
-    long count = 0;
-    char c1 = 0, c2 = 0;
-    std::istringstream in(text);
-    if (!(in >> from >> c1 >> to >> c2 >> count) || c1 != ':' || c2 != ':' || !(from > 0) ||
-        !(to > from) || count < 2 || count > 50 || !in.eof()) {
-      return bad();
-    }
-    for (long i = 0; i < count; ++i) {
-      out.push_back(from * std::pow(to / from, static_cast<double>(i) / static_cast<double>(count - 1)));
-    }
-    return out;
-  }
-  std::stringstream stream(text);
-  for (std::string piece; std::getline(stream, piece, ',');) {
-    char* end = nullptr;
-    const double v = std::strtod(piece.c_str(), &end);
-    if (piece.empty() || *end != '\0' || !(v > 0) || !std::isfinite(v)) return bad();
-    out.push_back(v);
-  }
-  if (out.empty()) return bad();
-  return out;
+  return parse_positive_values(text, "--step-sizes");  // as the tuning map's axes
 }
 
 Result<SweepSummary> run_sweep_job(SweepRequest request) {
@@ -131,8 +103,8 @@ Result<SweepSummary> run_sweep_job(SweepRequest request) {
     if (m == Method::kRsghmc) {
       return Status::invalid_input(
           "--methods: sweep varies the learning rate, which rsghmc does not read (each "
-          "weight's move per step comes from --max-move); sweep rsgd, or train rsghmc with "
-          "several --max-move values");
+          "weight's move per step comes from --max-move); sweep rsgd, or map rsghmc with "
+          "--masses and --max-moves");
     }
   }
   CompareRequest& compare = request.compare;

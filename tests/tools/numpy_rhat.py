@@ -117,21 +117,26 @@ def main_chains(path):
         print("acf_%d" % m, *[fmt(v) for v in a / a[0]])
 
 
-def main_run(path):
-    import h5py
-    try:
-        f = h5py.File(path, "r")
-    except OSError:
-        f = h5py.File(path, "r", swmr=True)
-    active = int(f["run/active_slot"][0])
-    slot = f["checkpoint/slot_%d" % active]
+def kept_order(f):
+    """(active checkpoint slot, committed samples, chains, per-chain row order by kept
+    number, the shortest chain's length) of an open run file."""
+    slot = f["checkpoint/slot_%d" % int(f["run/active_slot"][0])]
     s_count = int(slot["committed_samples"][0])
     chains_n = int(f["sampling"].attrs["chains"])
     chain = f["samples/chain"][:s_count]
     index = f["samples/index"][:s_count]
     order = [np.where(chain == c)[0][np.argsort(index[chain == c], kind="stable")]
              for c in range(chains_n)]
-    n = min(len(o) for o in order)
+    return slot, s_count, chains_n, order, min(len(o) for o in order)
+
+
+def main_run(path):
+    import h5py
+    try:
+        f = h5py.File(path, "r")
+    except OSError:
+        f = h5py.File(path, "r", swmr=True)
+    slot, s_count, chains_n, order, n = kept_order(f)
 
     def by_chain(values):                                  # values: (S,)
         return np.array([values[o[:n]] for o in order], dtype=np.float64)
