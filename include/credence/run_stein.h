@@ -39,8 +39,8 @@ class PosteriorScore {
   /// (fixed or learned scale). invalid_input when T <= 0 (the target is a point), or on
   /// bad shapes or a bad prior.
   static Result<PosteriorScore> create(const ParamLayout& layout, const PriorSpec& prior,
-                                       double temperature, Tempering tempering,
-                                       Eigen::MatrixXd x, std::vector<std::int32_t> labels);
+                                       double temperature, Tempering tempering, Eigen::MatrixXd x,
+                                       std::vector<std::int32_t> labels);
   PosteriorScore(PosteriorScore&&) noexcept;
   PosteriorScore& operator=(PosteriorScore&&) noexcept;
   ~PosteriorScore();
@@ -79,23 +79,23 @@ struct SteinSettings {
 /// The discrepancy of one chain's draws.
 struct ChainStein {
   int chain = 0;
-  std::int64_t kept = 0;      // committed kept samples of the chain
-  SteinDiscrepancy ksd;       // over the draws used (ksd.draws of them)
+  std::int64_t kept = 0;  // committed kept samples of the chain
+  SteinDiscrepancy ksd;   // over the draws used (ksd.draws of them)
 };
 
 /// What run_stein_discrepancy found; `computed` false with a note when it was skipped.
 struct RunStein {
   bool computed = false;
-  std::string note;                  // why skipped, or empty
-  std::string target;                // which score was used, in words
-  std::vector<ChainStein> chains;    // per chain with kept samples
-  SteinDiscrepancy pooled;           // every chain's draws used, together
-  std::int64_t train_rows = 0;       // N
-  std::int64_t parameters = 0;       // P
+  std::string note;                      // why skipped, or empty
+  std::string target;                    // which score was used, in words
+  std::vector<ChainStein> chains;        // per chain with kept samples
+  SteinDiscrepancy pooled;               // every chain's draws used, together
+  std::int64_t train_rows = 0;           // N
+  std::int64_t parameters = 0;           // P
   std::int64_t max_draws_per_chain = 0;  // the cap applied
-  SteinKernel kernel;                // the IMQ constants used
-  double work = 0;                   // n x P x (N + n), the quantity capped
-  double seconds = 0;                // wall time of the computation
+  SteinKernel kernel;                    // the IMQ constants used
+  double work = 0;                       // n x P x (N + n), the quantity capped
+  double seconds = 0;                    // wall time of the computation
 };
 
 /// The score of the distribution `run`'s chains target, over the training rows of the table

@@ -1,5 +1,7 @@
 // run_stein_discrepancy: a run's kept samples, their full-data scores, and the IMQ
 // discrepancy per chain and pooled (include/credence/run_stein.h).
+#include "credence/run_stein.h"
+
 #include <fmt/format.h>
 
 #include <algorithm>
@@ -8,7 +10,6 @@
 
 #include "credence/data.h"
 #include "credence/run_settings.h"
-#include "credence/run_stein.h"
 
 namespace credence {
 namespace {
@@ -53,8 +54,7 @@ std::vector<std::int64_t> evenly_spaced_draws(std::int64_t kept, std::int64_t ca
   return positions;
 }
 
-Result<PosteriorScore> posterior_score_of_run(const RunReader& run,
-                                             const std::string& data_path) {
+Result<PosteriorScore> posterior_score_of_run(const RunReader& run, const std::string& data_path) {
   const RunHeader& header = run.header();
   TrainSettings train;
   ReadOptions read;
@@ -92,9 +92,10 @@ Result<RunStein> run_stein_discrepancy(const RunReader& run, const SteinSettings
   CREDENCE_RETURN_IF_ERROR(from_values(header.settings, train, read));
   if (settings.max_draws_per_chain <= 0) return skipped("not computed (--ksd-draws 0)");
   if (!is_sampler(train.sampler.method)) {
-    return skipped(fmt::format("not computed: {} is an optimizer, so each chain is one point, "
-                               "not draws from a distribution",
-                               method_name(train.sampler.method)));
+    return skipped(
+        fmt::format("not computed: {} is an optimizer, so each chain is one point, "
+                    "not draws from a distribution",
+                    method_name(train.sampler.method)));
   }
   if (!(train.sampler.temperature > 0)) {
     return skipped("not computed: at temperature 0 the target is a point, not a distribution");
@@ -128,8 +129,7 @@ Result<RunStein> run_stein_discrepancy(const RunReader& run, const SteinSettings
   out.max_draws_per_chain = settings.max_draws_per_chain;
   out.kernel = settings.kernel;
   const auto nn = static_cast<double>(n);
-  out.work = nn * static_cast<double>(out.parameters) *
-             (static_cast<double>(out.train_rows) + nn);
+  out.work = nn * static_cast<double>(out.parameters) * (static_cast<double>(out.train_rows) + nn);
   if (out.work > settings.max_work) {
     RunStein s = skipped(fmt::format(
         "not computed: {} draws x {} parameters x ({} training rows + {} draws) = {:.3g} "

@@ -11,8 +11,8 @@ namespace credence {
 
 struct PosteriorScore::Impl {
   Potential<double> potential;
-  Eigen::MatrixXd x;                  // (D, N)
-  std::vector<std::int32_t> labels;   // (N)
+  Eigen::MatrixXd x;                 // (D, N)
+  std::vector<std::int32_t> labels;  // (N)
   double temperature = 1;
   Tempering tempering = Tempering::kWholePosterior;
   bool learned = false;
@@ -20,8 +20,8 @@ struct PosteriorScore::Impl {
   // log p(theta_b) = -A_b log(r_b + ||theta_b||^2 / 2) + const.
   std::vector<double> exponent;
   std::vector<double> rate;
-  Eigen::VectorXd gradient;           // (P) workspace for grad U
-  Eigen::VectorXd fixed_prior;        // (P) lambda theta of the fixed prior
+  Eigen::VectorXd gradient;     // (P) workspace for grad U
+  Eigen::VectorXd fixed_prior;  // (P) lambda theta of the fixed prior
 
   // The factor on the summed log-likelihood that the potential leaves out: 1/T under
   // whole-posterior tempering (U is untempered), 1 under likelihood tempering (the
@@ -40,17 +40,15 @@ bool PosteriorScore::learned_prior() const { return impl_->learned; }
 
 Result<PosteriorScore> PosteriorScore::create(const ParamLayout& layout, const PriorSpec& prior,
                                               double temperature, Tempering tempering,
-                                              Eigen::MatrixXd x,
-                                              std::vector<std::int32_t> labels) {
+                                              Eigen::MatrixXd x, std::vector<std::int32_t> labels) {
   if (!(temperature > 0) || !std::isfinite(temperature)) {
     return Status::invalid_input(fmt::format(
-        "Stein score: temperature {}; the target is a distribution only for T > 0",
-        temperature));
+        "Stein score: temperature {}; the target is a distribution only for T > 0", temperature));
   }
   if (x.cols() < 1 || x.cols() != static_cast<Index>(labels.size())) {
-    return Status::invalid_input(fmt::format(
-        "Stein score: {} training columns and {} labels; give one label per row", x.cols(),
-        labels.size()));
+    return Status::invalid_input(
+        fmt::format("Stein score: {} training columns and {} labels; give one label per row",
+                    x.cols(), labels.size()));
   }
   PotentialSettings settings;
   settings.num_train_rows = x.cols();
@@ -60,9 +58,16 @@ Result<PosteriorScore> PosteriorScore::create(const ParamLayout& layout, const P
   settings.learn_prior_scale = false;  // the precisions stay at the spec's fixed values
   Result<Potential<double>> potential = Potential<double>::create(layout, prior, settings);
   if (!potential.ok()) return potential.status();
-  auto impl = std::unique_ptr<Impl>(new Impl{std::move(*potential), std::move(x),
-                                             std::move(labels), temperature, tempering,
-                                             prior.learn_scale, {}, {}, {}, {}});
+  auto impl = std::unique_ptr<Impl>(new Impl{std::move(*potential),
+                                             std::move(x),
+                                             std::move(labels),
+                                             temperature,
+                                             tempering,
+                                             prior.learn_scale,
+                                             {},
+                                             {},
+                                             {},
+                                             {}});
   if (impl->learned) {
     // docs/methods.md section 11: integrating lambda_b ~ Gamma(a, r) out of the (tempered)
     // joint leaves (r + ||theta_b||^2/2)^(-A_b), A_b = (a - 1 + d_b/2)/T + 1 under
@@ -73,9 +78,8 @@ Result<PosteriorScore> PosteriorScore::create(const ParamLayout& layout, const P
       const double d = static_cast<double>(p.block_size(b));
       const double lambda = p.block_precisions()[static_cast<std::size_t>(b)];
       impl->rate.push_back(prior.hyper_rate ? *prior.hyper_rate : a / lambda);
-      impl->exponent.push_back(tempering == Tempering::kWholePosterior
-                                   ? (a - 1 + d / 2) / temperature + 1
-                                   : a + d / 2);
+      impl->exponent.push_back(
+          tempering == Tempering::kWholePosterior ? (a - 1 + d / 2) / temperature + 1 : a + d / 2);
     }
   }
   return PosteriorScore(std::move(impl));

@@ -9,6 +9,7 @@
 
 #include "util/json.h"
 #include "report/verdict_output.h"
+#include "report/stein_output.h"
 #include "credence/plot.h"
 #include "credence/version.h"
 #include "report/verdict_section.h"
@@ -272,6 +273,9 @@ void diagnostics_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
                             run.label),
                 NoteKind::kWarning);
     }
+  }
+  for (const MethodRun& run : runs) {
+    if (run.stein) add_stein_html(page, run.label, *run.stein);
   }
 }
 

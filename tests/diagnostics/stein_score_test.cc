@@ -134,8 +134,8 @@ TEST(PosteriorScore, LearnedScaleGivesTheStudentTScore) {
   p.layout = *resolve_layout(*spec, 1, 2);
   p.x = Eigen::MatrixXd::Zero(1, 1);  // x = 0: the weights do not touch the likelihood
   p.labels = {0};
-  Result<PosteriorScore> score = PosteriorScore::create(p.layout, spec->prior, 1.0,
-                                                        Tempering::kWholePosterior, p.x, p.labels);
+  Result<PosteriorScore> score =
+      PosteriorScore::create(p.layout, spec->prior, 1.0, Tempering::kWholePosterior, p.x, p.labels);
   ASSERT_TRUE(score.ok()) << score.status().message();
   Eigen::VectorXd theta(4);
   theta << 0.8, -1.1, 0.0, 0.0;  // weights (2 x 1), then biases (2) at 0
@@ -153,8 +153,7 @@ TEST(PosteriorScore, RefusesTemperatureZero) {
   Result<PosteriorScore> score =
       PosteriorScore::create(p.layout, p.prior, 0.0, Tempering::kWholePosterior, p.x, p.labels);
   ASSERT_FALSE(score.ok());
-  EXPECT_NE(score.status().message().find("T > 0"), std::string::npos)
-      << score.status().message();
+  EXPECT_NE(score.status().message().find("T > 0"), std::string::npos) << score.status().message();
 }
 
 TEST(EvenlySpacedDraws, KeepsEveryDrawUnderTheCapAndSpreadsThemOverIt) {
