@@ -52,7 +52,6 @@ std::string stein_json(const RunStein& stein) {
   j.key("train_rows").value(stein.train_rows);
   j.key("parameters").value(stein.parameters);
   j.key("work").value(stein.work);
-  j.key("seconds").value(stein.seconds);
   if (stein.computed) {
     write_ksd(j, stein.pooled);
   } else {
