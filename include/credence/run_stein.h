@@ -110,6 +110,11 @@ Result<PosteriorScore> posterior_score_of_run(const RunReader& run, const std::s
 /// is not the run's table, kCorrupt for unreadable samples.
 Result<RunStein> run_stein_discrepancy(const RunReader& run, const SteinSettings& settings);
 
+/// The same for the run file at `run_path` (opened read-only, errors as RunReader::open):
+/// the one call `compare` or `report` needs for a run it has written or been given, e.g.
+///   Result<RunStein> ksd = run_stein_discrepancy(run_path, {.data_path = data_path});
+Result<RunStein> run_stein_discrepancy(const std::string& run_path, const SteinSettings& settings);
+
 /// The kept positions used from k kept samples under a cap of n (0 .. k-1 when k <= n).
 std::vector<std::int64_t> evenly_spaced_draws(std::int64_t kept, std::int64_t cap);
 

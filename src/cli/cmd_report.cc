@@ -40,11 +40,9 @@ Status run_report(const ReportFlags& flags, const GlobalOptions& global) {
   run->verdict = judge_run_file(flags.run_path, {});
   // How close the draws are to the posterior (docs/diagnostics.md): skipped with a note
   // for optimizers, too much work or a missing training table.
-  Result<std::unique_ptr<RunReader>> reader = RunReader::open(flags.run_path);
-  if (!reader.ok()) return reader.status();
   SteinSettings stein;
   if (run->assessment.data_matches_run) stein.data_path = flags.data_path;
-  Result<RunStein> ksd = run_stein_discrepancy(**reader, stein);
+  Result<RunStein> ksd = run_stein_discrepancy(flags.run_path, stein);
   if (!ksd.ok()) return ksd.status();
   run->stein = std::move(*ksd);
   std::vector<MethodRun> runs;

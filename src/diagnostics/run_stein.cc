@@ -179,4 +179,10 @@ Result<RunStein> run_stein_discrepancy(const RunReader& run, const SteinSettings
   return out;
 }
 
+Result<RunStein> run_stein_discrepancy(const std::string& run_path, const SteinSettings& settings) {
+  Result<std::unique_ptr<RunReader>> reader = RunReader::open(run_path);
+  if (!reader.ok()) return reader.status();
+  return run_stein_discrepancy(**reader, settings);
+}
+
 }  // namespace credence
