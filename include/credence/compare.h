@@ -53,6 +53,10 @@ struct CompareRequest {
   /// is re-run once, longer, when the re-run's estimated wall time fits in this many
   /// seconds (compare_extend.h); 0: never.
   double extend_seconds = 0;
+  /// Kernel Stein discrepancy of each sampler's kept draws (run_stein.h), at most this many
+  /// evenly spaced draws per chain; 0 skips it (sweep and the tuning map do). 100 keeps it
+  /// to about a second per method on the demo table (400 draws, n^2 kernel terms).
+  std::int64_t stein_draws_per_chain = 100;
   /// Seed of every entry's chains; empty: the split's seed (as train's --chain-seed).
   std::optional<std::uint64_t> chain_seed;
   /// Every training's stop flag and progress callback (one callback serves them all).

@@ -24,6 +24,7 @@
 #include "credence/run_verdict.h"
 #include "credence/samplers.h"
 #include "credence/status.h"
+#include "credence/run_stein.h"
 #include "credence/stein.h"
 #include "credence/summaries.h"
 #include "credence/synth.h"

@@ -10,6 +10,7 @@
 #include "credence/assess.h"
 #include "credence/ensemble.h"
 #include "credence/run_diagnostics.h"
+#include "credence/run_stein.h"
 #include "credence/run_verdict.h"
 
 namespace credence {
@@ -27,6 +28,8 @@ struct MethodRun {
   std::int64_t gradient_evals = 0;               // all chains
   std::string budget_note;  // compare: why this method got less than asked (empty: nothing cut)
   std::optional<RunVerdict> verdict;             // end-of-run checks, when compare trained it
+  std::optional<RunStein> stein;                 // kernel Stein discrepancy, when the caller
+                                                 // computed it (run_stein_discrepancy)
 };
 
 /// Opens `run_path`, assesses it on `data_path` and diagnoses it. Errors as

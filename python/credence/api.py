@@ -74,6 +74,6 @@ def assess(run, data, *, split="auto", bins=15, binning="width", samples=0,
 
 
 def diagnose(run):
-    """Mixing diagnostics of the run's chains: the dict `credence diagnose --json` writes
-    (names: docs/diagnostics.md)."""
+    """Mixing diagnostics of the run's chains and the kernel Stein discrepancy of its draws:
+    the dict `credence diagnose --json` writes (names: docs/diagnostics.md)."""
     return json.loads(_credence.diagnose_json(_run_path(run)))

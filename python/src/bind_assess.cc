@@ -120,7 +120,10 @@ std::string diagnose_json_of(const std::string& run_path) {
   }
   Result<Eigen::MatrixXd> precisions = run->prior_precisions();
   if (!precisions.ok()) throw StatusError(precisions.status());
-  return diagnose_json(run_path, *diagnostics, summarize_prior_precisions(*precisions), verdict);
+  // The kernel Stein discrepancy at diagnose's defaults (the table the run file records).
+  RunStein stein = with_one_blas_thread([&] { return take(run_stein_discrepancy(*run, {})); });
+  return diagnose_json(run_path, *diagnostics, summarize_prior_precisions(*precisions), verdict,
+                       stein);
 }
 
 }  // namespace

@@ -1,5 +1,6 @@
 // `credence diagnose`: do the chains agree? R-hat and ESS of the run's function-space
-// summaries (docs/methods.md 10), as a table on stdout and optionally as JSON.
+// summaries (docs/methods.md 10), and how close the draws are to the posterior (kernel
+// Stein discrepancy, section 11), as text on stdout and optionally as JSON.
 #include <fmt/format.h>
 
 #include <cmath>
@@ -10,9 +11,11 @@
 #include "cli/commands.h"
 #include "report/diagnose_output.h"
 #include "report/precision_output.h"
+#include "report/stein_output.h"
 #include "report/verdict_output.h"
 #include "credence/ensemble.h"
 #include "credence/run_diagnostics.h"
+#include "credence/run_stein.h"
 #include "util/atomic_file.h"
 
 namespace credence::cli {
@@ -22,6 +25,8 @@ struct DiagnoseOptions {
   std::string run_path;
   std::string json_path;
   bool all = false;
+  std::string data_path;                     // empty: the run's recorded data file
+  std::int64_t ksd_draws = SteinSettings{}.max_draws_per_chain;
 };
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
@@ -163,13 +168,19 @@ Status run_diagnose(const DiagnoseOptions& options) {
   Result<Eigen::MatrixXd> precisions = (*reader)->prior_precisions();
   if (!precisions.ok()) return precisions.status();
   const std::vector<BlockPrecision> prior = summarize_prior_precisions(*precisions);
+  SteinSettings stein_settings;
+  stein_settings.max_draws_per_chain = options.ksd_draws;
+  stein_settings.data_path = options.data_path;
+  Result<RunStein> stein = run_stein_discrepancy(**reader, stein_settings);
+  if (!stein.ok()) return stein.status().with_context(fmt::format("scoring the draws of {}", options.run_path));
   std::string text = text_report(options.run_path, *diagnostics, options.all);
+  text += "\n" + stein_text(*stein);
   text += "\n" + precision_text(prior);
   if (verdict) text += "\n" + verdict_text(*verdict);
   std::fwrite(text.data(), 1, text.size(), stdout);
   if (!options.json_path.empty()) {
-    return write_file_atomically(options.json_path,
-                                 diagnose_json(options.run_path, *diagnostics, prior, verdict));
+    return write_file_atomically(
+        options.json_path, diagnose_json(options.run_path, *diagnostics, prior, verdict, *stein));
   }
   return Status::ok_status();
 }
@@ -181,11 +192,21 @@ void add_diagnose_command(CLI::App& app, const GlobalOptions& /*global*/, Comman
   CLI::App* sub = app.add_subcommand(
       "diagnose",
       "Do the chains agree? R-hat (bulk, folded) and bulk/tail ESS of the run's function-space "
-      "summaries; flags R-hat > 1.01 and bulk- or tail-ESS < 100 per chain. Exits 0 even when flags are raised "
-      "(they are information, not failure); 2 for a missing or unreadable run file");
+      "summaries; flags R-hat > 1.01 and bulk- or tail-ESS < 100 per chain. How close are the draws "
+      "to the posterior? Kernel Stein discrepancy on the full-data score (reads the training rows). "
+      "Exits 0 even when flags are raised (they are information, not failure); 2 for a missing or "
+      "unreadable run file");
   sub->add_option("RUN.h5", options->run_path, "The run file")->required();
   sub->add_option("--json", options->json_path,
                   "Also write every number as JSON to this file (names: docs/diagnostics.md)");
+  sub->add_option("--data", options->data_path,
+                  "The table the run was trained on, for the kernel Stein discrepancy (default: the "
+                  "path the run file records; its SHA-256 must match)");
+  sub->add_option("--ksd-draws", options->ksd_draws,
+                  "Kept samples per chain the kernel Stein discrepancy uses, evenly spaced; 0 skips "
+                  "it (cost: docs/diagnostics.md)")
+      ->capture_default_str()
+      ->check(CLI::NonNegativeNumber);
   sub->add_flag("--all", options->all,
                 "List every summary (each probe row, layer, projection) instead of the worst per group");
   commands.push_back({sub, [options] { return run_diagnose(*options); }});

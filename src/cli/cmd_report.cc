@@ -38,6 +38,13 @@ Status run_report(const ReportFlags& flags, const GlobalOptions& global) {
   // The end-of-run checks, as diagnose judges them: without the probe rows' labels the
   // constant-prediction check does not apply.
   run->verdict = judge_run_file(flags.run_path, {});
+  // How close the draws are to the posterior (docs/diagnostics.md): skipped with a note
+  // for optimizers, too much work or a missing training table.
+  SteinSettings stein;
+  if (run->assessment.data_matches_run) stein.data_path = flags.data_path;
+  Result<RunStein> ksd = run_stein_discrepancy(flags.run_path, stein);
+  if (!ksd.ok()) return ksd.status();
+  run->stein = std::move(*ksd);
   std::vector<MethodRun> runs;
   runs.push_back(std::move(*run));
   CREDENCE_RETURN_IF_ERROR(write_file_atomically(

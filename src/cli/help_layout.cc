@@ -23,6 +23,7 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       {"--unseen", "data"}, {"--test-fraction", "data"}, {"--val-fraction", "data"},
       {"--seed", "data"}, {"--split", "data"}, {"--truth", "data"}, {"--scenario", "data"},
       {"--rows", "data"}, {"--positive-class", "data"}, {"--keep", "data"},
+      {"--data", "data"},
       // Network: the model's shape and prior.
       {"--net", "network"}, {"--hidden", "network"}, {"--activation", "network"},
       {"--prior-scale", "network"},
@@ -40,6 +41,7 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       {"--epochs", "budget"}, {"--check-every", "budget"}, {"--patience", "budget"},
       {"--min-steps", "budget"}, {"--chain-seed", "budget"}, {"--threads", "budget"},
       {"--max-memory", "budget"}, {"--resume", "budget"}, {"--extend-seconds", "budget"},
+      {"--ksd-draws", "budget"},
       // Output: what is written where.
       {"--out", "output"}, {"--force", "output"}, {"--json", "output"}, {"--plot", "output"},
       {"--bins", "output"}, {"--binning", "output"}, {"--bootstrap", "output"},
@@ -68,7 +70,7 @@ const std::map<std::string_view, std::string_view>& flag_values() {
       {"--truth", "FILE"}, {"--resume", "RUN.h5"}, {"--net", "FILE"}, {"--hidden", "W,W,..."},
       {"--methods", "NAME,..."}, {"--step-sizes", "LIST|FROM:TO:N"},
       {"--masses", "LIST|FROM:TO:N"}, {"--max-moves", "LIST|FROM:TO:N"},
-      {"--save-temperature", "RUN.h5"}, {"--max-memory", "SIZE"},
+      {"--save-temperature", "RUN.h5"}, {"--max-memory", "SIZE"}, {"--data", "FILE"},
   };
   return table;
 }

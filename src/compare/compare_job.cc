@@ -200,6 +200,14 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
       outcome.diverged = outcome.diverged || status == ChainStatus::kDiverged;
     }
     run->budget_note = outcome.budget_note;
+    if (request.stein_draws_per_chain > 0) {
+      SteinSettings stein;
+      stein.max_draws_per_chain = request.stein_draws_per_chain;
+      stein.data_path = request.data_path;
+      Result<RunStein> ksd = run_stein_discrepancy(train.out_path, stein);
+      if (!ksd.ok()) return ksd.status();
+      run->stein = std::move(*ksd);
+    }
     outcome.run = std::move(*run);
     outcome.run->verdict = std::move(verdict);
     outcomes.push_back(std::move(outcome));

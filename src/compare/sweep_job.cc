@@ -108,6 +108,7 @@ Result<SweepSummary> run_sweep_job(SweepRequest request) {
     }
   }
   CompareRequest& compare = request.compare;
+  compare.stein_draws_per_chain = 0;  // a sweep scores steps, not sample quality
   for (Method m : request.methods) {
     for (double lr : request.learning_rates) {
       const std::string name(method_name(m));

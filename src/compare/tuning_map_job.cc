@@ -61,6 +61,7 @@ Result<SweepSummary> run_tuning_map_job(TuningMapRequest request) {
       parse_tuning_grid(request.masses, request.max_moves, request.step_sizes, request.methods);
   if (!grid.ok()) return grid.status();
   CompareRequest& compare = request.compare;
+  compare.stein_draws_per_chain = 0;  // the map measures ESS and speed, not sample quality
   const bool by_move = grid->axis == TuningAxis::kMaxMove;
   std::vector<TuningCell> cells;  // in the order of compare.entries
   for (Method m : grid->methods) {

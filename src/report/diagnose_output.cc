@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include "report/precision_output.h"
+#include "report/stein_output.h"
 #include "report/verdict_output.h"
 #include "util/json.h"
 
@@ -60,9 +61,12 @@ std::string json_without_verdict(const std::string& path, const RunDiagnostics& 
 
 std::string diagnose_json(const std::string& run_path, const RunDiagnostics& diagnostics,
                           const std::vector<BlockPrecision>& prior,
-                          const std::optional<RunVerdict>& verdict) {
+                          const std::optional<RunVerdict>& verdict,
+                          const std::optional<RunStein>& stein) {
   std::string json = json_without_verdict(run_path, diagnostics);
   json = json.substr(0, json.rfind('}')) + ", \"prior_precision\": " + precision_json(prior) + "}\n";
+  json = json.substr(0, json.rfind('}')) + ", \"stein\": " + (stein ? stein_json(*stein) : "null") +
+         "}\n";
   if (verdict) {
     JsonWriter j;
     write_verdict(j, *verdict);

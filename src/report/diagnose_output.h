@@ -10,6 +10,7 @@
 
 #include "credence/prior_summary.h"
 #include "credence/run_diagnostics.h"
+#include "credence/run_stein.h"
 #include "credence/run_verdict.h"
 
 namespace credence {
@@ -22,9 +23,11 @@ inline constexpr std::string_view kFunctionSpaceExplanation =
 
 /// Every number of `diagnostics` as one JSON object ending in a newline, with the learned
 /// prior's precisions under "prior_precision" (null when the prior was fixed) and the
-/// end-of-run verdict under "run_verdict" when given. `run_path` is quoted as given.
+/// end-of-run verdict under "run_verdict" when given, and the kernel Stein discrepancy
+/// under "stein" (null when not given). `run_path` is quoted as given.
 std::string diagnose_json(const std::string& run_path, const RunDiagnostics& diagnostics,
                           const std::vector<BlockPrecision>& prior,
-                          const std::optional<RunVerdict>& verdict);
+                          const std::optional<RunVerdict>& verdict,
+                          const std::optional<RunStein>& stein = std::nullopt);
 
 }  // namespace credence

@@ -8,6 +8,7 @@
 
 #include "util/json.h"
 #include "report/verdict_output.h"
+#include "report/stein_output.h"
 #include "credence/plot.h"
 #include "credence/samplers_settings.h"
 #include "credence/version.h"
@@ -29,6 +30,12 @@ std::string num(double v, int digits = 4) {
 bool is_sampler_run(const MethodRun& run) {
   Result<Method> method = parse_method(report::method_of(run.header));
   return method.ok() && is_sampler(*method);
+}
+
+// The pooled kernel Stein discrepancy, or "-" when it was not computed (optimizers,
+// a skipped run, or a caller that did not ask for it).
+std::string ksd_text(const MethodRun& run) {
+  return run.stein && run.stein->computed ? num(run.stein->pooled.ksd, 4) : "-";
 }
 
 std::string verdict_text(const MethodRun& run) {
@@ -108,7 +115,9 @@ void data_section(HtmlReport& page, const std::vector<MethodRun>& runs,
 
 void scores_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
   page.section("Scores on held-out rows");
-  page.table(score_table(runs),
+  // The page shows the discrepancy with the other sample-quality figures (mixing
+  // section); a 14th column would not fit an 800-pixel window.
+  page.table(score_table(runs, /*with_ksd=*/false),
              std::string(runs.size() > 1 ? "The model average of each run on the same rows; best "
                                            "per column in bold. "
                                          : "The model average on the scored rows. ") +
@@ -233,7 +242,7 @@ void diagnostics_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
   TextTable table;
   table.column("method").column("chains").column("draws per chain").column("max R-hat");
   table.column("min bulk-ESS").column("min tail-ESS").column("flagged").column("verdict");
-  table.column("mean |v|/c");
+  table.column("mean |v|/c").column("KSD");
   bool any = false;
   for (const MethodRun& run : runs) {
     if (!run.diagnostics) continue;
@@ -247,7 +256,7 @@ void diagnostics_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
     }
     table.add_row({run.label, fmt::format("{}", d.chains), fmt::format("{}", d.draws_per_chain),
                    num(d.max_rhat, 3), num(d.min_ess_bulk, 0), num(d.min_ess_tail, 0),
-                   fmt::format("{}", d.flagged), verdict_text(run), speed});
+                   fmt::format("{}", d.flagged), verdict_text(run), speed, ksd_text(run)});
   }
   if (any) {
     page.table(table, "Over the function-space summaries of each sampler run.");
@@ -265,6 +274,9 @@ void diagnostics_section(HtmlReport& page, const std::vector<MethodRun>& runs) {
                             run.label),
                 NoteKind::kWarning);
     }
+  }
+  for (const MethodRun& run : runs) {
+    if (run.stein) add_stein_html(page, run.label, *run.stein);
   }
 }
 
@@ -324,7 +336,7 @@ Result<MethodRun> load_method_run(const std::string& run_path, const std::string
   return out;
 }
 
-TextTable score_table(const std::vector<MethodRun>& runs) {
+TextTable score_table(const std::vector<MethodRun>& runs, bool with_ksd) {
   TextTable t;
   t.column("method", ColumnAlign::kLeft);
   t.column("accuracy", ColumnAlign::kAuto, BestValue::kHighest);
@@ -337,14 +349,19 @@ TextTable score_table(const std::vector<MethodRun>& runs) {
   t.column("gradients");
   t.column("bulk-ESS/s", ColumnAlign::kAuto, BestValue::kHighest);
   t.column("max R-hat");
+  if (with_ksd) t.column("KSD", ColumnAlign::kAuto, BestValue::kLowest);
   t.column("mixing", ColumnAlign::kLeft);
   for (const MethodRun& run : runs) {
     const Assessment& a = run.assessment.scored.metrics;
-    t.add_row({run.label, num(a.accuracy), num(a.nll), num(a.brier), num(a.width_bins.ece),
-               num(a.width_bins.mce), a.class_auroc.macro ? num(*a.class_auroc.macro) : "-",
-               num(run.seconds, 1), fmt::format("{}", run.gradient_evals),
-               num(bulk_ess_per_second(run), 2),
-               run.diagnostics ? num(run.diagnostics->max_rhat, 2) : "-", verdict_text(run)});
+    std::vector<std::string> row = {
+        run.label, num(a.accuracy), num(a.nll), num(a.brier), num(a.width_bins.ece),
+        num(a.width_bins.mce), a.class_auroc.macro ? num(*a.class_auroc.macro) : "-",
+        num(run.seconds, 1), fmt::format("{}", run.gradient_evals),
+        num(bulk_ess_per_second(run), 2),
+        run.diagnostics ? num(run.diagnostics->max_rhat, 2) : "-"};
+    if (with_ksd) row.push_back(ksd_text(run));
+    row.push_back(verdict_text(run));
+    t.add_row(std::move(row));
   }
   return t;
 }
@@ -392,6 +409,7 @@ std::string score_json(const std::vector<MethodRun>& runs) {
     j.key("bulk_ess_per_second").value(bulk_ess_per_second(run));
     j.key("min_bulk_ess").value(run.diagnostics ? run.diagnostics->min_ess_bulk : kNaN);
     j.key("max_rhat").value(run.diagnostics ? run.diagnostics->max_rhat : kNaN);
+    j.key("ksd").value(run.stein && run.stein->computed ? run.stein->pooled.ksd : kNaN);
     j.key("mixing").value(run.diagnostics
                               ? std::string(mixing_verdict_name(run.diagnostics->verdict))
                               : std::string("not_applicable"));

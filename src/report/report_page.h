@@ -12,9 +12,10 @@
 namespace credence {
 
 /// The side-by-side score table (text, CSV and HTML come from it): accuracy, NLL, Brier,
-/// ECE, MCE, AUROC, wall time, gradients, bulk-ESS per second, max R-hat and the
-/// mixing verdict.
-TextTable score_table(const std::vector<MethodRun>& runs);
+/// ECE, MCE, AUROC, wall time, gradients, bulk-ESS per second, max R-hat, the kernel
+/// Stein discrepancy (unless with_ksd is false: the HTML page shows it in its mixing
+/// table) and the mixing verdict.
+TextTable score_table(const std::vector<MethodRun>& runs, bool with_ksd = true);
 
 /// NLL, Brier and ECE with their bootstrap intervals, one row per run that has them.
 TextTable interval_table(const std::vector<MethodRun>& runs);

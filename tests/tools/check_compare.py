@@ -36,6 +36,12 @@ for r in rows:
     sampler = r["method"] in ("sgld", "psgld", "sghmc", "rsghmc")
     if sampler and (r["bulk_ess_per_second"] is None or not math.isfinite(r["bulk_ess_per_second"])):
         failures.append(f"{r['method']}: a sampler needs bulk_ess_per_second")
+    # Kernel Stein discrepancy: on every sampler's kept draws, never on an optimizer's point.
+    ksd = r.get("ksd")
+    if sampler and not (isinstance(ksd, (int, float)) and math.isfinite(ksd) and ksd > 0):
+        failures.append(f"{r['method']}: a sampler needs a positive ksd, got {ksd!r}")
+    if not sampler and ksd is not None:
+        failures.append(f"{r['method']}: an optimizer has no ksd, got {ksd!r}")
     if not sampler and r["mixing"] != "not_applicable":
         failures.append(f"{r['method']}: an optimizer has no mixing verdict, got {r['mixing']}")
 budgets = {r["gradient_evals"] for r in rows}
@@ -46,6 +52,12 @@ with open(f"{out_dir}/summary.csv", newline="") as f:
     table = list(csv.DictReader(f))
 if [t["method"] for t in table] != methods:
     failures.append("summary.csv rows differ from summary.json")
+for t, r in zip(table, rows):
+    if (t.get("ksd", "") == "") != (r.get("ksd") is None):
+        failures.append(f"{t['method']}: summary.csv ksd {t.get('ksd')!r} vs json {r.get('ksd')!r}")
+    elif t.get("ksd"):
+        if abs(float(t["ksd"]) - r["ksd"]) > 1e-4 * max(1.0, abs(r["ksd"])):
+            failures.append(f"{t['method']}: summary.csv ksd {t['ksd']} vs json {r['ksd']}")
 for t in table:
     for name, cell in t.items():
         if name != name.lower() or " " in name or "-" in name:
