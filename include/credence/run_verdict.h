@@ -20,6 +20,7 @@
 //                1 + kConstantSumSlack (a network that predicts the same distribution pi
 //                for every row gives each class exactly pi_k, summing to <= 1; one that
 //                tells the classes apart gives more).
+// Layers are numbered from 1 (the input layer's weights), as diagnose's precision table.
 //   pinned       optimizers: the kept weights against the prior's scale. A layer whose
 //                ||W_l||^2 (weights only: biases have a scale of their own) is below
 //                kPinnedNormRatio times its prior expectation out*in*sigma_w^2 has been
@@ -66,6 +67,10 @@ inline constexpr double kConstantLogOddsSd = 0.1;
 inline constexpr double kConstantSumSlack = 0.05;
 /// pinned: ||W_l||^2 below this fraction of its prior expectation (ours).
 inline constexpr double kPinnedNormRatio = 0.01;
+/// collapsed: a learned weight precision at least this fraction of its cap (ours: each
+/// update moves log lambda half way to its clipped target, so a block whose target stays
+/// above the cap passes 0.99 of it within seven updates and never reaches it exactly).
+inline constexpr double kCollapsedCapRatio = 0.99;
 
 /// Everything the checks read, per run. Chains are in kept order (see diagnostics.h).
 struct RunEvidence {
@@ -87,6 +92,11 @@ struct RunEvidence {
   /// (L) E||W_l||^2 under the prior, out*in*sigma_w^2; empty when unknown (pinned then
   /// does not apply).
   std::vector<double> layer_prior_weight_sq_norm;
+  /// (L) optimizers with a learned prior scale: per layer, the largest weight precision
+  /// over the kept iterates (samples/prior_precision) and its cap, the fixed prior's
+  /// precision; both empty otherwise (collapsed then does not apply).
+  std::vector<double> layer_weight_precision;
+  std::vector<double> layer_weight_precision_cap;
 };
 
 enum class CheckOutcome { kPassed, kFailed, kNotApplied };
@@ -95,7 +105,8 @@ std::string_view check_outcome_name(CheckOutcome outcome);
 
 /// One check of a run: its outcome, its key number and the threshold it was held to.
 struct VerdictCheck {
-  std::string name;      // "drift", "constant", "pinned", "mixing", "predictions", "scale"
+  std::string name;      // "drift", "constant", "pinned", "mixing", "predictions", "scale",
+                         // "collapsed"
   CheckOutcome outcome = CheckOutcome::kNotApplied;
   double value = 0;      // the statistic (NaN when not applied)
   double threshold = 0;  // what it was compared with
@@ -104,7 +115,7 @@ struct VerdictCheck {
 
 /// The short verdict of one run.
 struct RunVerdict {
-  std::vector<VerdictCheck> checks;  // always the six above, in that order
+  std::vector<VerdictCheck> checks;  // always the seven above, in that order
   /// mixing: about this many more steps per chain reach the ESS target at the current
   /// rate; empty when the target is met or no rate is known.
   std::optional<std::int64_t> more_steps_per_chain;

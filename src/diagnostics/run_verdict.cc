@@ -144,11 +144,38 @@ VerdictCheck check_pinned(const RunEvidence& e) {
             fmt::format("layer {}'s squared weight norm is {:.2g} of what its prior expects "
                         "(root-mean-square weight {:.2g} of the prior's sd, below {:.2g}): the prior "
                         "has pinned the weights near zero; raise --prior-scale or give more rows",
-                        at, smallest, std::sqrt(smallest), std::sqrt(kPinnedNormRatio))};
+                        at + 1, smallest, std::sqrt(smallest), std::sqrt(kPinnedNormRatio))};
   }
   return {"pinned", CheckOutcome::kPassed, smallest, kPinnedNormRatio,
           fmt::format("every layer's squared weight norm is at least {:.2g} of its prior expectation "
                       "(threshold {})", smallest, kPinnedNormRatio)};
+}
+
+VerdictCheck check_collapsed(const RunEvidence& e) {
+  if (e.sampler) return not_applied("collapsed", "samplers draw the precisions from their conditional, uncapped");
+  if (e.layer_weight_precision.empty() ||
+      e.layer_weight_precision.size() != e.layer_weight_precision_cap.size()) {
+    return not_applied("collapsed", "the prior's scale is not learned in this run");
+  }
+  double largest = kNaN;
+  std::size_t at = 0;
+  for (std::size_t l = 0; l < e.layer_weight_precision.size(); ++l) {
+    if (!std::isfinite(e.layer_weight_precision[l]) || !(e.layer_weight_precision_cap[l] > 0)) continue;
+    const double ratio = e.layer_weight_precision[l] / e.layer_weight_precision_cap[l];
+    if (std::isnan(largest) || ratio > largest) largest = ratio, at = l;
+  }
+  if (std::isnan(largest)) return not_applied("collapsed", "no finite learned precisions");
+  if (largest >= kCollapsedCapRatio) {
+    return {"collapsed", CheckOutcome::kFailed, largest, kCollapsedCapRatio,
+            fmt::format("layer {}'s learned weight precision {:.4g} is at its cap {:.4g} (the fixed "
+                        "prior's): the evidence asks for weights nearer zero than the fixed prior "
+                        "allows, so the network is collapsing towards constant predictions; give "
+                        "more rows, a smaller net, or compare with a sampler",
+                        at + 1, e.layer_weight_precision[at], e.layer_weight_precision_cap[at])};
+  }
+  return {"collapsed", CheckOutcome::kPassed, largest, kCollapsedCapRatio,
+          fmt::format("every layer's learned weight precision is below its cap (largest {:.3g} of "
+                      "it; threshold {})", largest, kCollapsedCapRatio)};
 }
 
 // Function-space summaries: the probe log-likelihood, each probe row, each layer norm.
@@ -261,6 +288,7 @@ RunVerdict judge_run(const RunEvidence& e) {
   v.checks.push_back(check_mixing(e, predictions, scale, v.more_steps_per_chain));
   v.checks.push_back(agreement_check("predictions", predictions, e, "their predictions (probe rows)"));
   v.checks.push_back(agreement_check("scale", scale, e, "the layers' weight scales (squared norms)"));
+  v.checks.push_back(check_collapsed(e));
   std::string failed;
   for (const VerdictCheck& c : v.checks) {
     if (c.outcome == CheckOutcome::kFailed) failed += (failed.empty() ? "" : ", ") + c.name;

@@ -2,10 +2,13 @@
 // diagnose adds it to its JSON. Data: credence synth's invented cold-store table.
 #include <gtest/gtest.h>
 
+#include <fstream>
+#include <random>
 #include <string>
 
 #include "testing/read_text.h"
 #include "testing/run_command.h"
+#include "testing/seed.h"
 #include "testing/temp_dir.h"
 
 namespace credence {
@@ -69,6 +72,29 @@ TEST_F(Verdict, OptimizerUnderATinyPriorIsPinnedAndConstant) {
   EXPECT_NE(fine.output.find("verdict: "), std::string::npos) << fine.output;
   EXPECT_EQ(fine.output.find("pinned [FAILED]"), std::string::npos) << fine.output;
   EXPECT_EQ(fine.output.find("constant [FAILED]"), std::string::npos) << fine.output;
+  EXPECT_EQ(fine.output.find("collapsed [FAILED]"), std::string::npos) << fine.output;
+}
+
+TEST_F(Verdict, OptimizerOnLabelsUnrelatedToTheInputsCollapses) {
+  // 100 rows whose labels are coin flips independent of the 6 standard-normal inputs: the
+  // evidence updates of the default learned prior want every weight near zero and stop
+  // at their cap, the fixed prior's precision (posterior/precision_evidence.h).
+  const std::string noise = path("noise.csv");
+  {
+    std::ofstream csv(noise);
+    std::mt19937_64 rng(testing::test_seed(1717));
+    std::normal_distribution<double> normal;
+    csv << "x0,x1,x2,x3,x4,x5,label\n";
+    for (int r = 0; r < 100; ++r) {
+      for (int c = 0; c < 6; ++c) csv << normal(rng) << ',';
+      csv << ((rng() & 1) ? "yes" : "no") << '\n';
+    }
+  }
+  auto out = run_credence("--quiet train '" + noise + "' --target label --method adam --seed 3 "
+                          "--out '" + path("noise.h5") + "'");
+  ASSERT_EQ(out.exit_code, 0) << out.output;
+  EXPECT_NE(out.output.find("collapsed [FAILED]: layer "), std::string::npos) << out.output;
+  EXPECT_NE(out.output.find("is at its cap"), std::string::npos) << out.output;
 }
 
 }  // namespace
