@@ -153,29 +153,39 @@ VerdictCheck check_pinned(const RunEvidence& e) {
 
 VerdictCheck check_collapsed(const RunEvidence& e) {
   if (e.sampler) return not_applied("collapsed", "samplers draw the precisions from their conditional, uncapped");
-  if (e.layer_weight_precision.empty() ||
-      e.layer_weight_precision.size() != e.layer_weight_precision_cap.size()) {
+  const std::size_t layers = e.layer_weight_precision.size();
+  if (layers == 0 || e.layer_weight_precision_cap.size() != layers ||
+      e.layer_weight_sq_norm.size() != layers || e.layer_prior_weight_sq_norm.size() != layers) {
     return not_applied("collapsed", "the prior's scale is not learned in this run");
   }
-  double largest = kNaN;
+  double smallest = kNaN;  // weight norm over its prior expectation, among capped layers
   std::size_t at = 0;
-  for (std::size_t l = 0; l < e.layer_weight_precision.size(); ++l) {
-    if (!std::isfinite(e.layer_weight_precision[l]) || !(e.layer_weight_precision_cap[l] > 0)) continue;
-    const double ratio = e.layer_weight_precision[l] / e.layer_weight_precision_cap[l];
-    if (std::isnan(largest) || ratio > largest) largest = ratio, at = l;
+  int capped = 0;
+  for (std::size_t l = 0; l < layers; ++l) {
+    if (!(e.layer_weight_precision_cap[l] > 0) || !(e.layer_prior_weight_sq_norm[l] > 0)) continue;
+    if (!(e.layer_weight_precision[l] >= kCollapsedCapRatio * e.layer_weight_precision_cap[l])) continue;
+    ++capped;
+    const double ratio = e.layer_weight_sq_norm[l] / e.layer_prior_weight_sq_norm[l];
+    if (std::isfinite(ratio) && (std::isnan(smallest) || ratio < smallest)) smallest = ratio, at = l;
   }
-  if (std::isnan(largest)) return not_applied("collapsed", "no finite learned precisions");
-  if (largest >= kCollapsedCapRatio) {
-    return {"collapsed", CheckOutcome::kFailed, largest, kCollapsedCapRatio,
+  if (capped == 0) {
+    return {"collapsed", CheckOutcome::kPassed, kNaN, kCollapsedNormRatio,
+            "no layer's learned weight precision is at its cap"};
+  }
+  if (!std::isnan(smallest) && smallest < kCollapsedNormRatio) {
+    return {"collapsed", CheckOutcome::kFailed, smallest, kCollapsedNormRatio,
             fmt::format("layer {}'s learned weight precision {:.4g} is at its cap {:.4g} (the fixed "
-                        "prior's): the evidence asks for weights nearer zero than the fixed prior "
-                        "allows, so the network is collapsing towards constant predictions; give "
-                        "more rows, a smaller net, or compare with a sampler",
-                        at + 1, e.layer_weight_precision[at], e.layer_weight_precision_cap[at])};
+                        "prior's) and its squared weight norm is {:.2g} of what that prior expects "
+                        "(below {}): the evidence asks for weights nearer zero still, so the network "
+                        "is collapsing towards constant predictions; give more rows, a smaller net, "
+                        "or compare with a sampler",
+                        at + 1, e.layer_weight_precision[at], e.layer_weight_precision_cap[at],
+                        smallest, kCollapsedNormRatio)};
   }
-  return {"collapsed", CheckOutcome::kPassed, largest, kCollapsedCapRatio,
-          fmt::format("every layer's learned weight precision is below its cap (largest {:.3g} of "
-                      "it; threshold {})", largest, kCollapsedCapRatio)};
+  return {"collapsed", CheckOutcome::kPassed, smallest, kCollapsedNormRatio,
+          fmt::format("{} layer(s) at the precision cap, but their weights keep at least {:.2g} of "
+                      "the prior's expected squared norm (threshold {})",
+                      capped, smallest, kCollapsedNormRatio)};
 }
 
 // Function-space summaries: the probe log-likelihood, each probe row, each layer norm.

@@ -163,33 +163,39 @@ RunEvidence optimizer(double norm_fraction) {
   return e;
 }
 
-// An optimizer with a learned prior scale: the third layer's weight precision is `fraction` of
-// its cap (the fixed prior's precision, posterior/precision_evidence.h), the others a
-// ninth of it (the updates' loose start). Values chosen by this test.
-RunEvidence evidence_optimizer(double fraction) {
-  RunEvidence e = optimizer(0.5);
+// An optimizer with a learned prior scale: the second layer's weight precision is
+// `fraction` of its cap (the fixed prior's precision, posterior/precision_evidence.h) and
+// its squared weight norm `norm_fraction` of that prior's expectation; the other layers
+// sit at a ninth of their cap (the updates' loose start). Values chosen by this test.
+RunEvidence evidence_optimizer(double fraction, double norm_fraction) {
+  RunEvidence e = optimizer(norm_fraction);
   for (int l = 0; l < 3; ++l) {
     const double cap = 8.0 * (l + 1);
-    e.layer_weight_precision.push_back(l == 2 ? fraction * cap : cap / 9);
+    e.layer_weight_precision.push_back(l == 1 ? fraction * cap : cap / 9);
     e.layer_weight_precision_cap.push_back(cap);
   }
   return e;
 }
 
 TEST(RunVerdict, OptimizerCollapsedAtTheEvidenceCap) {
-  const RunVerdict at_cap = judge_run(evidence_optimizer(1.0));
+  // At the cap with weights at 0.03 of the prior's expectation: collapsed, though not
+  // yet pinned (0.01).
+  const RunVerdict at_cap = judge_run(evidence_optimizer(1.0, 0.03));
   const VerdictCheck* c = at_cap.find("collapsed");
   ASSERT_NE(c, nullptr);
   ASSERT_EQ(c->outcome, CheckOutcome::kFailed) << c->message;
-  EXPECT_DOUBLE_EQ(c->value, 1.0);
-  EXPECT_NE(c->message.find("layer 3's"), std::string::npos) << c->message;  // numbered from 1
+  EXPECT_NEAR(c->value, 0.03, 1e-12);
+  EXPECT_NE(c->message.find("layer 2's"), std::string::npos) << c->message;  // numbered from 1
   EXPECT_EQ(at_cap.headline, "NOT done: collapsed");
-  const RunVerdict loose = judge_run(evidence_optimizer(0.5));
+  // At the cap with weights of a healthy size (the demo table's adam): no alarm.
+  const RunVerdict healthy = judge_run(evidence_optimizer(1.0, 0.5));
+  EXPECT_EQ(healthy.find("collapsed")->outcome, CheckOutcome::kPassed) << healthy.find("collapsed")->message;
+  // Small weights below the cap: the evidence does not ask for tighter, no alarm.
+  const RunVerdict loose = judge_run(evidence_optimizer(0.5, 0.03));
   EXPECT_EQ(loose.find("collapsed")->outcome, CheckOutcome::kPassed) << loose.find("collapsed")->message;
-  EXPECT_NEAR(loose.find("collapsed")->value, 0.5, 1e-12);
   // A fixed prior scale (no learned precisions) and samplers: not applied.
-  EXPECT_EQ(judge_run(optimizer(0.5)).find("collapsed")->outcome, CheckOutcome::kNotApplied);
-  RunEvidence sampler = evidence_optimizer(1.0);
+  EXPECT_EQ(judge_run(optimizer(0.03)).find("collapsed")->outcome, CheckOutcome::kNotApplied);
+  RunEvidence sampler = evidence_optimizer(1.0, 0.03);
   sampler.sampler = true;
   EXPECT_EQ(judge_run(sampler).find("collapsed")->outcome, CheckOutcome::kNotApplied);
 }
