@@ -84,7 +84,7 @@ TrainRequest request_of(const std::string& data_path, const std::string& out_pat
     r.prior_scale_auto = false;
     r.prior_scale = get<double>(options, "prior_scale");
   }
-  if (has("lr")) s.sampler.learning_rate = get<double>(options, "lr");
+  s.sampler.learning_rate = has("lr") ? get<double>(options, "lr") : default_learning_rate(s.sampler.method);
   if (has("step_size")) s.sampler.step_size = get<double>(options, "step_size");
   if (has("temperature")) s.sampler.temperature = get<double>(options, "temperature");
   if (has("chains")) s.chains.chains = get<int>(options, "chains");

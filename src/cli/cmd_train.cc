@@ -85,9 +85,7 @@ Status resolve(TrainFlags& flags) {
     return Status::invalid_input(fmt::format(
         "--schedule '{}' is not one of constant, polynomial, cyclical", flags.schedule));
   }
-  if ((*method == Method::kSanta || *method == Method::kSantaOpt) && !flags.given.count("--lr")) {
-    r.settings.sampler.learning_rate = kSantaLearningRate;
-  }
+  if (!flags.given.count("--lr")) r.settings.sampler.learning_rate = default_learning_rate(*method);
   r.settings.sampler.relativistic.adapt_mass = !flags.fixed_mass;
   CREDENCE_RETURN_IF_ERROR(check_method_flags(*method, r.settings.sampler.schedule.kind,
                                               !r.net_path.empty(), flags.given));
@@ -159,7 +157,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   method->add_option("--lr", s.sampler.learning_rate,
                      "Learning rate on the mean loss (converted to the method's step; rsghmc "
                      "reads it only with --speed or --mass: its move comes from --max-move; "
-                     "santa, santa-opt: default 0.001)")
+                     "sgld: default 0.1; santa, santa-opt: default 0.001)")
       ->capture_default_str();
   method->add_option("--step-size", s.sampler.step_size,
                      "Step size in potential units, instead of --lr (rsghmc: only with --speed "
