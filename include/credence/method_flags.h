@@ -20,8 +20,9 @@ namespace credence {
 Status check_method_flags(Method method, ScheduleKind schedule, bool net_file,
                           const std::set<std::string>& given);
 
-/// Defaults that hang on the method and on what was given: santa and santa-opt take
-/// kSantaLearningRate unless --lr was given (samplers_settings.h says why).
+/// Defaults that hang on the method and on what was given: the method's own learning rate
+/// (default_learning_rate: sgld 0.1, santa and santa-opt 1e-3, others 0.01) unless --lr
+/// was given (samplers_settings.h says why).
 void apply_method_defaults(SamplerSettings& sampler, const std::set<std::string>& given);
 
 /// With --resume every setting comes from the run file: refuses a method, chain or

@@ -170,6 +170,21 @@ struct AdamSettings {
 /// at its default (0.523). Measured on that one table only.
 inline constexpr double kSantaLearningRate = 1e-3;
 
+/// sgld's learning rate when none is given (the CLI's, compare's and Python's default; the
+/// struct default stays 1e-2). Measured at defaults against 1e-2 and 3e-2 (4 chains,
+/// tests/tools/evaluate_defaults.py, docs/prior.md "sgld's step"): test NLL lower on 9 of
+/// 11 tables of 32-569 rows (e.g. breast cancer's 100-row subsample 0.103 -> 0.089,
+/// digits' 0.777 -> 0.697), higher on two (up to +0.025), no divergence up to 1,000,000
+/// rows; on the demo table the worst probe-row R-hat after 60,000 steps per chain fell
+/// from 1.41 to 1.05. sgld's injected noise has variance 2 eps = 4 lr / N per step, so
+/// at 1e-2 the chain crawls: the preconditioned and momentum samplers move further per
+/// gradient at their own defaults.
+inline constexpr double kSgldLearningRate = 1e-1;
+
+/// The learning rate `method` starts from when none is given: kSantaLearningRate for
+/// santa and santa-opt, kSgldLearningRate for sgld, SamplerSettings' 1e-2 otherwise.
+double default_learning_rate(Method method);
+
 /// santa's and santa-opt's own settings (docs/methods.md section 16, Euler scheme).
 struct SantaSettings {
   /// Decay sigma of the squared-gradient average v. Default 0.999 (the reference

@@ -28,9 +28,7 @@ TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
   r.command_line = c.command_line;
   TrainSettings& s = r.settings;
   s.sampler.method = entry.method;
-  if (entry.method == Method::kSanta || entry.method == Method::kSantaOpt) {
-    s.sampler.learning_rate = kSantaLearningRate;
-  }
+  s.sampler.learning_rate = default_learning_rate(entry.method);
   if (entry.learning_rate) s.sampler.learning_rate = *entry.learning_rate;
   s.chains.chains = c.chains;
   s.chains.seed = c.chain_seed.value_or(c.data.split.seed);

@@ -1,6 +1,9 @@
 // gather_run_evidence: what judge_run reads, taken from a run file.
 #include <fmt/format.h>
 
+#include <cmath>
+#include <limits>
+
 #include "credence/net.h"
 #include "credence/posterior.h"
 #include "credence/run_verdict.h"
@@ -10,6 +13,8 @@
 
 namespace credence {
 namespace {
+
+constexpr double kNaNPrecision = std::numeric_limits<double>::quiet_NaN();
 
 // Mean ||W_l||^2 over the kept samples and its prior expectation out*in*sigma_w^2, per
 // layer; both left empty when the net text does not resolve to a fixed Gaussian prior.
@@ -33,6 +38,22 @@ Status read_weight_norms(const RunReader& run, RunEvidence& e) {
     e.layer_weight_sq_norm.push_back(sum / static_cast<double>(theta->cols()));
     const double sigma = prior->sigmas()[l].weight_sigma;
     e.layer_prior_weight_sq_norm.push_back(static_cast<double>(size) * sigma * sigma);
+  }
+  if (!spec->prior.learn_scale) return Status::ok_status();
+  // A learned scale: the prior built from the spec holds the fixed start, which the
+  // evidence updates take as each block's cap (posterior/precision_evidence.h).
+  Result<Eigen::MatrixXd> lambda = run.prior_precisions();  // (2L, S): weights, then biases
+  if (!lambda.ok()) return lambda.status();
+  const std::span<const double> cap = prior->block_precisions();
+  if (lambda->rows() != static_cast<Eigen::Index>(cap.size())) return Status::ok_status();
+  for (std::size_t l = 0; l < layout->layers.size(); ++l) {
+    double largest = kNaNPrecision;
+    for (Eigen::Index s = 0; s < lambda->cols(); ++s) {
+      const double v = (*lambda)(static_cast<Eigen::Index>(2 * l), s);
+      if (std::isfinite(v) && !(v <= largest)) largest = v;
+    }
+    e.layer_weight_precision.push_back(largest);
+    e.layer_weight_precision_cap.push_back(cap[2 * l]);
   }
   return Status::ok_status();
 }

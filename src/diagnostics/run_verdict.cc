@@ -144,11 +144,48 @@ VerdictCheck check_pinned(const RunEvidence& e) {
             fmt::format("layer {}'s squared weight norm is {:.2g} of what its prior expects "
                         "(root-mean-square weight {:.2g} of the prior's sd, below {:.2g}): the prior "
                         "has pinned the weights near zero; raise --prior-scale or give more rows",
-                        at, smallest, std::sqrt(smallest), std::sqrt(kPinnedNormRatio))};
+                        at + 1, smallest, std::sqrt(smallest), std::sqrt(kPinnedNormRatio))};
   }
   return {"pinned", CheckOutcome::kPassed, smallest, kPinnedNormRatio,
           fmt::format("every layer's squared weight norm is at least {:.2g} of its prior expectation "
                       "(threshold {})", smallest, kPinnedNormRatio)};
+}
+
+VerdictCheck check_collapsed(const RunEvidence& e) {
+  if (e.sampler) return not_applied("collapsed", "samplers draw the precisions from their conditional, uncapped");
+  const std::size_t layers = e.layer_weight_precision.size();
+  if (layers == 0 || e.layer_weight_precision_cap.size() != layers ||
+      e.layer_weight_sq_norm.size() != layers || e.layer_prior_weight_sq_norm.size() != layers) {
+    return not_applied("collapsed", "the prior's scale is not learned in this run");
+  }
+  double smallest = kNaN;  // weight norm over its prior expectation, among capped layers
+  std::size_t at = 0;
+  int capped = 0;
+  for (std::size_t l = 0; l < layers; ++l) {
+    if (!(e.layer_weight_precision_cap[l] > 0) || !(e.layer_prior_weight_sq_norm[l] > 0)) continue;
+    if (!(e.layer_weight_precision[l] >= kCollapsedCapRatio * e.layer_weight_precision_cap[l])) continue;
+    ++capped;
+    const double ratio = e.layer_weight_sq_norm[l] / e.layer_prior_weight_sq_norm[l];
+    if (std::isfinite(ratio) && (std::isnan(smallest) || ratio < smallest)) smallest = ratio, at = l;
+  }
+  if (capped == 0) {
+    return {"collapsed", CheckOutcome::kPassed, kNaN, kCollapsedNormRatio,
+            "no layer's learned weight precision is at its cap"};
+  }
+  if (!std::isnan(smallest) && smallest < kCollapsedNormRatio) {
+    return {"collapsed", CheckOutcome::kFailed, smallest, kCollapsedNormRatio,
+            fmt::format("layer {}'s learned weight precision {:.4g} is at its cap {:.4g} (the fixed "
+                        "prior's) and its squared weight norm is {:.2g} of what that prior expects "
+                        "(below {}): the evidence asks for weights nearer zero still, so the network "
+                        "is collapsing towards constant predictions; give more rows, a smaller net, "
+                        "or compare with a sampler",
+                        at + 1, e.layer_weight_precision[at], e.layer_weight_precision_cap[at],
+                        smallest, kCollapsedNormRatio)};
+  }
+  return {"collapsed", CheckOutcome::kPassed, smallest, kCollapsedNormRatio,
+          fmt::format("{} layer(s) at the precision cap, but their weights keep at least {:.2g} of "
+                      "the prior's expected squared norm (threshold {})",
+                      capped, smallest, kCollapsedNormRatio)};
 }
 
 // Function-space summaries: the probe log-likelihood, each probe row, each layer norm.
@@ -261,6 +298,7 @@ RunVerdict judge_run(const RunEvidence& e) {
   v.checks.push_back(check_mixing(e, predictions, scale, v.more_steps_per_chain));
   v.checks.push_back(agreement_check("predictions", predictions, e, "their predictions (probe rows)"));
   v.checks.push_back(agreement_check("scale", scale, e, "the layers' weight scales (squared norms)"));
+  v.checks.push_back(check_collapsed(e));
   std::string failed;
   for (const VerdictCheck& c : v.checks) {
     if (c.outcome == CheckOutcome::kFailed) failed += (failed.empty() ? "" : ", ") + c.name;

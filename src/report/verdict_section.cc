@@ -25,6 +25,9 @@ constexpr CheckWords kWords[] = {
      "run the chains longer before trusting the ensemble's probabilities"},
     {"scale", "Do the chains agree on the weights' scale?",
      "run longer; predictions may still agree, but the weight scales do not yet"},
+    {"collapsed", "Does the learned prior leave the network room to fit?",
+     "the evidence wants weights nearer zero than the fixed prior: give more rows or a "
+     "smaller net, or compare with a sampler"},
 };
 
 const CheckWords* words_for(std::string_view check_name) {

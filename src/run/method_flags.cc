@@ -117,9 +117,7 @@ Status check_method_flags(Method method, ScheduleKind schedule, bool net_file,
 }
 
 void apply_method_defaults(SamplerSettings& sampler, const std::set<std::string>& given) {
-  if (is_santa(sampler.method) && given.count("--lr") == 0) {
-    sampler.learning_rate = kSantaLearningRate;
-  }
+  if (given.count("--lr") == 0) sampler.learning_rate = default_learning_rate(sampler.method);
 }
 
 Status check_resume_flags(const std::set<std::string>& given) {

@@ -72,6 +72,18 @@ bool is_sampler(Method method) {
   }
 }
 
+double default_learning_rate(Method method) {
+  switch (method) {
+    case Method::kSanta:
+    case Method::kSantaOpt:
+      return kSantaLearningRate;
+    case Method::kSgld:
+      return kSgldLearningRate;
+    default:
+      return SamplerSettings{}.learning_rate;
+  }
+}
+
 bool is_full_batch(Method method) { return method == Method::kHmc || method == Method::kRhmc; }
 
 Status validate(const SamplerSettings& s) {

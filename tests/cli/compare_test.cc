@@ -87,10 +87,10 @@ TEST_F(Compare, EveryMethodGetsAVerdictInTheTextAndTheJson) {
     EXPECT_NE(compare_.output.find(std::string("\nverdict ") + method + ": "), std::string::npos)
         << method << " has no verdict under the table:\n" << compare_.output;
   }
-  // summary.json: every row carries its verdict with the six checks (Python's json module).
+  // summary.json: every row carries its verdict with the seven checks (Python's json module).
   const std::string script =
       "import json, sys; rows = json.load(open(sys.argv[1]))['methods']; "
-      "assert all(len(r['verdict']['checks']) == 6 for r in rows), rows; "
+      "assert all(len(r['verdict']['checks']) == 7 for r in rows), rows; "
       "assert all(c['outcome'] in ('ok', 'FAILED', 'n/a') for r in rows for c in r['verdict']['checks'])";
   const std::string log = path("verdict_check.txt");
   EXPECT_EQ(run_python("-c \"" + script + "\" '" + path("cmp/summary.json") + "'", log), 0)

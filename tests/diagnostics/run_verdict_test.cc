@@ -65,11 +65,12 @@ CheckOutcome outcome(const RunVerdict& v, const char* name) {
 TEST(RunVerdict, MixedSamplerPassesEveryCheck) {
   std::mt19937_64 rng(testing::test_seed(1701));
   const RunVerdict v = judge_run(mixed_sampler(rng));
-  ASSERT_EQ(v.checks.size(), 6u);
+  ASSERT_EQ(v.checks.size(), 7u);
   for (const char* name : {"drift", "constant", "mixing", "predictions", "scale"}) {
     EXPECT_EQ(outcome(v, name), CheckOutcome::kPassed) << name << ": " << v.find(name)->message;
   }
   EXPECT_EQ(outcome(v, "pinned"), CheckOutcome::kNotApplied) << "pinned is for optimizers";
+  EXPECT_EQ(outcome(v, "collapsed"), CheckOutcome::kNotApplied) << "collapsed is for optimizers";
   EXPECT_TRUE(v.done());
   EXPECT_EQ(v.headline, "passed every check");
   EXPECT_FALSE(v.more_steps_per_chain.has_value());
@@ -162,12 +163,49 @@ RunEvidence optimizer(double norm_fraction) {
   return e;
 }
 
+// An optimizer with a learned prior scale: the second layer's weight precision is
+// `fraction` of its cap (the fixed prior's precision, posterior/precision_evidence.h) and
+// its squared weight norm `norm_fraction` of that prior's expectation; the other layers
+// sit at a ninth of their cap (the updates' loose start). Values chosen by this test.
+RunEvidence evidence_optimizer(double fraction, double norm_fraction) {
+  RunEvidence e = optimizer(norm_fraction);
+  for (int l = 0; l < 3; ++l) {
+    const double cap = 8.0 * (l + 1);
+    e.layer_weight_precision.push_back(l == 1 ? fraction * cap : cap / 9);
+    e.layer_weight_precision_cap.push_back(cap);
+  }
+  return e;
+}
+
+TEST(RunVerdict, OptimizerCollapsedAtTheEvidenceCap) {
+  // At the cap with weights at 0.03 of the prior's expectation: collapsed, though not
+  // yet pinned (0.01).
+  const RunVerdict at_cap = judge_run(evidence_optimizer(1.0, 0.03));
+  const VerdictCheck* c = at_cap.find("collapsed");
+  ASSERT_NE(c, nullptr);
+  ASSERT_EQ(c->outcome, CheckOutcome::kFailed) << c->message;
+  EXPECT_NEAR(c->value, 0.03, 1e-12);
+  EXPECT_NE(c->message.find("layer 2's"), std::string::npos) << c->message;  // numbered from 1
+  EXPECT_EQ(at_cap.headline, "NOT done: collapsed");
+  // At the cap with weights of a healthy size (the demo table's adam): no alarm.
+  const RunVerdict healthy = judge_run(evidence_optimizer(1.0, 0.5));
+  EXPECT_EQ(healthy.find("collapsed")->outcome, CheckOutcome::kPassed) << healthy.find("collapsed")->message;
+  // Small weights below the cap: the evidence does not ask for tighter, no alarm.
+  const RunVerdict loose = judge_run(evidence_optimizer(0.5, 0.03));
+  EXPECT_EQ(loose.find("collapsed")->outcome, CheckOutcome::kPassed) << loose.find("collapsed")->message;
+  // A fixed prior scale (no learned precisions) and samplers: not applied.
+  EXPECT_EQ(judge_run(optimizer(0.03)).find("collapsed")->outcome, CheckOutcome::kNotApplied);
+  RunEvidence sampler = evidence_optimizer(1.0, 0.03);
+  sampler.sampler = true;
+  EXPECT_EQ(judge_run(sampler).find("collapsed")->outcome, CheckOutcome::kNotApplied);
+}
+
 TEST(RunVerdict, OptimizerPinnedByThePrior) {
   const RunVerdict pinned = judge_run(optimizer(1e-4));
   const VerdictCheck* c = pinned.find("pinned");
   ASSERT_EQ(c->outcome, CheckOutcome::kFailed) << c->message;
   EXPECT_NEAR(c->value, 1e-4, 1e-12);
-  EXPECT_NE(c->message.find("layer 1"), std::string::npos) << c->message;
+  EXPECT_NE(c->message.find("layer 2's"), std::string::npos) << c->message;  // numbered from 1
   EXPECT_EQ(judge_run(optimizer(0.5)).find("pinned")->outcome, CheckOutcome::kPassed);
   // Mixing and agreement are for samplers: not applied to an optimizer.
   for (const char* name : {"drift", "mixing", "predictions", "scale"}) {
@@ -250,7 +288,7 @@ TEST(RunVerdict, LinesListFailedChecksUnderTheHeadline) {
   ASSERT_EQ(lines.size(), 2u);
   EXPECT_EQ(lines[0], "NOT done: pinned");
   EXPECT_EQ(lines[1].rfind("  pinned [FAILED]: ", 0), 0u) << lines[1];
-  EXPECT_EQ(verdict_lines(judge_run(e), true).size(), 7u);
+  EXPECT_EQ(verdict_lines(judge_run(e), true).size(), 8u);
 }
 
 }  // namespace

@@ -93,7 +93,8 @@ TEST(VerdictSection, NoVerdictNoSection) {
 }
 
 TEST(VerdictSection, EveryCheckHasAQuestion) {
-  for (const char* name : {"drift", "constant", "pinned", "mixing", "predictions", "scale"}) {
+  for (const char* name :
+       {"drift", "constant", "pinned", "mixing", "predictions", "scale", "collapsed"}) {
     EXPECT_NE(report::check_question(name), std::string_view(name)) << name;
   }
 }
