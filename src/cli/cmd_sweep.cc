@@ -43,7 +43,7 @@ void add_sweep_command(CLI::App& app, const GlobalOptions& global, CommandList& 
       "sweep",
       "Every method at every learning rate on one split and budget: accuracy, NLL, ECE and "
       "divergences against the step size, with plots");
-  add_compare_flags(*sub, flags->compare, "sghmc,rsghmc");
+  add_compare_flags(*sub, flags->compare, "sgld,sghmc");  // rsghmc is mapped, not swept
   sub->add_option("--step-sizes", flags->step_sizes,
                   "Learning rates (mean-loss units, as train's --lr): a list 0.001,0.01 or a "
                   "log range FROM:TO:COUNT")

@@ -39,6 +39,16 @@ class SweepMap : public ::testing::Test {
 testing::TempDir* SweepMap::dir_ = nullptr;
 std::string SweepMap::data_;
 
+// The default method list must be one sweep can run: it listed rsghmc, which a learning-rate
+// sweep refuses, so `credence sweep DATA --target COL` failed with defaults only.
+TEST_F(SweepMap, DefaultsSweepWithoutRefusal) {
+  auto run = run_credence(sweep("--epochs 2 --chains 2 --step-sizes 0.01,0.1 --hidden 4", "plain"));
+  EXPECT_EQ(run.exit_code, 0) << run.output;
+  const std::string csv = testing::read_text(dir_->path().string() + "/plain/sweep.csv");
+  EXPECT_NE(csv.find("sgld"), std::string::npos) << csv;
+  EXPECT_NE(csv.find("sghmc"), std::string::npos) << csv;
+}
+
 TEST_F(SweepMap, RefusesWhatItCannotMapWithOneMessage) {
   const std::vector<std::pair<std::string, std::string>> cases = {
       {"--methods sghmc --masses 1 --max-moves 0.01", "sghmc reads neither"},
