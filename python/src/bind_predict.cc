@@ -11,6 +11,7 @@
 #include "credence/assess.h"
 #include "credence/ensemble.h"
 #include "credence/predict.h"
+#include "credence/predict_job.h"
 #include "status_error.h"
 #include "unseen_option.h"
 
@@ -31,7 +32,7 @@ struct PredictCall {
   std::vector<std::string> id_columns;
 };
 
-PredictCsvOptions csv_options(const PredictCall& call, const RunHeader& header) {
+PredictCsvOptions csv_options(const PredictCall& call) {
   PredictCsvOptions options;
   if (call.flag_by == "entropy") {
     options.flag_by = FlagBy::kEntropy;
@@ -46,7 +47,6 @@ PredictCsvOptions csv_options(const PredictCall& call, const RunHeader& header) 
   }
   options.flag_above = call.flag_above;
   options.id_columns = call.id_columns;
-  options.read = read_options_of(header);  // as `credence predict` reads a file
   return options;
 }
 
@@ -61,27 +61,22 @@ py::dict predict_file(const PredictCall& call) {
   }
   std::optional<UnseenPolicy> unseen;
   if (call.unseen) unseen = parse_unseen(*call.unseen);
-  PredictCsvSummary done;
-  double temperature = 1;
+  PredictJobOptions job;
+  job.run_path = call.run_path;
+  job.data_path = call.input_path;
+  job.out_path = call.output_path;
+  job.csv = csv_options(call);
+  job.predictor.samples = call.samples;
+  job.predictor.temperature = call.temperature;
+  job.unseen = unseen;
+  PredictJobResult result;
   {
     py::gil_scoped_release release;
-    std::unique_ptr<RunReader> run = take(RunReader::open(call.run_path));
-    const PredictCsvOptions options = csv_options(call, run->header());
-    PredictorOptions predictor_options;
-    predictor_options.samples = call.samples;
-    predictor_options.temperature = call.temperature;
-    Result<Predictor> predictor = Predictor::create(*run, predictor_options);
-    if (!predictor.ok()) {
-      throw StatusError(Status(predictor.status().code(),
-                               call.run_path + ": " + predictor.status().message()));
-    }
-    if (unseen) predictor->set_unseen_policy(*unseen);
-    run.reset();  // the samples now live in the predictor
-    temperature = predictor->temperature();
-    done = with_one_blas_thread([&] {
-      return take(predict_csv(*predictor, call.input_path, call.output_path, options));
-    });
+    // As `credence predict` does it, with BLAS on one thread while blocks run in parallel.
+    result = with_one_blas_thread([&] { return take(run_predict_job(std::move(job))); });
   }
+  const PredictCsvSummary& done = result.summary;
+  const double temperature = result.temperature;
   py::dict out;
   out["rows"] = done.rows;
   out["samples"] = done.samples;

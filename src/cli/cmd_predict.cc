@@ -8,15 +8,16 @@
 #include "cli/commands.h"
 #include "cli/data_options.h"
 #include "cli/memory_option.h"
-#include "credence/run_settings.h"
 #include "credence/ensemble.h"
 #include "credence/predict.h"
+#include "credence/predict_job.h"
 #include "predict/temp_output.h"
 #include "util/log.h"
 
 #ifdef CREDENCE_HAVE_BLAS
 extern "C" void openblas_set_num_threads(int);
 #endif
+
 
 namespace credence::cli {
 namespace {
@@ -38,20 +39,6 @@ struct PredictFlags {
   double outside_above = 10;
   std::string max_memory;  // --max-memory; empty: the default share of physical memory
 };
-
-// The delimiter and missing-value tokens the run was trained with.
-ReadOptions stored_read_options(const RunHeader& header) {
-  TrainSettings ignored;
-  ReadOptions read;
-  if (Status s = from_values(header.settings, ignored, read); !s.ok()) {
-    log().warn(
-        "reading the run's CSV settings: {}; reading the new rows with the defaults "
-        "(comma separated; missing: '', NA, NaN, null, ?)",
-        s.message());
-    return ReadOptions{};
-  }
-  return read;
-}
 
 Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
   if (flags.samples < 0) {
@@ -93,62 +80,46 @@ Status run_predict(const PredictFlags& flags, const GlobalOptions& global) {
   }
   options.outside_z = flags.outside_above;
 
-#ifdef CREDENCE_HAVE_BLAS
-  // Blocks run in parallel with OpenMP; BLAS threads inside each would fight them
-  // for the cores (DESIGN.md section 6).
-  openblas_set_num_threads(1);
-#endif
-  Result<std::unique_ptr<RunReader>> run = RunReader::open(flags.run_path);
-  if (!run.ok()) return run.status();
-  const RunHeader& header = (*run)->header();
-  if (RunStatus status = (*run)->summary().status; status != RunStatus::kComplete) {
-    log().warn("{}: the run is {}; predicting with the samples it kept so far", flags.run_path,
-               run_status_name(status));
-  }
-  options.read = stored_read_options(header);
-  Result<std::optional<PositiveClass>> positive =
-      resolve_positive_class(header.preprocessing, header.settings, flags.positive_class);
-  if (!positive.ok()) return Status(positive.status().code(), flags.run_path + ": " + positive.status().message());
-  if (flags.threshold && !*positive) {
-    return Status::invalid_input(fmt::format(
-        "--threshold: a decision threshold applies to two-class targets; '{}' has {} classes",
-        header.preprocessing.target, header.preprocessing.class_names.size()));
-  }
-  if (*positive) options.positive_class = (*positive)->index;
-  // Rows are streamed in blocks, so the ensemble and the block workspaces are the peak.
-  CREDENCE_RETURN_IF_ERROR(
-      check_ensemble_memory(**run, flags.run_path, flags.samples, "", flags.max_memory));
-  PredictorOptions predictor_options;
-  predictor_options.samples = flags.samples;
-  predictor_options.temperature = flags.temperature;
   if (flags.temperature && !(*flags.temperature > 0 && std::isfinite(*flags.temperature))) {
     return Status::invalid_input(fmt::format(
         "--temperature {}: give a positive number (1 leaves the members as trained)",
         *flags.temperature));
   }
-  std::optional<UnseenPolicy> unseen;
+#ifdef CREDENCE_HAVE_BLAS
+  // Blocks run in parallel with OpenMP; BLAS threads inside each would fight them for the
+  // cores.
+  openblas_set_num_threads(1);
+#endif
+  PredictJobOptions job;
+  job.run_path = flags.run_path;
+  job.data_path = flags.data_path;
+  job.csv = options;
+  job.predictor.samples = flags.samples;
+  job.predictor.temperature = flags.temperature;
   if (flags.unseen) {
     Result<UnseenPolicy> parsed = parse_unseen_flag(*flags.unseen);
     if (!parsed.ok()) return parsed.status();
-    unseen = *parsed;
+    job.unseen = *parsed;
   }
-  Result<Predictor> predictor = Predictor::create(**run, predictor_options);
-  if (!predictor.ok()) {
-    return Status(predictor.status().code(), flags.run_path + ": " + predictor.status().message());
-  }
-  if (unseen) predictor->set_unseen_policy(*unseen);
-  run->reset();  // the samples now live in the predictor
-  if (predictor->temperature() != 1.0 && !flags.temperature && !global.quiet) {
-    std::fprintf(stderr,
-                 "using the temperature %.4g stored in the run (assess --save-temperature); "
-                 "--temperature 1 turns it off\n",
-                 predictor->temperature());
-  }
-
+  job.positive_class = flags.positive_class;
+  job.max_memory = flags.max_memory;
   // No --out (or --out -): the CSV goes to standard output, whole or not at all.
-  const std::string out = flags.out.empty() ? std::string(predict::kStandardOutput) : flags.out;
-  Result<PredictCsvSummary> done = predict_csv(*predictor, flags.data_path, out, options);
-  if (!done.ok()) return done.status();
+  job.out_path = flags.out.empty() ? std::string(predict::kStandardOutput) : flags.out;
+  const std::string out = job.out_path;
+  Result<PredictJobResult> result = run_predict_job(std::move(job));
+  if (!result.ok()) return result.status();
+  if (result->run_status != RunStatus::kComplete) {
+    log().warn("{}: the run is {}; predicted with the samples it kept so far", flags.run_path,
+               run_status_name(result->run_status));
+  }
+  if (result->temperature != 1.0 && !flags.temperature && !global.quiet) {
+    std::fprintf(stderr,
+                 "used the temperature %.4g stored in the run (assess --save-temperature); "
+                 "--temperature 1 turns it off\n",
+                 result->temperature);
+  }
+  const PredictCsvSummary* done = &result->summary;
+  const std::optional<PositiveClass>* positive = &result->positive;
   if (!global.quiet) {
     std::string line = fmt::format("predicted {} rows with {} samples into {}", done->rows,
                                    done->samples,
