@@ -8,7 +8,6 @@
 #include "cli/data_options.h"
 
 namespace credence::cli {
-namespace {
 
 // At most one rule: a fixed --threshold, costs, or a target sensitivity.
 Status threshold_rule(const AssessFlags& flags, ThresholdSettings& t) {
@@ -45,8 +44,6 @@ Status threshold_rule(const AssessFlags& flags, ThresholdSettings& t) {
   }
   return Status::ok_status();
 }
-
-}  // namespace
 
 Result<AssessJobOptions> assess_job_options(const AssessFlags& flags) {
   AssessJobOptions o;
@@ -114,6 +111,26 @@ Result<AssessJobOptions> assess_job_options(const AssessFlags& flags) {
     o.unseen = *unseen;
   }
   return o;
+}
+
+void add_decision_flags(CLI::App& sub, AssessFlags& flags) {
+  sub.add_option("--positive-class", flags.positive_class,
+                 "Two classes: the class decisions and curves are about (default: the run's, "
+                 "else the class that sorts second)")
+      ->group("Decisions");
+  sub.add_option("--threshold", flags.threshold,
+                 "Decide 'positive' where its probability is at least P (default 0.5)")
+      ->group("Decisions");
+  sub.add_option("--cost-fp", flags.cost_fp,
+                 "Cost of a false positive: choose the threshold of least total cost on the "
+                 "run's validation rows (with --cost-fn; the one not given is 1)")
+      ->group("Decisions");
+  sub.add_option("--cost-fn", flags.cost_fn, "Cost of a false negative (see --cost-fp)")
+      ->group("Decisions");
+  sub.add_option("--target-sensitivity", flags.target_sensitivity,
+                 "Choose the highest threshold whose sensitivity on the run's validation rows "
+                 "reaches S")
+      ->group("Decisions");
 }
 
 }  // namespace credence::cli

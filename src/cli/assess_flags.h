@@ -5,6 +5,8 @@
 #include <optional>
 #include <string>
 
+#include <CLI/CLI.hpp>
+
 #include "credence/assess.h"
 
 namespace credence::cli {
@@ -37,5 +39,13 @@ struct AssessFlags {
 /// conflicting flags (one threshold rule at most; --save-temperature needs
 /// --temperature-scale).
 Result<AssessJobOptions> assess_job_options(const AssessFlags& flags);
+
+/// The decision flags (--positive-class, --threshold, --cost-fp, --cost-fn,
+/// --target-sensitivity) on `sub`, read into `flags` (assess and report share them).
+void add_decision_flags(CLI::App& sub, AssessFlags& flags);
+
+/// How the decision threshold is chosen, from those flags; refuses out-of-range values
+/// and more than one rule.
+Status threshold_rule(const AssessFlags& flags, ThresholdSettings& threshold);
 
 }  // namespace credence::cli

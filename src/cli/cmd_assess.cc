@@ -108,23 +108,7 @@ void add_assess_command(CLI::App& app, const GlobalOptions& global, CommandList&
                   "default: the policy the run was trained with");
   sub->add_option("--truth", flags->truth_path,
                   "A synth truth file: also score the probabilities against the true ones");
-  sub->add_option("--positive-class", flags->positive_class,
-                  "Two classes: the class decisions and curves are about (default: the run's, "
-                  "else the class that sorts second)")
-      ->group("Decisions");
-  sub->add_option("--threshold", flags->threshold,
-                  "Decide 'positive' where its probability is at least P (default 0.5)")
-      ->group("Decisions");
-  sub->add_option("--cost-fp", flags->cost_fp,
-                  "Cost of a false positive: choose the threshold of least total cost on the "
-                  "run's validation rows (with --cost-fn; the one not given is 1)")
-      ->group("Decisions");
-  sub->add_option("--cost-fn", flags->cost_fn, "Cost of a false negative (see --cost-fp)")
-      ->group("Decisions");
-  sub->add_option("--target-sensitivity", flags->target_sensitivity,
-                  "Choose the highest threshold whose sensitivity on the run's validation rows "
-                  "reaches S")
-      ->group("Decisions");
+  add_decision_flags(*sub, *flags);
   add_max_memory_option(*sub, flags->max_memory);
   commands.push_back({sub, [flags, &global] { return run_assess(*flags, global); }});
 }

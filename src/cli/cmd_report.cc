@@ -3,6 +3,7 @@
 
 #include <cstdio>
 
+#include "cli/assess_flags.h"
 #include "cli/commands.h"
 #include "report/report_page.h"
 #include "report/verdict_output.h"
@@ -18,6 +19,7 @@ struct ReportFlags {
   std::string split = "auto";
   std::string truth_path;
   int bootstrap = 1000;
+  AssessFlags decisions;  // only the decision flags are read (add_decision_flags)
 };
 
 Status run_report(const ReportFlags& flags, const GlobalOptions& global) {
@@ -33,6 +35,8 @@ Status run_report(const ReportFlags& flags, const GlobalOptions& global) {
   }
   options.truth_path = flags.truth_path;
   options.metrics.bootstrap.resamples = flags.bootstrap;
+  CREDENCE_RETURN_IF_ERROR(threshold_rule(flags.decisions, options.threshold));
+  options.positive_class = flags.decisions.positive_class;
   Result<MethodRun> run = load_method_run(flags.run_path, flags.data_path, "", options);
   if (!run.ok()) return run.status();
   // The end-of-run checks, as diagnose judges them: without the probe rows' labels the
@@ -68,6 +72,7 @@ void add_report_command(CLI::App& app, const GlobalOptions& global, CommandList&
   sub->add_option("--split", flags->split, "test, all or auto (as assess)")->capture_default_str();
   sub->add_option("--truth", flags->truth_path, "A synth truth file");
   sub->add_option("--bootstrap", flags->bootstrap, "Bootstrap resamples")->capture_default_str();
+  add_decision_flags(*sub, flags->decisions);
   commands.push_back({sub, [flags, &global] { return run_report(*flags, global); }});
 }
 

@@ -153,6 +153,27 @@ TEST_F(Decisions, AssessNamesThePositiveClassAndItsDecisions) {
   }
 }
 
+// The report's decisions section follows the same threshold rules as assess (it used a
+// fixed 0.5 and took no decision flags before).
+TEST_F(Decisions, ReportChoosesTheThresholdAsAssessDoes) {
+  const std::string page = path("costs.html");
+  auto r = run_credence("--quiet report '" + run_ + "' '" + kDemo + "' --bootstrap 0 "
+                        "--cost-fp 1 --cost-fn 5 --out '" + page + "'");
+  ASSERT_EQ(r.exit_code, 0) << r.output;
+  const std::string html = testing::read_text(page);
+  EXPECT_NE(html.find("the least total cost (false positive 1, false negative 5)"),
+            std::string::npos)
+      << "the page names the cost rule";
+  EXPECT_EQ(html.find("a fixed threshold (--threshold, default 0.5)"), std::string::npos);
+  auto both = run_credence("--quiet report '" + run_ + "' '" + kDemo +
+                           "' --threshold 0.3 --target-sensitivity 0.9 --out '" +
+                           path("both.html") + "'");
+  EXPECT_EQ(both.exit_code, 2) << both.output;
+  EXPECT_NE(both.output.find("give one way to set the decision threshold"), std::string::npos)
+      << both.output;
+  EXPECT_FALSE(std::filesystem::exists(path("both.html")));
+}
+
 TEST_F(Decisions, BadFlagsAreRefusedWithExitCode2) {
   const std::pair<std::string, std::string> cases[] = {
       {"--threshold 1.5", "strictly between 0 and 1"},
