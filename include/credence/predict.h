@@ -53,9 +53,11 @@ struct Prediction {
   Eigen::MatrixXd interval_lo;
   Eigen::MatrixXd interval_hi;
   /// (B) How far each encoded row lies from the training rows (input_distance): the
-  /// largest |z| over its numeric inputs, and how many categorical inputs hold a category
-  /// the training rows never showed (encoded as all zeros).
+  /// largest |z| over its numeric inputs, the root mean square of those z (a distance from
+  /// the training rows' centre, about 1 for a typical training row), and how many
+  /// categorical inputs hold a category the training rows never showed (all zeros).
   Eigen::VectorXd farthest_z;
+  Eigen::VectorXd rms_z;
   Eigen::VectorXi unseen_inputs;
   /// Rows whose H - E H came out negative from rounding and were set to 0.
   std::int64_t clamped = 0;
@@ -112,11 +114,15 @@ class EnsembleAverager {
 Interval interval_of_members(std::span<double> values, double level);
 
 /// The largest |z| = |x - mean| / scale over the numeric inputs of each encoded row x
-/// (D, B), and the count of its categorical inputs encoded as all zeros (a category the
-/// training rows never showed, under UnseenPolicy::kIgnore). Constant training columns
-/// (scale 1, mean subtracted) count too: any value but the constant lies outside them.
+/// (D, B), the root mean square of those z (sqrt(sum z^2 / numeric inputs): the
+/// standardised distance from the training mean, ignoring correlations, scaled so a
+/// typical training row is near 1; 0 without numeric inputs), and the count of its
+/// categorical inputs encoded as all zeros (a category the training rows never showed,
+/// under UnseenPolicy::kIgnore). Constant training columns (scale 1, mean subtracted)
+/// count too: any value but the constant lies outside them.
 void input_distance(const Preprocessing& preprocessing, const Eigen::Ref<const Eigen::MatrixXf>& x,
-                    Eigen::VectorXd& farthest_z, Eigen::VectorXi& unseen_inputs);
+                    Eigen::VectorXd& farthest_z, Eigen::VectorXd& rms_z,
+                    Eigen::VectorXi& unseen_inputs);
 
 /// `wanted` indices spread evenly over 0..available-1 (floor(i * available / wanted)),
 /// in increasing order; every index when wanted is 0 or >= available.

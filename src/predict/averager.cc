@@ -132,19 +132,26 @@ Interval interval_of_members(std::span<double> values, double level) {
 // rows with no extra run-file field (docs/predictions-csv.md, "Inputs outside the
 // training range").
 void input_distance(const Preprocessing& preprocessing, const Eigen::Ref<const Eigen::MatrixXf>& x,
-                    Eigen::VectorXd& farthest_z, Eigen::VectorXi& unseen_inputs) {
+                    Eigen::VectorXd& farthest_z, Eigen::VectorXd& rms_z,
+                    Eigen::VectorXi& unseen_inputs) {
   farthest_z.setZero(x.cols());
+  rms_z.setZero(x.cols());  // the sum of z^2 until the end
   unseen_inputs.setZero(x.cols());
+  Index numeric = 0;
   for (const FeatureEncoding& f : preprocessing.features) {
     if (f.width < 1 || f.offset + f.width > x.rows()) continue;  // a shape error is reported elsewhere
+    numeric += f.type == ColumnType::kNumeric;
     for (Index b = 0; b < x.cols(); ++b) {
       if (f.type == ColumnType::kNumeric) {
-        farthest_z(b) = std::max(farthest_z(b), std::abs(static_cast<double>(x(f.offset, b))));
+        const double z = static_cast<double>(x(f.offset, b));
+        farthest_z(b) = std::max(farthest_z(b), std::abs(z));
+        rms_z(b) += z * z;
       } else if (x.block(f.offset, b, f.width, 1).cwiseAbs().maxCoeff() == 0.0f) {
         unseen_inputs(b) += 1;
       }
     }
   }
+  if (numeric > 0) rms_z = (rms_z / static_cast<double>(numeric)).cwiseSqrt();
 }
 
 std::vector<Index> spread_samples(Index available, Index wanted) {

@@ -123,7 +123,8 @@ void format_block(const Predictor& predictor, const Table& table, const OutputCo
     }
     const bool outside = p.farthest_z(b) > options.outside_z || p.unseen_inputs(b) > 0;
     result.outside += outside ? 1 : 0;
-    fmt::format_to(out, ",{:.9g},{},{}", p.farthest_z(b), p.unseen_inputs(b), outside ? 1 : 0);
+    fmt::format_to(out, ",{:.9g},{:.9g},{},{}", p.farthest_z(b), p.rms_z(b), p.unseen_inputs(b),
+                   outside ? 1 : 0);
     text += '\n';
   }
 }
@@ -269,7 +270,7 @@ Result<PredictCsvSummary> predict_csv(const Predictor& predictor, const std::str
     header += ',';
     append_field(header, "p_" + name + "_hi" + level);
   }
-  header += ",farthest_z,unseen_inputs,outside\n";
+  header += ",farthest_z,rms_z,unseen_inputs,outside\n";
 
   Result<predict::TempOutput> output = predict::TempOutput::create(output_path);
   if (!output.ok()) return output.status();

@@ -136,7 +136,7 @@ Status Predictor::predict_encoded(Workspace<float>& ws, EnsembleAverager& averag
     averager.add_member(ws.log_probs());  // (K, B)
   }
   averager.finish(out);
-  input_distance(preprocessing_, x, out.farthest_z, out.unseen_inputs);
+  input_distance(preprocessing_, x, out.farthest_z, out.rms_z, out.unseen_inputs);
   // "No NaN output ever": finite weights can still overflow float32 on an input far
   // outside the training range. Refuse the block rather than print NaN.
   if (const Index b = non_finite_row(out); b >= 0) {

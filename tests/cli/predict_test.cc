@@ -94,7 +94,7 @@ TEST_F(Predict, MatchesNumpyFromTheRunFile) {
   EXPECT_EQ(header,
             "pump_id,condition,p_failing,p_healthy,p_worn,predicted,confidence,entropy,"
             "expected_entropy,mutual_information,p_failing_lo90,p_failing_hi90,p_healthy_lo90,"
-            "p_healthy_hi90,p_worn_lo90,p_worn_hi90,farthest_z,unseen_inputs,outside");
+            "p_healthy_hi90,p_worn_lo90,p_worn_hi90,farthest_z,rms_z,unseen_inputs,outside");
   // Reference: numpy in double precision from the run file read with h5py; tolerance
   // 1e-5 absolute on probabilities and entropies (float32 forward passes).
   auto check = std::system((std::string(CREDENCE_PYTHON) + " '" + CREDENCE_SOURCE_DIR +

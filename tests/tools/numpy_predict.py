@@ -5,7 +5,8 @@ follows docs/run-file.md and nets/README.md), then computes in double precision,
 row (docs/methods.md 9.1): pbar = mean_s p_s, H[pbar] = -sum_k pbar log pbar, E H =
 mean_s -sum_k p_s log p_s, MI = H - E H, with 0 log 0 = 0. Compares them with the
 predictions CSV column by column (each interval column with numpy.quantile over the
-members) and prints the largest differences; exits 1 when a
+members; farthest_z and rms_z from the standardised numeric inputs) and prints the
+largest differences; exits 1 when a distance differs by more than 1e-5 relative, or a
 probability or an entropy differs by more than TOL (absolute), or a prediction differs
 where the top two probabilities are not within TOL of each other.
 
@@ -39,11 +40,17 @@ def reference(run_path, table_path):
     pbar = p.mean(axis=0)
     h = -plogp(pbar).sum(axis=1)
     eh = -plogp(p).sum(axis=2).mean(axis=0)
-    return classes, pbar, h, eh, h - eh, p
+    # farthest_z and rms_z (docs/predictions-csv.md) over the standardised numeric inputs.
+    feats = f["preprocessing/features"]
+    numeric = [int(feats["offset"][i]) for i in range(len(feats["type"]))
+               if feats["type"][i] == b"numeric"]
+    z = x[:, numeric]
+    distance = (np.abs(z).max(axis=1), np.sqrt((z ** 2).mean(axis=1))) if numeric else None
+    return classes, pbar, h, eh, h - eh, p, distance
 
 
 def main(run_path, table_path, pred_path, tol=1e-5):
-    classes, pbar, h, eh, mi, members = reference(run_path, table_path)
+    classes, pbar, h, eh, mi, members, distance = reference(run_path, table_path)
     with open(pred_path, newline="") as handle:
         pred = list(csv.DictReader(handle))
     if len(pred) != len(pbar):
@@ -76,6 +83,12 @@ def main(run_path, table_path, pred_path, tol=1e-5):
                 diff = np.abs(got - want[row])
                 print("%s max_abs_diff %.3g (numpy.quantile, linear)" % (name, diff.max()))
                 failed |= bool(diff.max() > tol)
+    if distance is not None and "rms_z" in pred[0]:
+        for name, want in zip(("farthest_z", "rms_z"), distance):
+            got = np.array([float(r[name]) for r in pred])
+            rel = np.abs(got - want) / np.maximum(1.0, np.abs(want))
+            print("%s max_rel_diff %.3g" % (name, rel.max()))
+            failed |= bool(rel.max() > 1e-5)  # credence encodes in float32
     top2 = np.sort(pbar, axis=1)[:, -2:]
     clear = (top2[:, 1] - top2[:, 0]) > tol
     want_class = np.array([classes[k] for k in pbar.argmax(axis=1)])
