@@ -41,10 +41,12 @@ void PrecisionGibbs::draw(ConstVecRef<S> theta, Potential<S>& potential) {
     const GammaShapeRate g = precision_conditional(
         shape_, rates_[i], static_cast<double>(prior.block_size(b)),
         prior.block_squared_norm<S>(theta, b), temperature_, tempering_);
-    drawn_[i] = gamma_draw(rng_, g.shape, g.rate);
+    // A diverged theta (a non-finite squared norm) has no conditional to draw from: the
+    // block keeps its precision and the sampler reports the divergence. (gamma_draw
+    // requires a finite positive rate; an assertion stopped the process here.)
+    drawn_[i] = std::isfinite(g.rate) && g.rate > 0 ? gamma_draw(rng_, g.shape, g.rate)
+                                                    : prior.block_precisions()[i];
   }
-  // A non-finite theta gives a non-finite draw; the prior then keeps its precisions and
-  // the sampler reports the divergence.
   (void)potential.set_block_precisions(drawn_);
 }
 

@@ -4,6 +4,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <limits>
 #include <vector>
 
 #include "credence/posterior.h"
@@ -153,6 +154,31 @@ TEST(PrecisionGibbs, StartsAtTheFixedPriorAndDrawsEveryKSteps) {
   EXPECT_EQ(gibbs.restore_state<double>(broken, *potential).code(), StatusCode::kCorrupt);
   broken.doubles.erase("prior_precision");
   EXPECT_EQ(gibbs.restore_state<double>(broken, *potential).code(), StatusCode::kCorrupt);
+}
+
+// A chain that diverged reaches the Gibbs update with non-finite weights: the update must
+// leave the precisions as they were (the sampler then reports the divergence), not stop
+// the process. Found by santa at --lr 0.003 on breast cancer: an assertion in gamma_draw
+// aborted train (exit 134).
+TEST(PrecisionGibbs, DivergedWeightsKeepThePrecisions) {
+  Result<ParamLayout> layout = two_layer_layout();
+  ASSERT_TRUE(layout.ok());
+  PriorSpec spec;
+  spec.learn_scale = true;
+  PotentialSettings settings{.num_train_rows = 10, .max_batch_rows = 10};
+  Result<Potential<double>> potential = Potential<double>::create(*layout, spec, settings);
+  ASSERT_TRUE(potential.ok());
+  const GaussianPrior& prior = potential->prior();
+  const std::vector<double> before(prior.block_precisions().begin(),
+                                   prior.block_precisions().end());
+  PrecisionGibbs gibbs(spec, prior, 1, 1.0, Tempering::kWholePosterior, 7);
+  for (double bad : {std::numeric_limits<double>::infinity(),
+                     std::numeric_limits<double>::quiet_NaN(), 1e300}) {
+    VecX<double> theta = VecX<double>::Constant(layout->num_params, 0.3);
+    theta(0) = bad;  // in block 0; 1e300 squared overflows to infinity
+    gibbs.draw<double>(theta, *potential);
+    EXPECT_EQ(prior.block_precisions()[0], before[0]) << bad;
+  }
 }
 
 TEST(PrecisionGibbs, MatchedRateCentresTheHyperpriorOnTheFixedPrecision) {
