@@ -15,6 +15,7 @@
 #include <mutex>
 #include <thread>
 
+#include "credence/run_verdict.h"
 #include "credence/summaries.h"
 #include "run/chain_pipeline.h"
 #include "run/chain_setup.h"
@@ -319,7 +320,12 @@ Status train_in_world(const TrainRequest& request, const mpi::World& world) {
   std::vector<ChainCheckpoint> resume;
   for (const ChainState& state : states) resume.push_back(checkpoint_of(state));
   const std::string& run_path = request.resume_path.empty() ? request.out_path : request.resume_path;
-  return run_root(world, p, *writer, run_path, std::move(resume), request.hooks);
+  Status status = run_root(world, p, *writer, run_path, std::move(resume), request.hooks);
+  writer.reset();  // closed, so that the verdict can read the file (as run_train does)
+  if (status.ok() && request.verdict != nullptr) {
+    *request.verdict = judge_run_file(run_path, p.probe.labels);
+  }
+  return status;
 }
 
 }  // namespace

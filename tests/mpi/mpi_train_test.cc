@@ -109,6 +109,15 @@ TEST_F(MpiTrain, TwoRanksGiveTheSamplesOfOneProcess) {
   ASSERT_EQ(two.exit_code, 0) << two.output;
   // Reference: h5py and numpy read both files; equality is exact (bit for bit).
   EXPECT_EQ(compare_with_h5py(local, spread), "same 40\n");
+  // The end-of-run verdict is printed under mpirun too (rank 0 judges the finished file),
+  // and it is the one process's verdict: the files hold the same samples.
+  const auto verdict_of = [](const std::string& output) {
+    const std::size_t at = output.find("verdict:");
+    return at == std::string::npos ? std::string("(no verdict)")
+                                   : output.substr(at, output.find('\n', at) - at);
+  };
+  EXPECT_NE(verdict_of(one.output), "(no verdict)") << one.output;
+  EXPECT_EQ(verdict_of(two.output), verdict_of(one.output)) << two.output;
   auto inspect = run_credence("inspect '" + spread + "'");
   ASSERT_EQ(inspect.exit_code, 0) << inspect.output;
   EXPECT_NE(inspect.output.find("40 kept of 40 planned"), std::string::npos) << inspect.output;
