@@ -7,6 +7,7 @@
 #include <atomic>
 #include <chrono>
 #include <cmath>
+#include <limits>
 #include <mutex>
 #include <string>
 
@@ -206,6 +207,16 @@ class ChainRunner {
       if (!theta_.allFinite()) {
         outcome_.end = ChainEnd::kDiverged;
         outcome_.reason = "theta is not finite at a kept sample";
+        outcome_.status = Status::diverged(outcome_.reason);
+        return;
+      }
+      // Finite weights can still be past what the run file's float summaries hold (a
+      // layer's squared norm overflows to inf, and readers then refuse the whole file):
+      // a chain whose weights ran that far has diverged; its earlier samples stay.
+      if (!(theta_.template cast<double>().squaredNorm() <
+            static_cast<double>(std::numeric_limits<float>::max()))) {
+        outcome_.end = ChainEnd::kDiverged;
+        outcome_.reason = "the weights' squared norm is past a float's range at a kept sample";
         outcome_.status = Status::diverged(outcome_.reason);
         return;
       }

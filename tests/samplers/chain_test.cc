@@ -2,8 +2,10 @@
 // the relativistic speed bound, optimizers and mass adaptation.
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <atomic>
 #include <cmath>
+#include <limits>
 #include <map>
 #include <vector>
 
@@ -190,6 +192,43 @@ TEST(ChainDriver, DivergenceStopsOnlyThatChainAndIsReported) {
     EXPECT_TRUE(bad.checkpoint.theta.allFinite() || bad.reason.find("theta") != std::string::npos);
     std::printf("%s: %s\n", std::string(method_name(m)).c_str(), outcome->status.message().c_str());
   }
+}
+
+TEST(ChainDriver, WeightsPastTheRunFilesRangeEndTheChainBeforeTheyAreKept) {
+  // U = -theta^2 / 2 (a variance of -1) pushes theta outwards by a constant factor per
+  // step, while U falls, so the potential bound never fires. Between |theta| = 1.8e19 and
+  // 3.4e38 theta is finite but its squared norm overflows a float, the type of the run
+  // file's layer norms (readers then refuse the whole file). Such a sample must end the
+  // chain as diverged, not be kept. Before this check, kept samples reached 1e38.
+  SamplerSettings s = settings_for(Method::kSgld);
+  s.step_size = 0.1;
+  ChainSettings c;
+  c.chains = 1;
+  c.burn_in = 0;
+  c.thin = 1;
+  c.samples = 5000;
+  c.seed = testing::test_seed(45);
+  ChainHooks hooks;
+  double largest = 0;
+  int kept = 0;
+  hooks.on_sample = [&](const KeptSample& k) {
+    largest = std::max(largest, k.theta.cast<double>().squaredNorm());
+    ++kept;
+  };
+  auto factory = [](int) {
+    return std::make_unique<IndependentGaussian>(Eigen::VectorXf::Constant(4, -1.0f));
+  };
+  auto init = [](int, ThetaRef theta) {
+    theta.setOnes();
+    return Status::ok_status();
+  };
+  Result<RunOutcome> outcome = run_chains(s, c, 4, factory, init, hooks);
+  ASSERT_TRUE(outcome.ok());
+  const ChainOutcome& chain = outcome->chains[0];
+  EXPECT_EQ(chain.end, ChainEnd::kDiverged);
+  EXPECT_NE(chain.reason.find("past a float's range"), std::string::npos) << chain.reason;
+  EXPECT_GT(kept, 100) << "the samples before the escape are kept";
+  EXPECT_LT(largest, static_cast<double>(std::numeric_limits<float>::max()));
 }
 
 TEST(ChainDriver, RelativisticStepNeverExceedsEpsTimesC) {
