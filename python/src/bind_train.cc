@@ -74,11 +74,7 @@ py::dict train(const std::string& data_path, const std::string& out_path,
     raise_if_error(check_method_flags(r.settings.sampler.method,
                                       r.settings.sampler.schedule.kind, false, given));
     apply_method_defaults(r.settings.sampler, given);
-    r.budget_given = BudgetGiven{.burn_in = options.contains("burn_in"),
-                                 .thin = options.contains("thin"),
-                                 .samples = options.contains("samples"),
-                                 .steps = options.contains("steps"),
-                                 .epochs = options.contains("epochs")};
+    r.budget_given = budget_given_of(given);
     r.settings.chains.seed = r.data.split.seed;
     r.settings.summary_seed = r.data.split.seed;
     if (r.hidden.empty() && !options.contains("hidden")) r.hidden = {32, 32};

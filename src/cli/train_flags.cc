@@ -77,16 +77,7 @@ Status resolve_train_flags(TrainFlags& flags) {
           "a positive scale such as 1", flags.prior_scale));
     }
   }
-  r.budget_given = BudgetGiven{.burn_in = flags.burn_in->count() > 0,
-                               .thin = flags.thin->count() > 0,
-                               .samples = flags.samples->count() > 0,
-                               .steps = flags.steps->count() > 0,
-                               .epochs = flags.epochs->count() > 0,
-                               .check_every = flags.check_every->count() > 0,
-                               .patience = flags.patience->count() > 0,
-                               .min_steps = flags.min_steps->count() > 0,
-                               .max_move = flags.given.count("--max-move") > 0 ||
-                                           flags.given.count("--speed") > 0};
+  r.budget_given = budget_given_of(flags.given);
   // The split and the chains have seeds of their own: runs with one --seed and different
   // --chain-seed values share their split and can be merged.
   r.settings.chains.seed =

@@ -44,7 +44,7 @@ TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
   }
   // The budget is compare's; train adds only the optimizers' early stopping.
   r.budget_given = BudgetGiven{.burn_in = true, .thin = true, .samples = true, .steps = true,
-                               .epochs = true};
+                               .epochs = true, .learning_rate = entry.learning_rate.has_value()};
   return r;
 }
 

@@ -92,4 +92,28 @@ std::string size_max_move(TrainSettings& s, std::int64_t train_rows, const Budge
                      train_rows, s.sampler.relativistic.max_move, kMaxMoveCap, kMaxMoveRows);
 }
 
+std::string size_learning_rate(TrainSettings& s, std::int64_t train_rows, const BudgetGiven& given) {
+  if (s.sampler.method != Method::kSghmc || given.learning_rate || train_rows < 1) return {};
+  s.sampler.learning_rate = std::clamp(kSghmcLrPerSqrtRow * std::sqrt(static_cast<double>(train_rows)),
+                                       kSghmcLrFloor, kSghmcLrCap);
+  return fmt::format("sghmc's learning rate sized to {} training rows: {:.3g} (default: "
+                     "{:g} x sqrt(rows), between {:g} and {:g})",
+                     train_rows, s.sampler.learning_rate, kSghmcLrPerSqrtRow, kSghmcLrFloor,
+                     kSghmcLrCap);
+}
+
+BudgetGiven budget_given_of(const std::set<std::string>& given) {
+  const auto has = [&](const char* flag) { return given.count(flag) > 0; };
+  return BudgetGiven{.burn_in = has("--burn-in"),
+                     .thin = has("--thin"),
+                     .samples = has("--samples"),
+                     .steps = has("--steps"),
+                     .epochs = has("--epochs"),
+                     .check_every = has("--check-every"),
+                     .patience = has("--patience"),
+                     .min_steps = has("--min-steps"),
+                     .max_move = has("--max-move") || has("--speed"),
+                     .learning_rate = has("--lr")};
+}
+
 }  // namespace credence

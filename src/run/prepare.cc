@@ -148,6 +148,8 @@ Result<PreparedRun> prepare_new_run(const TrainRequest& request) {
     if (!chosen.empty()) log().info("{}", chosen);
     const std::string moved = size_max_move(p.settings, p.rows.x.cols(), *request.budget_given);
     if (!moved.empty()) log().info("{}", moved);
+    const std::string rate = size_learning_rate(p.settings, p.rows.x.cols(), *request.budget_given);
+    if (!rate.empty()) log().info("{}", rate);
   }
   if (p.layout.num_params > kParametersPerRowWarning * p.rows.x.cols()) {
     warn_once(fmt::format("{} parameters for {} training rows ({:.0f} per row, more than {}): the "
