@@ -87,6 +87,10 @@ struct TuningMeasures {
   /// rhmc: the Metropolis acceptance probability after burn-in, mean over chains of each
   /// chain's mean; NaN for rsghmc, which has no Metropolis test.
   double acceptance = 0;
+  /// rhmc: trajectories whose energy error passed 1000 T or turned non-finite, summed over
+  /// chains (each one was rejected, not fatal: docs/methods.md section 6); NaN for rsghmc.
+  /// Read from the chains' last states by the map, not by tuning_measures.
+  double divergent_trajectories = 0;
   double test_nll = 0;         // mean NLL of the ensemble on the test rows (nats)
   int diverged_chains = 0;     // chains that stopped on a non-finite potential
   int chains = 0;
@@ -125,7 +129,8 @@ std::optional<std::size_t> choose_tuning_cell(const std::vector<TuningCell>& cel
 /// "cells", numbers in full precision, null where NaN). Columns, in order: method, mass,
 /// <axis name>, trained, chosen, ess_bulk, gradient_evals, ess_per_1000_grads,
 /// speed_ratio, test_nll, diverged_chains, chains, run_file, passes, ess_per_1000_passes,
-/// acceptance (the last three added after run_file, so older readers keep their columns).
+/// acceptance, divergent_trajectories (the last four added after run_file, so older
+/// readers keep their columns).
 std::string tuning_map_csv(const std::vector<TuningCell>& cells, TuningAxis axis);
 std::string tuning_map_json(const std::vector<TuningCell>& cells, TuningAxis axis);
 

@@ -83,6 +83,23 @@ std::string rhmc_budget_line(const CompareRequest& compare, const RhmcBudget& b)
                          : std::string("rhmc's default budget in train; --epochs sets it"));
 }
 
+// rhmc's divergent trajectories (energy error past 1000 T, or non-finite), summed over the
+// chains' last committed states (the sampler keeps the count in its state word
+// "divergent", src/samplers/hamiltonian.cc). NaN when a state lacks it.
+Result<double> divergent_trajectories(const std::string& run_path) {
+  Result<std::unique_ptr<RunReader>> reader = RunReader::open(run_path);
+  if (!reader.ok()) return reader.status();
+  Result<std::vector<ChainState>> states = (*reader)->chain_states();
+  if (!states.ok()) return states.status();
+  double sum = 0;
+  for (const ChainState& c : *states) {
+    const auto found = c.state.words.find("divergent");
+    if (found == c.state.words.end() || found->second.size() != 1) return std::nan("");
+    sum += static_cast<double>(found->second[0]);
+  }
+  return sum;
+}
+
 // Flags an rhmc-only map would ignore, and budgets too small for two trajectories: refused
 // before anything is trained or written (as method_flags refuses them in train).
 Status check_rhmc_flags(const TuningMapRequest& request, const TuningGrid& grid) {
@@ -223,6 +240,11 @@ Result<SweepSummary> run_tuning_map_job(TuningMapRequest request) {
       cell.measures = tuning_measures(o.run->diagnostics, o.run->assessment.scored.metrics.nll,
                                       o.run->summary.chain_status,
                                       cell.method == Method::kRhmc ? 1.0 : minibatches_per_pass);
+      if (cell.method == Method::kRhmc) {
+        Result<double> divergent = divergent_trajectories(o.run_path);
+        if (!divergent.ok()) return divergent.status();
+        cell.measures.divergent_trajectories = *divergent;
+      }
     } else {
       cell.measures = tuning_measures(std::nullopt, std::nan(""), {});
       cell.measures.chains = compare.chains;

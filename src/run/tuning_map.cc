@@ -137,7 +137,7 @@ TuningMeasures tuning_measures(const std::optional<RunDiagnostics>& diagnostics,
                                double gradients_per_pass) {
   TuningMeasures m;
   m.ess_per_1000_grads = m.ess_bulk = m.gradient_evals = m.speed_ratio = kNaN;
-  m.passes = m.ess_per_1000_passes = m.acceptance = kNaN;
+  m.passes = m.ess_per_1000_passes = m.acceptance = m.divergent_trajectories = kNaN;
   m.test_nll = test_nll;
   m.chains = static_cast<int>(chain_status.size());
   for (ChainStatus s : chain_status) m.diverged_chains += s == ChainStatus::kDiverged;
@@ -201,19 +201,20 @@ std::optional<std::size_t> choose_tuning_cell(const std::vector<TuningCell>& cel
 std::string tuning_map_csv(const std::vector<TuningCell>& cells, TuningAxis axis) {
   std::string out = fmt::format(
       "method,mass,{},trained,chosen,ess_bulk,gradient_evals,ess_per_1000_grads,speed_ratio,"
-      "test_nll,diverged_chains,chains,run_file,passes,ess_per_1000_passes,acceptance\n",
+      "test_nll,diverged_chains,chains,run_file,passes,ess_per_1000_passes,acceptance,"
+      "divergent_trajectories\n",
       tuning_axis_name(axis));
   for (std::size_t i = 0; i < cells.size(); ++i) {
     const TuningCell& c = cells[i];
     const TuningMeasures& m = c.measures;
     const bool chosen = choose_tuning_cell(cells, c.method) == i;
-    out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", method_name(c.method),
+    out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", method_name(c.method),
                        csv_number(c.mass), csv_number(c.value), c.trained ? 1 : 0, chosen ? 1 : 0,
                        csv_number(m.ess_bulk), csv_number(m.gradient_evals),
                        csv_number(m.ess_per_1000_grads), csv_number(m.speed_ratio),
                        csv_number(m.test_nll), m.diverged_chains, m.chains, c.run_file,
                        csv_number(m.passes), csv_number(m.ess_per_1000_passes),
-                       csv_number(m.acceptance));
+                       csv_number(m.acceptance), csv_number(m.divergent_trajectories));
   }
   return out;
 }
@@ -232,13 +233,15 @@ std::string tuning_map_json(const std::vector<TuningCell>& cells, TuningAxis axi
         "{}\n    {{\"method\": {}, \"mass\": {}, {}: {}, \"trained\": {}, \"chosen\": {}, "
         "\"ess_bulk\": {}, \"gradient_evals\": {}, \"ess_per_1000_grads\": {}, "
         "\"speed_ratio\": {}, \"test_nll\": {}, \"diverged_chains\": {}, \"chains\": {}, "
-        "\"run_file\": {}, \"passes\": {}, \"ess_per_1000_passes\": {}, \"acceptance\": {}}}",
+        "\"run_file\": {}, \"passes\": {}, \"ess_per_1000_passes\": {}, \"acceptance\": {}, "
+        "\"divergent_trajectories\": {}}}",
         i == 0 ? "" : ",", json_string(method_name(c.method)), json_number(c.mass),
         json_string(tuning_axis_name(axis)), json_number(c.value), c.trained ? "true" : "false",
         chosen ? "true" : "false", json_number(m.ess_bulk), json_number(m.gradient_evals),
         json_number(m.ess_per_1000_grads), json_number(m.speed_ratio), json_number(m.test_nll),
         m.diverged_chains, m.chains, json_string(c.run_file), json_number(m.passes),
-        json_number(m.ess_per_1000_passes), json_number(m.acceptance));
+        json_number(m.ess_per_1000_passes), json_number(m.acceptance),
+        json_number(m.divergent_trajectories));
   }
   out += "\n  ]\n}\n";
   return out;

@@ -154,12 +154,13 @@ TEST(TuningMapFiles, CsvAndJsonCarryEveryDocumentedColumn) {
   EXPECT_EQ(csv.substr(0, csv.find('\n')),
             "method,mass,max_move,trained,chosen,ess_bulk,gradient_evals,ess_per_1000_grads,"
             "speed_ratio,test_nll,diverged_chains,chains,run_file,passes,ess_per_1000_passes,"
-            "acceptance");
-  EXPECT_NE(csv.find("rsghmc,10,0.01,1,1,0,0,6,,0.3,0,2,cell.h5,0,0,0\n"), std::string::npos) << csv;
+            "acceptance,divergent_trajectories");
+  EXPECT_NE(csv.find("rsghmc,10,0.01,1,1,0,0,6,,0.3,0,2,cell.h5,0,0,0,0\n"), std::string::npos) << csv;
   const std::string json = tuning_map_json(cells, TuningAxis::kStepSize);
   EXPECT_NE(json.find("\"learning_rate\": 0.01"), std::string::npos) << json;
   EXPECT_NE(json.find("\"speed_ratio\": null"), std::string::npos) << json;
-  EXPECT_NE(json.find("\"ess_per_1000_passes\": 0, \"acceptance\": 0}"), std::string::npos) << json;
+  EXPECT_NE(json.find("\"ess_per_1000_passes\": 0, \"acceptance\": 0, \"divergent_trajectories\": 0}"),
+            std::string::npos) << json;
   EXPECT_NE(json.find("\"choice_rule\""), std::string::npos) << json;
 }
 

@@ -18,6 +18,8 @@ independently with h5py (docs/run-file.md):
     burn-in (step > burn_in), as the sampler recorded it (rhmc: one row per trajectory,
     which must be there);
   * acceptance: the same mean of the trace's acceptance column for rhmc, null for rsghmc;
+  * divergent_trajectories: for rhmc the sum over chains of the active slot's sampler state
+    word "divergent" (docs/run-file.md), null for rsghmc;
   * the stored rest mass and max move (or learning rate) are the cell's, and the mass was
     not adapted;
   * with --epochs E: an rhmc cell ran floor(E / L) trajectories per chain, half at least
@@ -71,6 +73,8 @@ def measure(path):
     settings["train_rows"] = len(f["data/train_rows"])
     settings["per_chain_grads"] = [int(g) for g in slot["gradient_evals"][:]]
     settings["next_step"] = [int(n) for n in slot["next_step"][:]]
+    words = "state/words/divergent"
+    settings["divergent"] = float(np.sum(slot[words][:])) if words in slot else None
     return ess, grads, trace_mean("speed_ratio"), trace_mean("acceptance"), settings
 
 
@@ -124,6 +128,9 @@ def main(out_dir, epochs=None):
             failures.append("%s: passes %r, h5py %r" % (name, cell["passes"], passes))
         if not close(cell["ess_per_1000_passes"], 1000 * ess / passes):
             failures.append("%s: ess_per_1000_passes %r" % (name, cell["ess_per_1000_passes"]))
+        if not close(cell["divergent_trajectories"], settings["divergent"] if rhmc else None):
+            failures.append("%s: divergent_trajectories %r, h5py %r"
+                            % (name, cell["divergent_trajectories"], settings["divergent"]))
         if not close(cell["acceptance"], acceptance):
             failures.append("%s: acceptance %r, traces %r" % (name, cell["acceptance"], acceptance))
         if not close(cell["ess_bulk"], ess):
