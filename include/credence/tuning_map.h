@@ -88,7 +88,8 @@ struct TuningMeasures {
   /// chain's mean; NaN for rsghmc, which has no Metropolis test.
   double acceptance = 0;
   /// rhmc: trajectories whose energy error passed 1000 T or turned non-finite, summed over
-  /// chains (each one was rejected, not fatal: docs/methods.md section 6); NaN for rsghmc.
+  /// chains, burn-in included (each was rejected, not fatal: docs/methods.md section 6);
+  /// NaN for rsghmc.
   /// Read from the chains' last states by the map, not by tuning_measures.
   double divergent_trajectories = 0;
   double test_nll = 0;         // mean NLL of the ensemble on the test rows (nats)
