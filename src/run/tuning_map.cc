@@ -91,6 +91,12 @@ Result<TuningGrid> parse_tuning_grid(const std::string& masses_text,
   for (Method m : methods) {
     if (m == Method::kRsghmc || m == Method::kRhmc) continue;
     const std::string name(method_name(m));
+    if (m == Method::kHmc) {
+      return Status::invalid_input(
+          "--methods: --masses and --max-moves map the rest mass and speed of light of rsghmc "
+          "and rhmc; hmc reads neither: give --methods rhmc (hmc's full-data steps are not "
+          "swept: train it on its own with credence train)");
+    }
     if (m == Method::kRsgd) {
       return Status::invalid_input(
           "--methods: the map measures sampling (ESS, |v|/c) and rsgd is an optimizer; give "

@@ -45,6 +45,7 @@ TEST(TuningGrid, RefusesWhatItCannotMap) {
       {"1", "0.01", "", {Method::kSghmc}, "sghmc reads neither"},
       {"1", "0.01", "", {Method::kRsghmc, Method::kSgld}, "sgld reads neither"},
       {"1", "0.01", "", {Method::kRsgd}, "rsgd is an optimizer"},
+      {"1", "0.01", "", {Method::kHmc}, "hmc reads neither: give --methods rhmc"},
       {"", "0.01", "", {Method::kRsghmc}, "give --masses too"},
       {"1", "", "", {Method::kRsghmc}, "needs a second axis"},
       {"1", "0.01", "0.1", {Method::kRsghmc}, "not both"},
