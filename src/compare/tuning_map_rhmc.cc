@@ -17,7 +17,9 @@ RhmcBudget rhmc_budget(const CompareRequest& compare, const CompareBudget& budge
   const int leapfrog = HmcSettings{}.leapfrog_steps;
   RhmcBudget out;
   if (compare.epochs > 0) {
-    const auto iterations = static_cast<std::int64_t>(std::floor(compare.epochs / leapfrog));
+    // Capped so that an absurd --epochs cannot overflow the cast (it would never finish).
+    const auto iterations =
+        static_cast<std::int64_t>(std::min(std::floor(compare.epochs / leapfrog), 1e15));
     const SamplerShare share = sampler_share(iterations, budget.samples);
     out.burn_in = share.burn_in;
     out.thin = share.thin;
