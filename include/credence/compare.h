@@ -79,12 +79,15 @@ struct CompareLists {
   /// Hidden-layer widths; "none": no hidden layer. Not read with a net_path.
   std::string hidden = "32,32";
   bool extend_given = false;     // extend_seconds was given (refused with epochs)
+  /// Accept hmc and rhmc, whose steps read every row: only the tuning map sets it, as it
+  /// gives rhmc's cells a budget of their own in passes (sweep.h). Default false.
+  bool full_batch_allowed = false;
 };
 
 /// Checks `request` (filled in but for entries and hidden), sets its hidden widths from
 /// `lists` and returns the methods of lists.methods. Refuses (kInvalidInput, naming the
 /// flag): no target, an unknown method or a full-data one (hmc, rhmc, which have no
-/// minibatch budget to share), --samples with only optimizers, bad widths,
+/// minibatch budget to share; unless lists.full_batch_allowed), --samples with only optimizers, bad widths,
 /// --extend-seconds with --epochs, and out-of-range epochs, chains, batch, samples or
 /// bootstrap.
 Result<std::vector<Method>> complete_compare_request(CompareRequest& request,

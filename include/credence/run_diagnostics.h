@@ -92,6 +92,9 @@ struct RunDiagnostics {
   /// after burn-in (empty otherwise), and a one-line reading of it (docs/methods.md 5.2, 5.6).
   std::vector<double> speed_ratio_per_chain;
   std::string speed_note;
+  /// hmc and rhmc: mean Metropolis acceptance probability per chain over the trace after
+  /// burn-in (empty for methods without a Metropolis test; NaN for a chain with no row).
+  std::vector<double> acceptance_per_chain;
   /// Caveats for the whole run: cut lengths, missing timings, thinning, few draws.
   std::vector<std::string> notes;
 };

@@ -34,12 +34,17 @@ struct SweepSummary {
 /// sweep.csv, sweep.json, nll.svg, ece.svg and report.html into compare.out_dir.
 Result<SweepSummary> run_sweep_job(SweepRequest request);
 
-/// rsghmc's tuning map: every cell of masses x (max moves or learning rates) trained
-/// through the comparison's split and budget (tuning_map.h holds the grid and measures).
+/// The tuning map of rsghmc and rhmc: every cell of masses x (max moves or learning rates)
+/// trained through the comparison's split and budget (tuning_map.h holds the grid and
+/// measures). rsghmc's cells spend compare's minibatch steps; rhmc's cells spend the same
+/// passes over the training rows (--epochs) as trajectories of L leapfrog steps, one
+/// full-data gradient each, or rhmc's default budget in train when no --epochs is given.
 struct TuningMapRequest {
   /// The comparison every cell shares; its entries are filled by run_tuning_map_job.
   CompareRequest compare;
-  std::vector<Method> methods;  // only rsghmc is mapped; others are refused
+  std::vector<Method> methods;  // rsghmc and/or rhmc; others are refused
+  /// --batch was given: refused when only rhmc is mapped (its gradients read every row).
+  bool batch_given = false;
   std::string masses;           // --masses: a list or FROM:TO:COUNT
   std::string max_moves;        // --max-moves; empty when step_sizes is the second axis
   std::string step_sizes;       // --step-sizes, only when given
@@ -47,7 +52,9 @@ struct TuningMapRequest {
 
 /// Checks the grid (nothing is trained or written when it is refused), trains every cell
 /// and writes tuning_map.csv, tuning_map.json, one heat map per measure and method
-/// (<method>_<measure>.svg), sweep.txt and report.html into compare.out_dir.
+/// (<method>_<measure>.svg; rhmc adds its acceptance), sweep.txt and report.html into
+/// compare.out_dir. With rhmc it also refuses (kInvalidInput): batch_given when rhmc is
+/// the only method, compare.extend_seconds > 0, and --epochs under two trajectories.
 Result<SweepSummary> run_tuning_map_job(TuningMapRequest request);
 
 }  // namespace credence

@@ -1,15 +1,21 @@
-// tuning_map: rsghmc's grid of rest mass x per-step move bound (or x learning rate), one training per cell on one split and budget, and what each
-// cell measured: bulk-ESS of the probe log-likelihood per 1000 gradient evaluations, mean
-// |v|/c, test NLL and diverged chains. The map answers "which mass and speed of light?"
-// by measurement on the user's table instead of by trial and error.
+// tuning_map: the relativistic samplers' grid (rsghmc, rhmc) of rest mass x per-step move
+// bound (or x learning rate), one training per cell on one split and budget, and what each
+// cell measured: bulk-ESS of the probe log-likelihood per 1000 gradient evaluations and per
+// 1000 passes over the training rows, mean |v|/c, test NLL, diverged chains and (rhmc)
+// the Metropolis acceptance. The map answers "which mass and speed of light?" by
+// measurement on the user's table instead of by trial and error.
+//
+// Units: an rsghmc gradient reads one minibatch, an rhmc gradient every training row (one
+// pass), so ESS per 1000 gradients compares cells of one method only; ESS per 1000 passes
+// compares rsghmc's cells with rhmc's.
 //
 // The grid is parsed and checked here (TuningGrid); `credence sweep` trains the cells and
 // fills TuningCell from each run's diagnostics (run_diagnostics.h) and assessment; the
 // chosen cell and the CSV and JSON of the map come from the pure functions below, which
 // are safe from several threads at once.
 //
-//   Result<TuningGrid> grid = parse_tuning_grid("0.1,1,10", "0.003,0.01", "", {Method::kRsghmc});
-//   ... cells[i].measures = tuning_measures(diagnostics, test_nll, chain_status);
+//   Result<TuningGrid> grid = parse_tuning_grid("0.1,1,10", "0.003,0.01", "", {Method::kRhmc});
+//   ... cells[i].measures = tuning_measures(diagnostics, test_nll, chain_status, 1);
 //   std::optional<std::size_t> best = choose_tuning_cell(cells);
 //
 // Cautions (README, "Reading a tuning map"): a map is measured on one table, one split
@@ -39,7 +45,7 @@ std::string_view tuning_axis_name(TuningAxis axis);
 
 /// The cells to train: every method x every mass x every value of the second axis.
 struct TuningGrid {
-  std::vector<Method> methods;  // rsghmc (the one method mapped so far)
+  std::vector<Method> methods;  // rsghmc and/or rhmc, in the order given
   std::vector<double> masses;   // rest masses m, > 0, in the order given
   TuningAxis axis = TuningAxis::kMaxMove;
   std::vector<double> values;   // max moves or learning rates, > 0, in the order given
@@ -51,9 +57,9 @@ struct TuningGrid {
 Result<std::vector<double>> parse_positive_values(const std::string& text, std::string_view flag);
 
 /// The grid of `masses_text` x (`max_moves_text`, or else `step_sizes_text`) for
-/// `methods`. kInvalidInput, one message, when a method is not rsghmc (rhmc takes full-data
-/// steps with no minibatch budget to share; rsgd is an optimizer with nothing to sample;
-/// the others read no mass), when both second axes are given, when --masses is missing,
+/// `methods`. kInvalidInput, one message, when a method is neither rsghmc nor rhmc (rsgd
+/// is an optimizer with nothing to sample; the others read no mass), when both second
+/// axes are given, when --masses is missing,
 /// when a list is malformed, or when two values of a list agree to 4 significant digits
 /// (which name the cells and their run files).
 Result<TuningGrid> parse_tuning_grid(const std::string& masses_text,
@@ -72,15 +78,31 @@ struct TuningMeasures {
   /// Mean |v|/c over chains of each chain's mean after burn-in, as the sampler recorded it
   /// in its trace (docs/methods.md 5.2, 5.6); NaN where no trace row recorded it.
   double speed_ratio = 0;
+  /// The gradients' cost in passes over the training rows, summed over chains:
+  /// gradient_evals / gradients_per_pass (ceil(N / batch) for rsghmc, 1 for rhmc, whose
+  /// every gradient reads all N rows). NaN when the cost is not known.
+  double passes = 0;
+  /// 1000 * ess_bulk / passes: the rate that compares rsghmc's cells with rhmc's.
+  double ess_per_1000_passes = 0;
+  /// rhmc: the Metropolis acceptance probability after burn-in, mean over chains of each
+  /// chain's mean; NaN for rsghmc, which has no Metropolis test.
+  double acceptance = 0;
+  /// rhmc: trajectories whose energy error passed 1000 T or turned non-finite, summed over
+  /// chains, burn-in included (each was rejected, not fatal: docs/methods.md section 6);
+  /// NaN for rsghmc.
+  /// Read from the chains' last states by the map, not by tuning_measures.
+  double divergent_trajectories = 0;
   double test_nll = 0;         // mean NLL of the ensemble on the test rows (nats)
   int diverged_chains = 0;     // chains that stopped on a non-finite potential
   int chains = 0;
 };
 
 /// The measures of a trained cell from its diagnostics (empty: no kept samples), its test
-/// NLL and its chains' end states.
+/// NLL, its chains' end states and how many of its gradient evaluations make one pass over
+/// the training rows (gradients_per_pass above; 0: unknown, passes are NaN).
 TuningMeasures tuning_measures(const std::optional<RunDiagnostics>& diagnostics, double test_nll,
-                               const std::vector<ChainStatus>& chain_status);
+                               const std::vector<ChainStatus>& chain_status,
+                               double gradients_per_pass = 0);
 
 /// One cell of the map.
 struct TuningCell {
@@ -107,7 +129,9 @@ std::optional<std::size_t> choose_tuning_cell(const std::vector<TuningCell>& cel
 /// empty where NaN) and as JSON (an object with "axis", "choice_rule", "cautions" and
 /// "cells", numbers in full precision, null where NaN). Columns, in order: method, mass,
 /// <axis name>, trained, chosen, ess_bulk, gradient_evals, ess_per_1000_grads,
-/// speed_ratio, test_nll, diverged_chains, chains, run_file.
+/// speed_ratio, test_nll, diverged_chains, chains, run_file, passes, ess_per_1000_passes,
+/// acceptance, divergent_trajectories (the last four added after run_file, so older
+/// readers keep their columns).
 std::string tuning_map_csv(const std::vector<TuningCell>& cells, TuningAxis axis);
 std::string tuning_map_json(const std::vector<TuningCell>& cells, TuningAxis axis);
 

@@ -12,7 +12,7 @@ namespace {
 struct SweepFlags {
   CompareFlags compare;
   std::string step_sizes = "1e-3:1:7";
-  TuningMapFlags map;  // --masses x --max-moves: rsghmc's tuning map (sweep_map.h)
+  TuningMapFlags map;  // --masses x --max-moves: rsghmc's and rhmc's tuning map (sweep_map.h)
 };
 
 Status run_sweep(const SweepFlags& flags, const GlobalOptions& global) {

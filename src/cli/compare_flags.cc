@@ -71,7 +71,8 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
       "share their split, so their run files can be merged");
 }
 
-Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Method>& methods) {
+Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Method>& methods,
+                                       bool full_batch_allowed) {
   CompareRequest r;
   r.data_path = flags.data_path;
   Result<DataOptions> data = resolve_data_options(flags.data);
@@ -94,7 +95,8 @@ Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Me
   const CompareLists lists{
       .methods = flags.methods,
       .hidden = flags.hidden,
-      .extend_given = flags.extend_option != nullptr && flags.extend_option->count() > 0};
+      .extend_given = flags.extend_option != nullptr && flags.extend_option->count() > 0,
+      .full_batch_allowed = full_batch_allowed};
   Result<std::vector<Method>> chosen = complete_compare_request(r, lists);
   if (!chosen.ok()) return chosen.status();
   methods = std::move(*chosen);

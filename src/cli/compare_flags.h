@@ -35,8 +35,10 @@ struct CompareFlags {
 /// budget flags, --out DIR, --truth and --bootstrap.
 void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string& default_methods);
 
-/// The request without entries (the caller adds them), and the method list parsed.
-Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Method>& methods);
+/// The request without entries (the caller adds them), and the method list parsed;
+/// `full_batch_allowed`: accept hmc and rhmc (the tuning map only, CompareLists).
+Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Method>& methods,
+                                       bool full_batch_allowed = false);
 
 /// Ctrl-C, the progress line, the budget line on stderr (unless --quiet) and the
 /// command line for the run files.

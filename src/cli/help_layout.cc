@@ -310,7 +310,10 @@ std::vector<HelpExample> help_examples(std::string_view command) {
          "--methods sgld,sghmc --step-sizes 1e-3:1:7 --out swp"},
         {"rsghmc's tuning map: rest mass against the largest move per step",
          "credence sweep demo.csv --target fault_14d --id unit_id --impute median "
-         "--masses 0.01:10:4 --max-moves 0.003,0.01,0.03 --out map"}}},
+         "--masses 0.01:10:4 --max-moves 0.003,0.01,0.03 --out map"},
+        {"rhmc's tuning map: rest mass against learning rate, 2000 passes per chain",
+         "credence sweep demo.csv --target fault_14d --id unit_id --impute median "
+         "--methods rhmc --masses 0.1:10:3 --step-sizes 0.003,0.01,0.03 --epochs 2000 --out rmap"}}},
       {"report",
        {{"one HTML page about a run", "credence report run.h5 demo.csv --out report.html"}}},
       {"inspect", {{"what a run file holds", "credence inspect run.h5"}}},

@@ -18,10 +18,11 @@ struct TuningMapFlags {
   const CLI::Option* max_moves_option = nullptr;
   const CLI::Option* methods_option = nullptr;     // was --methods given? (else rsghmc)
   const CLI::Option* step_sizes_option = nullptr;  // was --step-sizes given?
+  const CLI::Option* batch_option = nullptr;       // was --batch given? (rhmc reads none)
 };
 
-/// Adds --masses and --max-moves to `sweep`. REQUIRES: --methods and --step-sizes were
-/// added to `command` before.
+/// Adds --masses and --max-moves to `sweep`. REQUIRES: --methods, --step-sizes and --batch
+/// were added to `command` before.
 void add_tuning_map_flags(CLI::App& command, TuningMapFlags& flags);
 
 /// True when the command line asks for a map (--masses or --max-moves given).

@@ -138,9 +138,14 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
   if (request.on_budget) request.on_budget(budget_line(request, *budget));
   // Said once, before any training, and again in the summary of each sampler it touches.
   const std::string cut = sampler_share(*budget).note;
-  bool any_sampler = false;
-  for (const CompareEntry& entry : request.entries) any_sampler = any_sampler || is_sampler(entry.method);
-  if (any_sampler && !cut.empty()) log().warn("{}", cut);
+  bool any_sampler = false, any_minibatch_sampler = false;
+  // The cut is in minibatch steps: the tuning map gives rhmc cells a budget of their own.
+  const auto minibatch_sampler = [](Method m) { return is_sampler(m) && !is_full_batch(m); };
+  for (const CompareEntry& entry : request.entries) {
+    any_sampler = any_sampler || is_sampler(entry.method);
+    any_minibatch_sampler = any_minibatch_sampler || minibatch_sampler(entry.method);
+  }
+  if (any_minibatch_sampler && !cut.empty()) log().warn("{}", cut);
   if (any_sampler && !budget->samples_note.empty()) log().warn("{}", budget->samples_note);
   AssessJobOptions assess;
   assess.split = AssessSplit::kTest;
@@ -157,7 +162,7 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
     }
     outcome.run_path = train.out_path;
     if (is_sampler(entry.method)) {
-      outcome.budget_note = sampler_share(*budget).note;
+      if (minibatch_sampler(entry.method)) outcome.budget_note = sampler_share(*budget).note;
       if (!budget->samples_note.empty()) {
         outcome.budget_note += (outcome.budget_note.empty() ? "" : "; ") + budget->samples_note;
       }
@@ -166,7 +171,7 @@ Result<std::vector<CompareOutcome>> run_compare(const CompareRequest& request,
     train.verdict = &verdict;
     const auto started = std::chrono::steady_clock::now();
     Status trained = run_train(train);
-    if (trained.ok() && verdict && is_sampler(entry.method) && request.epochs == 0) {
+    if (trained.ok() && verdict && minibatch_sampler(entry.method) && request.epochs == 0) {
       const double seconds =
           std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
       const ExtendPlan plan = plan_extension(*verdict, budget->steps, seconds, request.extend_seconds);

@@ -12,13 +12,13 @@
 namespace credence {
 namespace {
 
-Result<std::vector<Method>> parse_compare_methods(const std::string& list) {
+Result<std::vector<Method>> parse_compare_methods(const std::string& list, bool full_batch_allowed) {
   std::vector<Method> methods;
   std::stringstream stream(list);
   for (std::string name; std::getline(stream, name, ',');) {
     Result<Method> method = parse_method(name);
     if (!method.ok()) return method.status().with_context("--methods");
-    if (*method == Method::kHmc || *method == Method::kRhmc) {
+    if (is_full_batch(*method) && !full_batch_allowed) {
       return Status::invalid_input(fmt::format(
           "--methods: {} uses the full data per step, so it has no minibatch budget to share; "
           "train it on its own with credence train",
@@ -57,7 +57,7 @@ Result<std::vector<Method>> complete_compare_request(CompareRequest& r, const Co
   if (r.data.schema.target.empty()) {
     return Status::invalid_input("give --target COLUMN (the class column)");
   }
-  Result<std::vector<Method>> methods = parse_compare_methods(lists.methods);
+  Result<std::vector<Method>> methods = parse_compare_methods(lists.methods, lists.full_batch_allowed);
   if (!methods.ok()) return methods.status();
   // A flag no chosen method reads is refused, as in train (method_flags.h).
   if (r.samples_given && std::none_of(methods->begin(), methods->end(), is_sampler)) {

@@ -151,13 +151,14 @@ Result<RunDiagnostics> diagnose_run(const RunReader& run) {
   // Potential and speed ratio from the traces, rows after burn-in only.
   const std::int64_t burn_in = d.burn_in.value_or(0);
   const bool relativistic = d.method == "rsghmc" || d.method == "rhmc" || d.method == "rsgd";
+  const bool metropolis = d.method == "hmc" || d.method == "rhmc";
   Chains potential;
   for (int c = 0; c < d.chains; ++c) {
     Result<std::vector<TraceRecord>> trace = run.traces(c);
     if (!trace.ok()) return trace.status();
     std::vector<double> chain;
-    double speed_sum = 0;
-    int speed_count = 0;
+    double speed_sum = 0, accept_sum = 0;
+    int speed_count = 0, accept_count = 0;
     for (const TraceRecord& row : *trace) {
       if (row.step <= burn_in) continue;
       chain.push_back(row.potential);
@@ -165,9 +166,14 @@ Result<RunDiagnostics> diagnose_run(const RunReader& run) {
         speed_sum += row.speed_ratio;
         ++speed_count;
       }
+      if (!std::isnan(row.acceptance)) {
+        accept_sum += row.acceptance;
+        ++accept_count;
+      }
     }
     potential.push_back(std::move(chain));
     if (relativistic) d.speed_ratio_per_chain.push_back(speed_count ? speed_sum / speed_count : kNaN);
+    if (metropolis) d.acceptance_per_chain.push_back(accept_count ? accept_sum / accept_count : kNaN);
   }
   add(SummaryGroup::kPotential, -1, std::move(potential));
   if (relativistic) {

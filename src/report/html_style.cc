@@ -18,8 +18,9 @@ body {
   font-variant-numeric: tabular-nums;
 }
 header.masthead { border-left: 6px solid var(--teal); padding: 2px 0 2px 16px; margin-bottom: 18px; }
-header.masthead h1 { font-size: 25px; font-weight: 650; margin: 0; letter-spacing: 0.01em; }
-header.masthead p { margin: 4px 0 0; color: var(--muted); }
+header.masthead h1 { font-size: 25px; font-weight: 650; margin: 0; letter-spacing: 0.01em;
+  overflow-wrap: anywhere; }
+header.masthead p { margin: 4px 0 0; color: var(--muted); overflow-wrap: anywhere; }
 nav.contents { margin: 0 0 18px; padding: 10px 16px; border: 1px solid var(--rule);
   border-radius: 6px; background: var(--card); }
 nav.contents h2 { font-size: 12px; text-transform: uppercase; letter-spacing: 0.08em;

@@ -89,25 +89,26 @@ Result<TuningGrid> parse_tuning_grid(const std::string& masses_text,
                                      const std::string& step_sizes_text,
                                      const std::vector<Method>& methods) {
   for (Method m : methods) {
-    if (m == Method::kRsghmc) continue;
+    if (m == Method::kRsghmc || m == Method::kRhmc) continue;
     const std::string name(method_name(m));
-    if (m == Method::kRhmc) {
+    if (m == Method::kHmc) {
       return Status::invalid_input(
-          "--methods: the map covers rsghmc; rhmc uses the full data in every step and has no "
-          "minibatch budget to share, so train it on its own with several --mass and "
-          "--max-move values");
+          "--methods: --masses and --max-moves map the rest mass and speed of light of rsghmc "
+          "and rhmc; hmc reads neither: give --methods rhmc (hmc's full-data steps are not "
+          "swept: train it on its own with credence train)");
     }
     if (m == Method::kRsgd) {
       return Status::invalid_input(
           "--methods: the map measures sampling (ESS, |v|/c) and rsgd is an optimizer; give "
-          "--methods rsghmc, or sweep rsgd over --step-sizes alone");
+          "--methods rsghmc or rhmc, or sweep rsgd over --step-sizes alone");
     }
     return Status::invalid_input(fmt::format(
-        "--methods: --masses and --max-moves map rsghmc's rest mass and speed of light; {} "
-        "reads neither: give --methods rsghmc, or sweep {} over --step-sizes alone",
+        "--methods: --masses and --max-moves map the rest mass and speed of light of rsghmc "
+        "and rhmc; {} reads neither: give --methods rsghmc or rhmc, or sweep {} over "
+        "--step-sizes alone",
         name, name));
   }
-  if (methods.empty()) return Status::invalid_input("--methods: give rsghmc to map");
+  if (methods.empty()) return Status::invalid_input("--methods: give rsghmc or rhmc to map");
   if (masses_text.empty()) {
     return Status::invalid_input(
         "--max-moves maps against the rest mass: give --masses too (e.g. --masses 0.1,1,10)");
@@ -138,9 +139,11 @@ Result<TuningGrid> parse_tuning_grid(const std::string& masses_text,
 }
 
 TuningMeasures tuning_measures(const std::optional<RunDiagnostics>& diagnostics, double test_nll,
-                               const std::vector<ChainStatus>& chain_status) {
+                               const std::vector<ChainStatus>& chain_status,
+                               double gradients_per_pass) {
   TuningMeasures m;
   m.ess_per_1000_grads = m.ess_bulk = m.gradient_evals = m.speed_ratio = kNaN;
+  m.passes = m.ess_per_1000_passes = m.acceptance = m.divergent_trajectories = kNaN;
   m.test_nll = test_nll;
   m.chains = static_cast<int>(chain_status.size());
   for (ChainStatus s : chain_status) m.diverged_chains += s == ChainStatus::kDiverged;
@@ -160,6 +163,16 @@ TuningMeasures tuning_measures(const std::optional<RunDiagnostics>& diagnostics,
     if (!std::isnan(r)) sum += r, ++count;
   }
   if (count > 0) m.speed_ratio = sum / count;
+  sum = 0;
+  count = 0;
+  for (double a : diagnostics->acceptance_per_chain) {
+    if (!std::isnan(a)) sum += a, ++count;
+  }
+  if (count > 0) m.acceptance = sum / count;
+  if (gradients_per_pass > 0 && std::isfinite(m.gradient_evals) && m.gradient_evals > 0) {
+    m.passes = m.gradient_evals / gradients_per_pass;
+    m.ess_per_1000_passes = 1000 * m.ess_bulk / m.passes;
+  }
   return m;
 }
 
@@ -194,17 +207,20 @@ std::optional<std::size_t> choose_tuning_cell(const std::vector<TuningCell>& cel
 std::string tuning_map_csv(const std::vector<TuningCell>& cells, TuningAxis axis) {
   std::string out = fmt::format(
       "method,mass,{},trained,chosen,ess_bulk,gradient_evals,ess_per_1000_grads,speed_ratio,"
-      "test_nll,diverged_chains,chains,run_file\n",
+      "test_nll,diverged_chains,chains,run_file,passes,ess_per_1000_passes,acceptance,"
+      "divergent_trajectories\n",
       tuning_axis_name(axis));
   for (std::size_t i = 0; i < cells.size(); ++i) {
     const TuningCell& c = cells[i];
     const TuningMeasures& m = c.measures;
     const bool chosen = choose_tuning_cell(cells, c.method) == i;
-    out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{}\n", method_name(c.method),
+    out += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", method_name(c.method),
                        csv_number(c.mass), csv_number(c.value), c.trained ? 1 : 0, chosen ? 1 : 0,
                        csv_number(m.ess_bulk), csv_number(m.gradient_evals),
                        csv_number(m.ess_per_1000_grads), csv_number(m.speed_ratio),
-                       csv_number(m.test_nll), m.diverged_chains, m.chains, c.run_file);
+                       csv_number(m.test_nll), m.diverged_chains, m.chains, c.run_file,
+                       csv_number(m.passes), csv_number(m.ess_per_1000_passes),
+                       csv_number(m.acceptance), csv_number(m.divergent_trajectories));
   }
   return out;
 }
@@ -223,12 +239,15 @@ std::string tuning_map_json(const std::vector<TuningCell>& cells, TuningAxis axi
         "{}\n    {{\"method\": {}, \"mass\": {}, {}: {}, \"trained\": {}, \"chosen\": {}, "
         "\"ess_bulk\": {}, \"gradient_evals\": {}, \"ess_per_1000_grads\": {}, "
         "\"speed_ratio\": {}, \"test_nll\": {}, \"diverged_chains\": {}, \"chains\": {}, "
-        "\"run_file\": {}}}",
+        "\"run_file\": {}, \"passes\": {}, \"ess_per_1000_passes\": {}, \"acceptance\": {}, "
+        "\"divergent_trajectories\": {}}}",
         i == 0 ? "" : ",", json_string(method_name(c.method)), json_number(c.mass),
         json_string(tuning_axis_name(axis)), json_number(c.value), c.trained ? "true" : "false",
         chosen ? "true" : "false", json_number(m.ess_bulk), json_number(m.gradient_evals),
         json_number(m.ess_per_1000_grads), json_number(m.speed_ratio), json_number(m.test_nll),
-        m.diverged_chains, m.chains, json_string(c.run_file));
+        m.diverged_chains, m.chains, json_string(c.run_file), json_number(m.passes),
+        json_number(m.ess_per_1000_passes), json_number(m.acceptance),
+        json_number(m.divergent_trajectories));
   }
   out += "\n  ]\n}\n";
   return out;

@@ -47,7 +47,9 @@ Status HamiltonianRule::step(ThetaRef theta, PotentialFn& potential, const StepC
   p_start_ = p_;
   const double u0 = potential_;
   double d_h = 0;
+  begin_trajectory();
   CREDENCE_RETURN_IF_ERROR(leapfrog(theta, potential, eps, hs.leapfrog_steps, d_h));
+  report.speed_ratio = trajectory_speed_ratio();
   double acceptance = 0.0;
   if (std::isfinite(d_h)) {
     if (temperature > 0) {

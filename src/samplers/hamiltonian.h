@@ -3,6 +3,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <optional>
 
 #include "samplers/rule.h"
 
@@ -36,6 +37,10 @@ class HamiltonianRule : public Rule {
   virtual double kinetic_energy() const = 0;
   /// theta += eps v(p).
   virtual void drift(ThetaRef theta, float eps) = 0;
+  /// Called before each trajectory's leapfrog steps, and read after them: what the rule
+  /// records of the trajectory in its trace row (rhmc: mean |v|/c over its drifts).
+  virtual void begin_trajectory() {}
+  virtual std::optional<double> trajectory_speed_ratio() const { return std::nullopt; }
   /// Called after accept (p negated) or reject (p restored) so a rule that keeps p
   /// between iterations can store it.
   virtual void save_extra(SamplerState&) const {}

@@ -18,6 +18,10 @@
 // max_move is the bound at eps_0, and the adapted bound is eps c (times the jitter,
 // up to 1 + HmcSettings::jitter). The Metropolis test keeps the target exact for any c.
 // Tests: tests/samplers/adapted_constants_test.cc.
+//
+// Each trajectory records its mean |v|/c (over the coordinates and the L drifts, accepted
+// or not; docs/methods.md 5.3) in the trace row's speed_ratio, as rsghmc records its steps',
+// so diagnose and the tuning map read rhmc's speed the same way.
 #include <cmath>
 
 #include "samplers/hamiltonian.h"
@@ -51,12 +55,27 @@ class RhmcRule final : public HamiltonianRule {
     return k;
   }
   void drift(ThetaRef theta, float eps) override {
+    double ratio_sum = 0;
     for (Eigen::Index i = 0; i < p_.size(); ++i) {
-      theta[i] += eps * relativistic_velocity(p_[i], layout_.mass[i], layout_.speed[i]);
+      const float v = relativistic_velocity(p_[i], layout_.mass[i], layout_.speed[i]);
+      theta[i] += eps * v;
+      ratio_sum += std::abs(v) / layout_.speed[i];
     }
+    speed_sum_ += ratio_sum / static_cast<double>(p_.size());
+    ++drifts_;
+  }
+  void begin_trajectory() override {
+    speed_sum_ = 0;
+    drifts_ = 0;
+  }
+  std::optional<double> trajectory_speed_ratio() const override {
+    if (drifts_ == 0) return std::nullopt;
+    return speed_sum_ / static_cast<double>(drifts_);
   }
 
   RelativisticLayout layout_;
+  double speed_sum_ = 0;  // sum over this trajectory's drifts of mean_i |v_i| / c_i
+  int drifts_ = 0;
 };
 
 }  // namespace

@@ -29,6 +29,10 @@ TEST(TuningGrid, ParsesListsAndLogRanges) {
   ASSERT_TRUE(by_step.ok());
   EXPECT_EQ(by_step->axis, TuningAxis::kStepSize);
   EXPECT_EQ(tuning_axis_name(by_step->axis), "learning_rate");
+  // rhmc reads a rest mass and a max move too (docs/methods.md 5.3), alone or beside rsghmc.
+  Result<TuningGrid> both = parse_tuning_grid("1", "0.01", "", {Method::kRsghmc, Method::kRhmc});
+  ASSERT_TRUE(both.ok()) << both.status().message();
+  EXPECT_EQ(both->methods, (std::vector<Method>{Method::kRsghmc, Method::kRhmc}));
 }
 
 TEST(TuningGrid, RefusesWhatItCannotMap) {
@@ -40,8 +44,8 @@ TEST(TuningGrid, RefusesWhatItCannotMap) {
   const std::vector<Case> cases = {
       {"1", "0.01", "", {Method::kSghmc}, "sghmc reads neither"},
       {"1", "0.01", "", {Method::kRsghmc, Method::kSgld}, "sgld reads neither"},
-      {"1", "0.01", "", {Method::kRhmc}, "rhmc uses the full data"},
       {"1", "0.01", "", {Method::kRsgd}, "rsgd is an optimizer"},
+      {"1", "0.01", "", {Method::kHmc}, "hmc reads neither: give --methods rhmc"},
       {"", "0.01", "", {Method::kRsghmc}, "give --masses too"},
       {"1", "", "", {Method::kRsghmc}, "needs a second axis"},
       {"1", "0.01", "0.1", {Method::kRsghmc}, "not both"},
@@ -88,6 +92,21 @@ TEST(TuningMeasures, ReadsTheProbeLogLikelihoodAndAveragesSpeedOverChains) {
   EXPECT_EQ(m.test_nll, 0.3);
   EXPECT_EQ(m.diverged_chains, 1);
   EXPECT_EQ(m.chains, 2);
+  EXPECT_TRUE(std::isnan(m.passes));      // no pass size given
+  EXPECT_TRUE(std::isnan(m.acceptance));  // no Metropolis test recorded
+  // rsghmc at 16 minibatch gradients per pass: 8000 gradients are 500 passes, and 40
+  // effective draws are 80 per 1000 passes (arithmetic).
+  const TuningMeasures by_pass =
+      tuning_measures(diagnostics_with(40, 5, {0.5}), 0.3, {ChainStatus::kCompleted}, 16);
+  EXPECT_EQ(by_pass.passes, 500);
+  EXPECT_EQ(by_pass.ess_per_1000_passes, 80);
+  // rhmc: one gradient is one pass, and its acceptance is averaged over chains.
+  RunDiagnostics full = diagnostics_with(40, 5, {0.5, 0.7});
+  full.acceptance_per_chain = {0.6, kNaN, 0.8};
+  const TuningMeasures rhmc = tuning_measures(full, 0.3, {ChainStatus::kCompleted}, 1);
+  EXPECT_EQ(rhmc.passes, 8000);
+  EXPECT_EQ(rhmc.ess_per_1000_passes, 5);
+  EXPECT_NEAR(rhmc.acceptance, 0.7, 1e-15);
   const TuningMeasures none = tuning_measures(std::nullopt, kNaN, {ChainStatus::kDiverged});
   EXPECT_TRUE(std::isnan(none.ess_per_1000_grads));
   EXPECT_TRUE(std::isnan(none.speed_ratio));
@@ -135,11 +154,14 @@ TEST(TuningMapFiles, CsvAndJsonCarryEveryDocumentedColumn) {
   const std::string csv = tuning_map_csv(cells, TuningAxis::kMaxMove);
   EXPECT_EQ(csv.substr(0, csv.find('\n')),
             "method,mass,max_move,trained,chosen,ess_bulk,gradient_evals,ess_per_1000_grads,"
-            "speed_ratio,test_nll,diverged_chains,chains,run_file");
-  EXPECT_NE(csv.find("rsghmc,10,0.01,1,1,0,0,6,,0.3,0,2,cell.h5\n"), std::string::npos) << csv;
+            "speed_ratio,test_nll,diverged_chains,chains,run_file,passes,ess_per_1000_passes,"
+            "acceptance,divergent_trajectories");
+  EXPECT_NE(csv.find("rsghmc,10,0.01,1,1,0,0,6,,0.3,0,2,cell.h5,0,0,0,0\n"), std::string::npos) << csv;
   const std::string json = tuning_map_json(cells, TuningAxis::kStepSize);
   EXPECT_NE(json.find("\"learning_rate\": 0.01"), std::string::npos) << json;
   EXPECT_NE(json.find("\"speed_ratio\": null"), std::string::npos) << json;
+  EXPECT_NE(json.find("\"ess_per_1000_passes\": 0, \"acceptance\": 0, \"divergent_trajectories\": 0}"),
+            std::string::npos) << json;
   EXPECT_NE(json.find("\"choice_rule\""), std::string::npos) << json;
 }
 

@@ -335,6 +335,40 @@ TEST(ChainDriver, MassAdaptationReachesTheTargetSpeedAndIsRecorded) {
   EXPECT_GT(mass, 0.2f);
 }
 
+TEST(ChainDriver, RhmcRecordsEachTrajectorysMeanSpeedRatio) {
+  // docs/methods.md 5.3: every rhmc trace row carries the mean |v|/c over its trajectory's
+  // drifts. On a standard normal target with small leapfrog steps the momenta stay near
+  // their law exp(-K/T), so the trace's average must approach E|v|/c at u = m c^2 / T = 1:
+  // exp(-u) / (u K_1(u)) = 0.611190 (the closed form and table of docs/methods.md 5.2;
+  // K_1(1) = 0.6019072982 from Abramowitz and Stegun's table 9.8, from memory).
+  SamplerSettings s;
+  s.method = Method::kRhmc;
+  s.step_size = 0.2;
+  s.hmc.adapt_step = false;
+  s.hmc.leapfrog_steps = 5;
+  s.relativistic.mass = 1;
+  s.relativistic.speed = 1;
+  ChainSettings c;
+  c.chains = 1;
+  c.burn_in = 100;
+  c.thin = 1;
+  c.samples = 1500;
+  c.seed = testing::test_seed(47);
+  ChainRun r = run(s, c, 20, 1);
+  ASSERT_EQ(r.outcome.chains[0].end, ChainEnd::kCompleted);
+  double ratio = 0;
+  int n = 0;
+  for (const TraceRow& row : r.traces) {
+    ASSERT_TRUE(row.report.speed_ratio.has_value()) << "step " << row.step;
+    EXPECT_GT(*row.report.speed_ratio, 0);
+    EXPECT_LE(*row.report.speed_ratio, 1);
+    if (row.step >= c.burn_in) ratio += *row.report.speed_ratio, ++n;
+  }
+  ratio /= n;
+  std::printf("rhmc mean |v|/c over %d trajectories: %.4f (law: 0.611190)\n", n, ratio);
+  EXPECT_NEAR(ratio, 0.611190, 0.02);
+}
+
 TEST(ChainDriver, CyclicalExplorationRunsTheZeroTemperatureLimitAndKeepsNothing) {
   // docs/methods.md 8: exploration steps are plain gradient steps (no noise) and are not
   // kept; sampling steps add noise. Traced with thin = 1 on U = |theta|^2 / 2.
