@@ -208,7 +208,7 @@ struct SantaSettings {
   /// only adds friction (its temperature falls to 0), so the start sets its early
   /// momentum; the derived sqrt(eta) g_1 = sqrt(lr / N) g_1 shrinks as the table grows,
   /// and on a 1,000,000-row linear table santa-opt then ended near-constant (test NLL
-  /// 0.684 against the truth's 0.401; 0.4015 at 0.1). docs/methods.md section 16.
+  /// 0.677 against the truth's 0.401; 0.401 at 0.1). docs/methods.md section 16.
   double optimizer_start_friction = 0.1;
   /// santa only: the thermostat's relative gain c. Each step, after the reference
   /// increment alpha += u^2 - eta T, log alpha moves by c alpha (u^2 / (eta T) - 1),
@@ -218,8 +218,9 @@ struct SantaSettings {
   /// as N). 0 = the reference thermostat alone. Default 0.05 (docs/methods.md section 16:
   /// measured on 15 tables and 1,000,000 rows; the spread of log alpha is about sqrt(c)).
   double thermostat_gain = 0.05;
-  /// santa only: the thermostat's alpha is kept at most this (1 - alpha is the momentum;
-  /// past 1 the velocity flips sign every step and past 2 it grows). Default 0.5.
+  /// santa with thermostat_gain > 0: the thermostat's alpha is kept at most this (1 - alpha
+  /// is the momentum; past 1 the velocity flips sign every step and past 2 it grows).
+  /// Default 0.5 (our choice, no source).
   double max_friction = 0.5;
   /// santa-opt: inverse temperature beta_t = A (t + B)^gamma, t = 1, 2, ...
   /// Defaults A = 1, B = 0, gamma = 2 (the reference configurations for dense networks).
