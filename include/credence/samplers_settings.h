@@ -198,10 +198,30 @@ struct SantaSettings {
   /// invented table in 4 of 4 chains).
   double max_preconditioner_ratio = 1e3;
   /// Friction constant C: the thermostat starts at alpha_0 = sqrt(eta) C, at most 1.
-  /// 0 = derive: alpha_0 = sqrt(eta) g_1 per coordinate, the thermostat's equilibrium.
+  /// 0 = derive: santa starts at alpha_0 = sqrt(eta) g_1 per coordinate, the thermostat's
+  /// equilibrium without minibatch noise; santa-opt at optimizer_start_friction.
   /// Default 0: the reference configurations' C = 1000 assumes steps far below ours
-  /// (eta ~ 1e-11), and the thermostat needs ~1 / eta steps to undo a wrong start.
+  /// (eta ~ 1e-11), and the reference thermostat needs ~1 / eta steps to undo a wrong start.
   double friction = 0.0;
+  /// santa-opt's alpha_0 when friction is 0: 1 minus the starting momentum. Default 0.1
+  /// (momentum 0.9, as sghmc's and momentum's default friction). santa-opt's thermostat
+  /// only adds friction (its temperature falls to 0), so the start sets its early
+  /// momentum; the derived sqrt(eta) g_1 = sqrt(lr / N) g_1 shrinks as the table grows,
+  /// and on a 1,000,000-row linear table santa-opt then ended near-constant (test NLL
+  /// 0.677 against the truth's 0.401; 0.401 at 0.1). docs/methods.md section 16.
+  double optimizer_start_friction = 0.1;
+  /// santa only: the thermostat's relative gain c. Each step, after the reference
+  /// increment alpha += u^2 - eta T, log alpha moves by c alpha (u^2 / (eta T) - 1),
+  /// clipped to +-0.1, so alpha settles in about 1 / (c alpha) steps on every table; the
+  /// reference increment alone needs ~alpha^2 / (eta T) steps, far beyond the budget once
+  /// minibatch noise raises the friction alpha must supply (eta = lr / N: it grows about
+  /// as N). 0 = the reference thermostat alone. Default 0.05 (docs/methods.md section 16:
+  /// measured on 15 tables and 1,000,000 rows; the spread of log alpha is about sqrt(c)).
+  double thermostat_gain = 0.05;
+  /// santa with thermostat_gain > 0: the thermostat's alpha is kept at most this (1 - alpha
+  /// is the momentum; past 1 the velocity flips sign every step and past 2 it grows).
+  /// Default 0.5 (our choice, no source).
+  double max_friction = 0.5;
   /// santa-opt: inverse temperature beta_t = A (t + B)^gamma, t = 1, 2, ...
   /// Defaults A = 1, B = 0, gamma = 2 (the reference configurations for dense networks).
   double anneal_scale = 1.0;

@@ -129,6 +129,14 @@ void method_rows(const TrainSettings& s, Rows& rows) {
     rows.emplace_back("santa", fmt::format("sigma {:g}, lambda {:g}, friction {:g}",
                                            m.santa.sigma, m.santa.lambda, m.santa.friction));
   }
+  if (m.method == Method::kSanta) {
+    rows.emplace_back("thermostat", fmt::format("gain {:g}, alpha at most {:g}",
+                                                m.santa.thermostat_gain, m.santa.max_friction));
+  }
+  if (m.method == Method::kSantaOpt && m.santa.friction == 0) {
+    rows.emplace_back("start friction", fmt::format("{:g} (1 - the starting momentum)",
+                                                    m.santa.optimizer_start_friction));
+  }
   if (m.method == Method::kSantaOpt) {
     rows.emplace_back("exploration", fmt::format("{:g} of the steps (--exploration)",
                                                  m.santa.exploration_fraction));

@@ -50,6 +50,9 @@ void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
   visit("santa_sigma", m.santa.sigma);
   visit("santa_lambda", m.santa.lambda);
   visit("santa_friction", m.santa.friction);
+  visit("santa_optimizer_start_friction", m.santa.optimizer_start_friction);
+  visit("santa_thermostat_gain", m.santa.thermostat_gain);
+  visit("santa_max_friction", m.santa.max_friction);
   visit("santa_max_preconditioner_ratio", m.santa.max_preconditioner_ratio);
   visit("santa_anneal_scale", m.santa.anneal_scale);
   visit("santa_anneal_offset", m.santa.anneal_offset);

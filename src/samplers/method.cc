@@ -156,6 +156,15 @@ Status validate(const SamplerSettings& s) {
   if (!(sa.friction >= 0) || !std::isfinite(sa.friction)) {
     return bad("santa.friction", "must be >= 0 (0 derives it from the first gradient)");
   }
+  if (!(sa.optimizer_start_friction > 0 && sa.optimizer_start_friction < 1)) {
+    return bad("santa.optimizer_start_friction", "must lie in (0, 1)");
+  }
+  if (!(sa.thermostat_gain >= 0) || !std::isfinite(sa.thermostat_gain)) {
+    return bad("santa.thermostat_gain", "must be >= 0 (0 = the reference thermostat alone)");
+  }
+  if (!(sa.max_friction > 0 && sa.max_friction < 2)) {
+    return bad("santa.max_friction", "must lie in (0, 2): past 2 the velocity grows every step");
+  }
   if (!(sa.anneal_scale > 0) || !(sa.anneal_offset >= 0) || !(sa.anneal_power >= 0) ||
       !std::isfinite(sa.anneal_scale + sa.anneal_offset + sa.anneal_power)) {
     return bad("santa.anneal", "needs scale A > 0, offset B >= 0 and power gamma >= 0");

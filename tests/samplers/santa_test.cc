@@ -135,6 +135,15 @@ TEST(SantaSettings, AreValidated) {
   s.schedule.kind = ScheduleKind::kCyclical;
   EXPECT_NE(validate(s).message().find("anneal their temperature"), std::string::npos);
   s.schedule.kind = ScheduleKind::kConstant;
+  s.santa.thermostat_gain = -0.1;
+  EXPECT_NE(validate(s).message().find("santa.thermostat_gain"), std::string::npos);
+  s.santa.thermostat_gain = 0.05;
+  s.santa.max_friction = 2;
+  EXPECT_NE(validate(s).message().find("santa.max_friction"), std::string::npos);
+  s.santa.max_friction = 0.5;
+  s.santa.optimizer_start_friction = 0;
+  EXPECT_NE(validate(s).message().find("santa.optimizer_start_friction"), std::string::npos);
+  s.santa.optimizer_start_friction = 0.1;
   EXPECT_TRUE(validate(s).ok());
   EXPECT_TRUE(is_sampler(Method::kSanta));
   EXPECT_FALSE(is_sampler(Method::kSantaOpt));
