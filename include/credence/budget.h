@@ -94,20 +94,25 @@ std::string size_max_move(TrainSettings& settings, std::int64_t train_rows,
 inline constexpr double kMaxMoveCap = 1e-2;
 inline constexpr double kMaxMoveRows = 0.2;
 
-/// sghmc's --lr, when not given: clamp(kSghmcLrPerSqrtRow x sqrt(train_rows),
-/// kSghmcLrFloor, kSghmcLrCap), i.e. 0.01 up to 100 training rows, 0.02 at 400, 0.046 at
-/// 2,100, 0.1 from 10,000. Our rule, fitted to measurements (docs/prior.md, "sghmc's
-/// step"), not taken from a source: the largest flat rate that no table of 80-120 training
-/// rows collapsed at is 0.03 (0.05 collapsed the 64-input digits subsample, 0.1 four
-/// tables), while from about 700 rows 0.1 is stable and mixes faster (demo table, 2,100
-/// rows: probe-row bulk-ESS 172 at 0.01, 932 at 0.03, 1,180 at 0.1 over the same 150,000
-/// steps per chain; worst probe R-hat 1.028, 1.014, 1.008). Small tables let the weights
-/// wander to where the loss curves sharply; large ones hold them near well-curved modes.
+/// sghmc's and sgld's --lr, when not given: clamp(per_sqrt_row x sqrt(train_rows), floor,
+/// cap): sghmc 0.001 x sqrt(rows) between 0.01 and 0.1 (0.01 up to 100 training rows, 0.02
+/// at 400, 0.046 at 2,100, 0.1 from 10,000); sgld 0.01 x sqrt(rows) between 0.1 and 0.3
+/// (0.1 up to 100 rows, 0.2 at 400, 0.3 from 900). Our rule, fitted to measurements
+/// (docs/prior.md, "sghmc's and sgld's step"), not taken from a source. Flat rates fail one
+/// way or the other: sghmc at 0.05 collapsed the 64-input digits subsample and at 0.1 eight
+/// tables under 400 rows, sgld at 1.0 three tables under 400 rows, while on the demo table
+/// (2,100 training rows) the flat old defaults mixed about 5 times slower over the same
+/// 150,000 steps per chain (worst probe-row bulk-ESS: sghmc 172 at 0.01, 1,180 at 0.1;
+/// sgld 179 at 0.1, 905 at 0.3). Small tables let the weights wander to where the loss
+/// curves sharply; large ones hold them near well-curved modes.
 /// Returns a log line, empty when nothing was chosen.
 std::string size_learning_rate(TrainSettings& settings, std::int64_t train_rows,
                                const BudgetGiven& given);
 inline constexpr double kSghmcLrPerSqrtRow = 1e-3;
 inline constexpr double kSghmcLrFloor = 1e-2;
 inline constexpr double kSghmcLrCap = 1e-1;
+inline constexpr double kSgldLrPerSqrtRow = 1e-2;
+inline constexpr double kSgldLrFloor = kSgldLearningRate;
+inline constexpr double kSgldLrCap = 3e-1;
 
 }  // namespace credence

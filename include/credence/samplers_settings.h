@@ -171,7 +171,8 @@ struct AdamSettings {
 inline constexpr double kSantaLearningRate = 1e-3;
 
 /// sgld's learning rate when none is given (the CLI's, compare's and Python's default; the
-/// struct default stays 1e-2). Measured at defaults against 1e-2 and 3e-2 (4 chains,
+/// struct default stays 1e-2); once the table is read, training sizes it from here up to
+/// 0.3 as the table grows (credence/budget.h, size_learning_rate). Measured at defaults against 1e-2 and 3e-2 (4 chains,
 /// tests/tools/evaluate_defaults.py, docs/prior.md "sgld's step"): test NLL lower on 9 of
 /// 11 tables of 32-569 rows (e.g. breast cancer's 100-row subsample 0.103 -> 0.089,
 /// digits' 0.777 -> 0.697), higher on two (up to +0.025), no divergence up to 1,000,000

@@ -46,8 +46,9 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   method->add_option("--lr", s.sampler.learning_rate,
                      "Learning rate on the mean loss (converted to the method's step; rsghmc "
                      "reads it only with --speed or --mass: its move comes from --max-move; "
-                     "sgld: default 0.1; sghmc: default 0.001 x sqrt(training rows), from "
-                     "0.01 to 0.1; santa, santa-opt: default 0.001)")
+                     "sgld: default 0.01 x sqrt(training rows), from 0.1 to 0.3; sghmc: "
+                     "default 0.001 x sqrt(training rows), from 0.01 to 0.1; santa, "
+                     "santa-opt: default 0.001)")
       ->capture_default_str();
   method->add_option("--step-size", s.sampler.step_size,
                      "Step size in potential units, instead of --lr (rsghmc: only with --speed "

@@ -93,13 +93,21 @@ std::string size_max_move(TrainSettings& s, std::int64_t train_rows, const Budge
 }
 
 std::string size_learning_rate(TrainSettings& s, std::int64_t train_rows, const BudgetGiven& given) {
-  if (s.sampler.method != Method::kSghmc || given.learning_rate || train_rows < 1) return {};
-  s.sampler.learning_rate = std::clamp(kSghmcLrPerSqrtRow * std::sqrt(static_cast<double>(train_rows)),
-                                       kSghmcLrFloor, kSghmcLrCap);
-  return fmt::format("sghmc's learning rate sized to {} training rows: {:.3g} (default: "
-                     "{:g} x sqrt(rows), between {:g} and {:g})",
-                     train_rows, s.sampler.learning_rate, kSghmcLrPerSqrtRow, kSghmcLrFloor,
-                     kSghmcLrCap);
+  const Method method = s.sampler.method;
+  if ((method != Method::kSghmc && method != Method::kSgld) || given.learning_rate ||
+      train_rows < 1) {
+    return {};
+  }
+  const bool sgld = method == Method::kSgld;
+  const double per_sqrt_row = sgld ? kSgldLrPerSqrtRow : kSghmcLrPerSqrtRow;
+  const double floor = sgld ? kSgldLrFloor : kSghmcLrFloor;
+  const double cap = sgld ? kSgldLrCap : kSghmcLrCap;
+  s.sampler.learning_rate =
+      std::clamp(per_sqrt_row * std::sqrt(static_cast<double>(train_rows)), floor, cap);
+  return fmt::format("{}'s learning rate sized to {} training rows: {:.3g} (default: {:g} x "
+                     "sqrt(rows), between {:g} and {:g})",
+                     method_name(method), train_rows, s.sampler.learning_rate, per_sqrt_row,
+                     floor, cap);
 }
 
 BudgetGiven budget_given_of(const std::set<std::string>& given) {

@@ -5,10 +5,11 @@
 // the other methods keep theirs. Before the change every run below recorded 0.01 for
 // sgld. The run file's settings are read with h5py (Debian's python3-h5py).
 //
-// sghmc's default is sized to the table (budget.h, size_learning_rate): 0.001 x
-// sqrt(training rows) between 0.01 and 0.1, for faster mixing on larger tables (demo
-// table: probe-row bulk-ESS 172 -> 932 at 0.03 over the same steps; docs/prior.md,
-// "sghmc's step"). Before that change sghmc recorded 0.01 on every table.
+// Then both sghmc's and sgld's defaults were sized to the table (budget.h,
+// size_learning_rate): sghmc 0.001 x sqrt(training rows) between 0.01 and 0.1, sgld 0.01 x
+// sqrt(rows) between 0.1 and 0.3, for faster mixing on larger tables (demo table:
+// probe-row bulk-ESS about 5 times higher over the same steps; docs/prior.md, "sghmc's and
+// sgld's step"). Before that change sghmc recorded 0.01 and sgld 0.1 on every table.
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -63,9 +64,13 @@ class Issue17SgldStep : public ::testing::Test {
     }
     return std::strtod(testing::read_text(out).c_str(), nullptr);
   }
-  // The rule, written out here from its documentation: clamp(0.001 sqrt(rows), 0.01, 0.1).
+  // The rules, written out here from their documentation: sghmc clamp(0.001 sqrt(rows),
+  // 0.01, 0.1), sgld clamp(0.01 sqrt(rows), 0.1, 0.3).
   static double sized_sghmc_rate(double rows) {
     return std::min(0.1, std::max(0.01, 0.001 * std::sqrt(rows)));
+  }
+  static double sized_sgld_rate(double rows) {
+    return std::min(0.3, std::max(0.1, 0.01 * std::sqrt(rows)));
   }
 
   testing::TempDir dir_;
@@ -75,7 +80,9 @@ class Issue17SgldStep : public ::testing::Test {
 TEST_F(Issue17SgldStep, TrainStartsSgldFromTheLargerStepAndKeepsAGivenOne) {
   auto sgld = testing::run_credence(train(path("sgld.h5"), "--method sgld"));
   ASSERT_EQ(sgld.exit_code, 0) << sgld.output;
-  EXPECT_DOUBLE_EQ(recorded_learning_rate(path("sgld.h5")), 0.1);
+  EXPECT_NEAR(recorded_learning_rate(path("sgld.h5")), sized_sgld_rate(train_rows(path("sgld.h5"))),
+              1e-12);
+  EXPECT_GT(recorded_learning_rate(path("sgld.h5")), 0.118);  // 140 rows: above the floor
   auto given = testing::run_credence(train(path("given.h5"), "--method sgld --lr 0.01"));
   ASSERT_EQ(given.exit_code, 0) << given.output;
   EXPECT_DOUBLE_EQ(recorded_learning_rate(path("given.h5")), 0.01);
@@ -98,7 +105,8 @@ TEST_F(Issue17SgldStep, CompareStartsSgldFromTheLargerStep) {
       "--hidden 4 --chains 2 --epochs 2 --samples 5 --bootstrap 0 --methods sgld,sghmc "
       "--out '" + out + "'");
   ASSERT_EQ(compared.exit_code, 0) << compared.output;
-  EXPECT_DOUBLE_EQ(recorded_learning_rate(out + "/sgld.h5"), 0.1);
+  EXPECT_NEAR(recorded_learning_rate(out + "/sgld.h5"),
+              sized_sgld_rate(train_rows(out + "/sgld.h5")), 1e-12);
   EXPECT_NEAR(recorded_learning_rate(out + "/sghmc.h5"),
               sized_sghmc_rate(train_rows(out + "/sghmc.h5")), 1e-12);
 }
