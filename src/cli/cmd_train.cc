@@ -81,6 +81,11 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "santa-opt: share of the steps in the annealed exploration stage (the rest "
                      "refine without noise)")
       ->capture_default_str();
+  method->add_option("--thermostat-gain", s.sampler.santa.thermostat_gain,
+                     "santa: relative gain of the thermostat (0: the method's published "
+                     "thermostat alone, which falls behind minibatch noise on large tables; "
+                     "docs/methods.md section 16)")
+      ->capture_default_str();
   method->add_option("--leapfrog", s.sampler.hmc.leapfrog_steps, "hmc/rhmc: leapfrog steps")
       ->capture_default_str();
   method->add_option("--target-accept", s.sampler.hmc.target_acceptance,

@@ -34,7 +34,7 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       {"--friction", "method"}, {"--max-move", "method"}, {"--speed", "method"},
       {"--mass", "method"}, {"--fixed-mass", "method"}, {"--leapfrog", "method"},
       {"--target-accept", "method"}, {"--temperature-scale", "method"},
-      {"--exploration", "method"}, {"--masses", "method"}, {"--max-moves", "method"},
+      {"--exploration", "method"}, {"--thermostat-gain", "method"}, {"--masses", "method"}, {"--max-moves", "method"},
       // Budget: how much work, on how many chains and threads.
       {"--chains", "budget"}, {"--burn-in", "budget"}, {"--thin", "budget"},
       {"--samples", "budget"}, {"--batch", "budget"}, {"--steps", "budget"},

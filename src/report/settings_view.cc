@@ -130,7 +130,7 @@ void method_rows(const TrainSettings& s, Rows& rows) {
                                            m.santa.sigma, m.santa.lambda, m.santa.friction));
   }
   if (m.method == Method::kSanta) {
-    rows.emplace_back("thermostat", fmt::format("gain {:g}, alpha at most {:g}",
+    rows.emplace_back("thermostat", fmt::format("gain {:g} (--thermostat-gain), alpha at most {:g}",
                                                 m.santa.thermostat_gain, m.santa.max_friction));
   }
   if (m.method == Method::kSantaOpt && m.santa.friction == 0) {

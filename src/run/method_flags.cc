@@ -61,6 +61,8 @@ constexpr FlagRule kRules[] = {
     {"--exploration", [](const Use& u) { return u.method == Method::kSantaOpt; },
      "--exploration is the share of santa-opt's steps spent in its annealed exploration "
      "stage; {m} does not read it"},
+    {"--thermostat-gain", [](const Use& u) { return u.method == Method::kSanta; },
+     "--thermostat-gain is the santa sampler's thermostat setting; {m} does not read it"},
     {"--cycles", [](const Use& u) { return u.schedule == ScheduleKind::kCyclical; },
      "--cycles is read only with --schedule cyclical"},
     {"--friction",

@@ -237,6 +237,10 @@ Status validate_train_settings(const TrainSettings& s) {
   if (!(m.santa.exploration_fraction >= 0 && m.santa.exploration_fraction <= 1)) {
     return refuse("--exploration", m.santa.exploration_fraction, "a share of the steps in [0, 1], such as 0.5");
   }
+  if (!finite_at_least(m.santa.thermostat_gain, 0)) {
+    return refuse("--thermostat-gain", m.santa.thermostat_gain,
+                  "0 (the published thermostat alone) or more, such as 0.05");
+  }
   if (!(m.hmc.target_acceptance > 0 && m.hmc.target_acceptance < 1)) {
     return refuse("--target-accept", m.hmc.target_acceptance, "a rate in (0, 1), such as 0.8");
   }

@@ -65,12 +65,18 @@ TEST_F(SantaCli, RefusesFlagsItDoesNotRead) {
                         Case{"santa-opt", "--schedule cyclical", "anneal their temperature"},
                         Case{"santa", "--schedule cyclical", "anneal their temperature"},
                         Case{"santa-opt", "--temperature 0.5", "is an optimizer"},
-                        Case{"santa", "--friction 0.2", "--friction is sghmc's"}}) {
+                        Case{"santa", "--friction 0.2", "--friction is sghmc's"},
+                        Case{"santa-opt", "--thermostat-gain 0", "santa sampler's thermostat"},
+                        Case{"sghmc", "--thermostat-gain 0", "santa sampler's thermostat"}}) {
     auto r = run_credence(train(c.method, c.flag, "refused.h5"));
     EXPECT_EQ(r.exit_code, 2) << c.method << " " << c.flag << ": " << r.output;
     EXPECT_NE(r.output.find(c.says), std::string::npos) << r.output;
     EXPECT_FALSE(std::filesystem::exists(path("refused.h5")));
   }
+  auto gain = run_credence(train("santa", "--thermostat-gain -1", "refused.h5"));
+  EXPECT_EQ(gain.exit_code, 2) << gain.output;
+  EXPECT_NE(gain.output.find("--thermostat-gain -1 is out of range"), std::string::npos)
+      << gain.output;
   auto range = run_credence(train("santa-opt", "--exploration 1.5", "refused.h5"));
   EXPECT_EQ(range.exit_code, 2) << range.output;
   EXPECT_NE(range.output.find("--exploration 1.5 is out of range"), std::string::npos)

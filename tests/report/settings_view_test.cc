@@ -115,7 +115,7 @@ TEST(SettingsRows, NameExactlyTheFlagsTrainReadsForEachMethod) {
       {"--target-accept", "0.8"}, {"--burn-in", "10"},  {"--thin", "1"},
       {"--samples", "5"},       {"--steps", "10"},       {"--epochs", "1"},
       {"--check-every", "5"},   {"--patience", "2"},     {"--min-steps", "1"},
-      {"--batch", "16"}};
+      {"--batch", "16"},        {"--thermostat-gain", "0"}};
   for (const char* name : {"sgld", "psgld", "sghmc", "rsghmc", "sgd", "momentum", "rsgd", "adam",
                            "hmc", "rhmc", "santa", "santa-opt"}) {
     TrainSettings s;

@@ -24,8 +24,9 @@ using testing::IndependentGaussian;
 
 constexpr Eigen::Index kChains = 20000;
 
-SamplerSettings santa_settings(double eta) {
+SamplerSettings santa_settings(double eta, double thermostat_gain) {
   SamplerSettings s;
+  s.santa.thermostat_gain = thermostat_gain;
   s.method = Method::kSanta;
   s.step_size = eta;
   s.santa.sigma = 1;  // v keeps the first gradient's square: g fixed by the start
@@ -40,8 +41,9 @@ struct Moments {
 
 // Runs kChains 1-D chains of U = theta^2 / (2 variance) from theta_0 = start, so f_1 =
 // start / variance and g = 1 / sqrt(|f_1|).
-Moments run_santa(double variance, double start, std::uint64_t seed, int burn_in, int steps) {
-  SamplerSettings s = santa_settings(1e-4);
+Moments run_santa(double variance, double start, std::uint64_t seed, int burn_in, int steps,
+                  double thermostat_gain = SantaSettings{}.thermostat_gain) {
+  SamplerSettings s = santa_settings(1e-4, thermostat_gain);
   IndependentGaussian potential(Eigen::VectorXf::Constant(kChains, static_cast<float>(variance)));
   auto sampler = Sampler::create(s, kChains, potential.rows(), seed);
   EXPECT_TRUE(sampler.ok());
@@ -79,9 +81,21 @@ TEST(SantaStationary, VarianceAndThermostatMatchTheContinuousLimit) {
   }
 }
 
+TEST(SantaStationary, ThePublishedThermostatAloneMatchesTheContinuousLimit) {
+  // --thermostat-gain 0 runs the method's own thermostat update, with no relative gain:
+  // the discriminating case of docs/methods.md 16 (g = 1, eta = 1e-4: Var(theta) = 1.00 +-
+  // 0.01, mean alpha = 0.0100) must hold for it as it does with the default gain.
+  const Moments m = run_santa(1, 1, testing::test_seed(161), 3000, 30000, 0.0);
+  std::printf("santa gain 0: Var(theta) %.4f +- %.4f, mean alpha %.5f +- %.5f\n",
+              m.var_theta.value, m.var_theta.standard_error, m.mean_alpha.value,
+              m.mean_alpha.standard_error);
+  EXPECT_NEAR(m.var_theta.value, 1.0, 0.02);
+  EXPECT_NEAR(m.mean_alpha.value / 0.01, 1.0, 0.05);
+}
+
 TEST(SantaStationary, TemperatureScalesTheVariance) {
   // At T = 0.25 the same recursion samples exp(-U / T): Var(theta) = T s^2.
-  SamplerSettings s = santa_settings(1e-4);
+  SamplerSettings s = santa_settings(1e-4, SantaSettings{}.thermostat_gain);
   s.temperature = 0.25;
   IndependentGaussian potential(Eigen::VectorXf::Ones(kChains));
   auto sampler = Sampler::create(s, kChains, 1, testing::test_seed(161));
