@@ -20,13 +20,16 @@
 
 namespace credence {
 
-/// Longest re-run, in steps per chain: room for the demo's estimate (about 360,000) and
-/// for rsghmc's measured 300,000 (about 50 s per sampler for the demo's network, 4
-/// chains on two cores at ~30,000 steps/s; a step's cost depends on the network and the
-/// batch, not on the table's rows, and --extend-seconds bounds it on slower machines).
-inline constexpr std::int64_t kExtendMaxSteps = 400000;
+/// Longest re-run, in steps per chain: room for the demo's estimate (about 630,000 once
+/// sgld's and sghmc's rates were sized to the table, credence/budget.h). At 400,000 and 60 s
+/// the demo's worst probe-row R-hat was 1.010-1.014 for sgld, sghmc and rsghmc; granting
+/// the whole estimate (about 45 s per sampler at ~55,000 steps/s on two cores) brought
+/// sgld and sghmc to 1.01 or below and left rsghmc at 1.014, the demo's compare taking 1 min
+/// 53 s. A step's cost depends on the network and the batch, not on the table's rows, and
+/// --extend-seconds bounds it on slower machines.
+inline constexpr std::int64_t kExtendMaxSteps = 800000;
 /// compare's default bound on one re-run's estimated wall time (--extend-seconds).
-inline constexpr double kExtendSeconds = 60;
+inline constexpr double kExtendSeconds = 120;
 /// Without an estimate from the verdict, a re-run is this many times the first run.
 inline constexpr std::int64_t kExtendFactorWithoutEstimate = 8;
 
