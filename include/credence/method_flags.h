@@ -21,7 +21,7 @@ Status check_method_flags(Method method, ScheduleKind schedule, bool net_file,
                           const std::set<std::string>& given);
 
 /// Defaults that hang on the method and on what was given: the method's own learning rate
-/// (default_learning_rate: sgld 0.1, santa and santa-opt 1e-3, others 0.01) unless --lr
+/// (default_learning_rate: sgld 0.1, psgld 3e-3, santa and santa-opt 1e-3, others 0.01) unless --lr
 /// was given (samplers_settings.h says why). Once the table is read, training sizes sgld's
 /// and sghmc's rate to it (budget.h, size_learning_rate), again only without --lr.
 void apply_method_defaults(SamplerSettings& sampler, const std::set<std::string>& given);

@@ -47,7 +47,7 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
                      "Learning rate on the mean loss (converted to the method's step; rsghmc "
                      "reads it only with --speed or --mass: its move comes from --max-move; "
                      "sgld: default 0.01 x sqrt(training rows), from 0.1 to 0.3; sghmc: "
-                     "default 0.001 x sqrt(training rows), from 0.01 to 0.1; santa, "
+                     "default 0.001 x sqrt(training rows), from 0.01 to 0.1; psgld: default 0.003; santa, "
                      "santa-opt: default 0.001)")
       ->capture_default_str();
   method->add_option("--step-size", s.sampler.step_size,

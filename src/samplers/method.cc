@@ -79,6 +79,8 @@ double default_learning_rate(Method method) {
       return kSantaLearningRate;
     case Method::kSgld:
       return kSgldLearningRate;
+    case Method::kPsgld:
+      return kPsgldLearningRate;
     default:
       return SamplerSettings{}.learning_rate;
   }
