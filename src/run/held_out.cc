@@ -65,13 +65,21 @@ std::function<HeldOutScore(int chain)> held_out_nll(const ParamLayout& layout,
   };
 }
 
-void size_early_stop(TrainSettings& s, std::int64_t train_rows, std::int64_t validation_rows,
-                     const BudgetGiven& given) {
+std::string size_early_stop(TrainSettings& s, std::int64_t train_rows,
+                            std::int64_t validation_rows, const BudgetGiven& given,
+                            const std::string& missing_class) {
   using D = EarlyStopDefaults;
   EarlyStopSettings& e = s.chains.early_stop;
   if (is_sampler(s.sampler.method) || validation_rows == 0) {
     e.every = 0;
-    return;
+    return {};
+  }
+  if (!missing_class.empty() && !given.check_every && !given.patience) {
+    e.every = 0;
+    return fmt::format("early stopping off: the {} validation rows hold no row of class '{}', "
+                       "so their NLL would favour a network that never predicts it; the "
+                       "optimizer runs its whole budget (--patience N turns it back on)",
+                       validation_rows, missing_class);
   }
   const std::int64_t per_pass = steps_per_pass(train_rows, s.batches.batch_rows);
   const std::int64_t budget = s.chains.burn_in + 1;
@@ -86,6 +94,7 @@ void size_early_stop(TrainSettings& s, std::int64_t train_rows, std::int64_t val
   }
   // --patience 0 turns early stopping off.
   if (e.patience == 0) e.every = 0;
+  return {};
 }
 
 }  // namespace credence

@@ -49,6 +49,23 @@ std::vector<std::int64_t> choose_probe_rows(const std::vector<std::int64_t>& val
   return rows;
 }
 
+// A class some training row holds and no validation row does ("" when none, or without
+// validation rows): early stopping on such rows is refused a default (size_early_stop).
+std::string class_missing_from(const std::vector<std::int32_t>& labels,
+                               const std::vector<std::int64_t>& train,
+                               const std::vector<std::int64_t>& validation,
+                               const std::vector<std::string>& class_names) {
+  if (validation.empty()) return {};
+  std::vector<char> in_train(class_names.size(), 0);
+  std::vector<char> in_validation(class_names.size(), 0);
+  for (std::int64_t row : train) in_train[static_cast<std::size_t>(labels[static_cast<std::size_t>(row)])] = 1;
+  for (std::int64_t row : validation) in_validation[static_cast<std::size_t>(labels[static_cast<std::size_t>(row)])] = 1;
+  for (std::size_t k = 0; k < class_names.size(); ++k) {
+    if (in_train[k] != 0 && in_validation[k] == 0) return class_names[k];
+  }
+  return {};
+}
+
 // Names and sizes of every state array a chain will checkpoint: the template the run
 // file creates its checkpoint datasets from.
 Result<NamedArrays> state_template(const PreparedRun& p) {
@@ -160,8 +177,12 @@ Result<PreparedRun> prepare_new_run(const TrainRequest& request) {
   }
   shape_optimizer_chains(p.settings, p.rows.x.cols());
   if (request.budget_given) {
-    size_early_stop(p.settings, p.rows.x.cols(),
-                    static_cast<std::int64_t>(data->split.validation.size()), *request.budget_given);
+    const std::string off = size_early_stop(
+        p.settings, p.rows.x.cols(), static_cast<std::int64_t>(data->split.validation.size()),
+        *request.budget_given, class_missing_from(data->labels, data->split.train,
+                                                  data->split.validation,
+                                                  data->preprocessing.class_names));
+    if (!off.empty()) log().info("{}", off);
   }
   if (p.settings.chains.early_stop.every > 0) {
     p.held_out = gather_training_rows(data->x, data->labels, held_out_rows(data->split.validation));

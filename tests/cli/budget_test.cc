@@ -134,6 +134,43 @@ TEST_F(Budget, OptimizerDefaultsStopEarlyAndSayWhy) {
   EXPECT_NE(reason.find("kept the best"), std::string::npos) << reason;
 }
 
+TEST_F(Budget, NoEarlyStopOnValidationRowsThatLackAClass) {
+  // 100 rows, 3 of class 'yes': the stratified split leaves none among the 10 validation
+  // rows. Their NLL then favours a network that never predicts 'yes', so the best iterate
+  // was a near-constant start (tests/tools/evaluate_defaults.py's rare-positives 100-row
+  // table: momentum stopped at test NLL 0.298, 0.236 over its whole budget). Before this
+  // check's fix early stopping stayed on (early_stop_every 25; this check failed).
+  const std::string data = path("rare.csv");
+  {
+    std::string csv = "a,b,label\n";
+    for (int i = 0; i < 100; ++i) {
+      csv += std::to_string(i % 10) + "," + std::to_string((i * 37) % 100) + "," +
+             (i == 10 || i == 50 || i == 90 ? "yes" : "no") + "\n";
+    }
+    FILE* f = std::fopen(data.c_str(), "w");
+    ASSERT_NE(f, nullptr);
+    std::fputs(csv.c_str(), f);
+    std::fclose(f);
+  }
+  const std::string run = path("rare.h5"), json = path("rare.json");
+  auto trained = run_credence("train '" + data + "' --target label --hidden 8 --method momentum "
+                              "--chains 1 --out '" + run + "'");
+  ASSERT_EQ(trained.exit_code, 0) << trained.output;
+  ASSERT_NE(trained.output.find("validation rows (10) hold no row of class 'yes'"),
+            std::string::npos) << "the split changed; pick rows so validation lacks 'yes'\n"
+                               << trained.output;
+  EXPECT_NE(trained.output.find("early stopping off"), std::string::npos) << trained.output;
+  ASSERT_EQ(run_credence("--quiet inspect '" + run + "' --json '" + json + "'").exit_code, 0);
+  EXPECT_EQ(json_value(json, "d['settings']['early_stop_every']"), "0");
+  EXPECT_EQ(json_value(json, "d['chain_details'][0]['steps']"), "4000");
+  // --patience given: the user's choice stands.
+  auto given = run_credence("--quiet train '" + data + "' --target label --hidden 8 --method "
+                            "momentum --chains 1 --patience 5 --force --out '" + run + "'");
+  ASSERT_EQ(given.exit_code, 0) << given.output;
+  ASSERT_EQ(run_credence("--quiet inspect '" + run + "' --json '" + json + "'").exit_code, 0);
+  EXPECT_NE(json_value(json, "d['settings']['early_stop_every']"), "0");
+}
+
 TEST_F(Budget, DefaultStepSizesDoNotDivergeOnStandardisedInputs) {
   // Every method at its default step size and the table-sized budget: no chain diverges
   // (the inputs are standardised by credence's preprocessing). A guard, not a defect
