@@ -70,8 +70,8 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   method->add_option("--max-move", s.sampler.relativistic.max_move,
                      "rsghmc/rsgd/rhmc: largest move of one weight per step (sets c; rhmc: "
                      "at the first step size, which burn-in then adapts) "
-                     "[default: 0.01; rsghmc: min(0.01, 0.2 / sqrt(training rows)), so the "
-                     "moves shrink with the posterior's width]");
+                     "[default: 0.01; rsghmc: min(0.01, 2 sqrt(lr / training rows)), lr being "
+                     "sghmc's sized default, so the moves shrink with the posterior's width]");
   method->add_option("--speed", s.sampler.relativistic.speed,
                      "rsghmc/rsgd/rhmc: speed of light c (overrides --max-move)");
   method->add_option("--mass", s.sampler.relativistic.mass,

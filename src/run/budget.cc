@@ -83,13 +83,21 @@ std::string size_budget(TrainSettings& s, std::int64_t train_rows, const BudgetG
       passes_text(c.thin * c.samples, per_pass));
 }
 
+double sghmc_sized_learning_rate(std::int64_t train_rows) {
+  return std::clamp(kSghmcLrPerSqrtRow * std::sqrt(static_cast<double>(train_rows)),
+                    kSghmcLrFloor, kSghmcLrCap);
+}
+
 std::string size_max_move(TrainSettings& s, std::int64_t train_rows, const BudgetGiven& given) {
   if (s.sampler.method != Method::kRsghmc || given.max_move || train_rows < 1) return {};
-  s.sampler.relativistic.max_move =
-      std::min(kMaxMoveCap, kMaxMoveRows / std::sqrt(static_cast<double>(train_rows)));
+  const double sghmc_move =
+      std::sqrt(sghmc_sized_learning_rate(train_rows) / static_cast<double>(train_rows));
+  s.sampler.relativistic.max_move = std::min(kMaxMoveCap, kMaxMoveOverSghmcMove * sghmc_move);
   return fmt::format("rsghmc's largest move per step sized to {} training rows: {:.3g} "
-                     "(default: min({:g}, {:g} / sqrt(rows)))",
-                     train_rows, s.sampler.relativistic.max_move, kMaxMoveCap, kMaxMoveRows);
+                     "(default: min({:g}, {:g} x sghmc's move per step sqrt(lr / rows), lr "
+                     "being sghmc's sized --lr {:.3g}))",
+                     train_rows, s.sampler.relativistic.max_move, kMaxMoveCap,
+                     kMaxMoveOverSghmcMove, sghmc_sized_learning_rate(train_rows));
 }
 
 std::string size_learning_rate(TrainSettings& s, std::int64_t train_rows, const BudgetGiven& given) {
@@ -103,7 +111,8 @@ std::string size_learning_rate(TrainSettings& s, std::int64_t train_rows, const 
   const double floor = sgld ? kSgldLrFloor : kSghmcLrFloor;
   const double cap = sgld ? kSgldLrCap : kSghmcLrCap;
   s.sampler.learning_rate =
-      std::clamp(per_sqrt_row * std::sqrt(static_cast<double>(train_rows)), floor, cap);
+      sgld ? std::clamp(per_sqrt_row * std::sqrt(static_cast<double>(train_rows)), floor, cap)
+           : sghmc_sized_learning_rate(train_rows);
   return fmt::format("{}'s learning rate sized to {} training rows: {:.3g} (default: {:g} x "
                      "sqrt(rows), between {:g} and {:g})",
                      method_name(method), train_rows, s.sampler.learning_rate, per_sqrt_row,
