@@ -30,7 +30,7 @@ ExtendPlan plan_extension(const RunVerdict& verdict, std::int64_t steps_run, dou
     return plan;
   }
   const std::int64_t wanted = verdict.more_steps_per_chain
-                                  ? steps_run + 2 * *verdict.more_steps_per_chain
+                                  ? steps_run + kExtendEstimateFactor * *verdict.more_steps_per_chain
                                   : kExtendFactorWithoutEstimate * steps_run;
   std::int64_t steps = std::min(wanted, kExtendMaxSteps);
   std::string bound = fmt::format("{} steps per chain", kExtendMaxSteps);
