@@ -122,6 +122,14 @@ class PotentialFn {
   /// then drop cached potentials). The default does nothing. Must not allocate.
   virtual Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed);
 
+  /// The precision of the Gaussian prior on every coordinate, c_i with the prior's part
+  /// of U equal to sum_i c_i theta_i^2 / 2 (so its gradient is c_i theta_i), written into
+  /// `precision` at the current hyperparameters. psgld adapts its preconditioner from
+  /// the gradient without this term (docs/methods.md section 3). Returns false (the
+  /// default) when the model does not split its prior out. Must not allocate.
+  /// precision: (P).
+  virtual bool prior_precision(ThetaRef precision) const;
+
   /// The model's current hyperparameters (a learned prior's block precisions), recorded
   /// with every kept sample; empty by default.
   virtual std::span<const double> hyperparameters() const;
