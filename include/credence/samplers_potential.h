@@ -83,7 +83,8 @@ struct MinibatchValue {
 
 /// The model side of every sampler. Implement rows() and minibatch(); full() is
 /// needed by hmc and rhmc only, gradient_noise_variance() by sghmc and rsghmc
-/// only when their gradient-noise correction is switched on.
+/// only when their gradient-noise correction is switched on; psgld uses
+/// prior_precision() when it is given (a model with a Gaussian prior should give it).
 class PotentialFn {
  public:
   virtual ~PotentialFn() = default;
