@@ -83,7 +83,8 @@ struct MinibatchValue {
 
 /// The model side of every sampler. Implement rows() and minibatch(); full() is
 /// needed by hmc and rhmc only, gradient_noise_variance() by sghmc and rsghmc
-/// only when their gradient-noise correction is switched on.
+/// only when their gradient-noise correction is switched on; psgld uses
+/// prior_precision() when it is given (a model with a Gaussian prior should give it).
 class PotentialFn {
  public:
   virtual ~PotentialFn() = default;
@@ -121,6 +122,14 @@ class PotentialFn {
   /// fixed target within a trajectory. Sets `changed` when the target changed (samplers
   /// then drop cached potentials). The default does nothing. Must not allocate.
   virtual Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed);
+
+  /// The precision of the Gaussian prior on every coordinate, c_i with the prior's part
+  /// of U equal to sum_i c_i theta_i^2 / 2 (so its gradient is c_i theta_i), written into
+  /// `precision` at the current hyperparameters. psgld adapts its preconditioner from
+  /// the gradient without this term (docs/methods.md section 3). Returns false (the
+  /// default) when the model does not split its prior out. Must not allocate.
+  /// precision: (P).
+  virtual bool prior_precision(ThetaRef precision) const;
 
   /// The model's current hyperparameters (a learned prior's block precisions), recorded
   /// with every kept sample; empty by default.

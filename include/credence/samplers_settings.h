@@ -78,6 +78,13 @@ struct PsgldSettings {
   /// Stop adapting G when burn-in ends, so the kept chain has a fixed metric and
   /// the dropped Gamma term is exactly zero. Default true.
   bool freeze_after_burn_in = true;
+  /// Adapt G from the likelihood's gradient alone: g minus the Gaussian prior's term
+  /// c_i theta_i, when the potential reports c (PotentialFn::prior_precision). A G built
+  /// from the prior's term scales as 1 / |theta_i| on coordinates the data barely
+  /// touch; without the Gamma term that tilts the chain by |theta_i| per coordinate and,
+  /// with a learned prior scale, drives the precisions towards 0 (docs/methods.md
+  /// section 3). false uses the whole gradient, as the paper does. Default true.
+  bool adapt_without_prior = true;
   /// Add the Gamma correction term, with the diagonal Hessian estimated by secants
   /// of successive gradients (docs/methods.md section 3). Default false: the term is
   /// O(1 - rho), needs second derivatives, and a noisy estimate can hurt more than

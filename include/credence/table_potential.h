@@ -82,6 +82,8 @@ class TablePotential final : public PotentialFn {
   /// Gibbs (samplers) or evidence (optimizers) update of the learned prior precisions
   /// when one is due (see the file comment).
   Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed) override;
+  /// Each coordinate's current prior precision (its block's lambda_b); always true.
+  bool prior_precision(ThetaRef precision) const override;
   /// The block precisions when the prior learns its scale; empty otherwise.
   std::span<const double> hyperparameters() const override;
   /// Steps between Gibbs updates; 0 when the precisions stay fixed or follow the evidence.

@@ -102,6 +102,16 @@ std::span<const double> TablePotential::hyperparameters() const {
   return potential_.prior().block_precisions();
 }
 
+bool TablePotential::prior_precision(ThetaRef precision) const {
+  const GaussianPrior& prior = potential_.prior();
+  const std::span<const double> lambda = prior.block_precisions();
+  for (Index b = 0; b < prior.num_blocks(); ++b) {
+    precision.segment(prior.block_offset(b), prior.block_size(b))
+        .setConstant(static_cast<float>(lambda[static_cast<std::size_t>(b)]));
+  }
+  return true;
+}
+
 std::int64_t TablePotential::prior_update_every() const { return gibbs_ ? gibbs_->every() : 0; }
 
 TablePotential::TablePotential(const TrainingRows& rows, Potential<float> potential,

@@ -30,6 +30,7 @@ void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
   visit("psgld_max_preconditioner_ratio", m.psgld.max_preconditioner_ratio);
   visit("psgld_freeze_after_burn_in", m.psgld.freeze_after_burn_in);
   visit("psgld_gamma_correction", m.psgld.gamma_correction);
+  visit("psgld_adapt_without_prior", m.psgld.adapt_without_prior);
   visit("sghmc_alpha", m.sghmc.alpha);
   visit("sghmc_correct_gradient_noise", m.sghmc.correct_gradient_noise);
   visit("sghmc_resample_every", m.sghmc.resample_every);
@@ -290,6 +291,11 @@ Status from_values(const Settings& values, TrainSettings& settings, ReadOptions&
     // Run files written before santa existed have no santa_* settings; they are never
     // santa runs, and the defaults leave them unchanged.
     if (std::string_view(name).starts_with("santa_")) return;
+    // Run files written before psgld adapted without the prior's term adapted with it.
+    if (std::string_view(name) == "psgld_adapt_without_prior") {
+      if constexpr (std::is_same_v<std::decay_t<decltype(field)>, bool>) field = false;
+      return;
+    }
     status = Status::corrupt(fmt::format("the run file has no setting '{}'", name));
   });
   return status;

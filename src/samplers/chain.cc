@@ -82,6 +82,9 @@ class CountingPotential final : public PotentialFn {
   Status before_step(ConstThetaRef theta, std::int64_t step, bool& changed) override {
     return inner_->before_step(theta, step, changed);
   }
+  bool prior_precision(ThetaRef precision) const override {
+    return inner_->prior_precision(precision);
+  }
   std::span<const double> hyperparameters() const override { return inner_->hyperparameters(); }
   void save_state(NamedArrays& out) const override { inner_->save_state(out); }
   Status restore_state(const NamedArrays& in) override { return inner_->restore_state(in); }

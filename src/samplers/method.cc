@@ -276,6 +276,7 @@ Status PotentialFn::before_step(ConstThetaRef, std::int64_t, bool& changed) {
 }
 
 std::span<const double> PotentialFn::hyperparameters() const { return {}; }
+bool PotentialFn::prior_precision(ThetaRef /*precision*/) const { return false; }
 
 void PotentialFn::save_state(NamedArrays&) const {}
 

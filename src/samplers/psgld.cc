@@ -5,6 +5,10 @@
 //   V_t = rho V_{t-1} + (1 - rho) gbar_t^2,   gbar = g / N,   Vhat = V_t / (1 - rho^t)
 //   G_t = 1 / (lambda + sqrt(Vhat_t))
 //   theta_{t+1} = theta_t - (eps/2) (G_t g_t - T Gamma_t) + sqrt(eps T G_t) xi
+// When the potential reports its Gaussian prior's precisions c (adapt_without_prior, the
+// default), gbar = (g - c theta) / N and G_t = 1 / (lambda + sqrt(Vhat_t + c / N^2)): a G
+// that follows the prior's term c theta tilts the target by 1 / G and, with a learned
+// prior scale, drives the precisions towards 0 (docs/methods.md section 3).
 // Gamma is dropped by default (the paper's choice); with it switched on, G_i is
 // differentiated through the bias-corrected average (docs/methods.md section 3),
 //   Gamma_i ~ -(1 - rho) / (1 - rho^t) gbar_i Hbar_ii / (sqrt(Vhat_i) (lambda + sqrt(Vhat_i))^2)
@@ -24,6 +28,8 @@ class PsgldRule final : public Rule {
   PsgldRule(const SamplerSettings& s, std::int64_t p, std::int64_t n, std::uint64_t seed)
       : Rule(s, p, n, seed),
         scratch_(Eigen::VectorXf::Zero(p)),
+        gbar_(Eigen::VectorXf::Zero(p)),
+        prior_v_(Eigen::VectorXf::Zero(p)),
         v_(Eigen::VectorXf::Zero(p)),
         g_precond_(Eigen::VectorXf::Zero(p)),
         gamma_(Eigen::VectorXf::Zero(p)),
@@ -44,23 +50,35 @@ class PsgldRule final : public Rule {
       const auto correction =
           static_cast<float>(1.0 - std::pow(ps.rho, static_cast<double>(adapted_)));
       const auto lambda = static_cast<float>(ps.lambda);
+      // gbar: the mean gradient G adapts to. When the potential splits out its Gaussian
+      // prior (precision c_i), the prior's term c_i theta_i / N leaves gbar and its
+      // squared average is replaced by its expectation under the prior, c_i / N^2, which
+      // does not move with theta_i (docs/methods.md section 3).
+      if (ps.adapt_without_prior && potential.prior_precision(prior_v_)) {
+        gbar_ = (grad_ - prior_v_.cwiseProduct(theta)) * inv_n;
+        prior_v_ *= inv_n * inv_n;
+      } else {
+        gbar_ = grad_ * inv_n;
+        prior_v_.setZero();
+      }
       // Plain loops for sqrt: Eigen's AVX-512 packet sqrt trips gcc 12's
       // maybe-uninitialized check.
       float* __restrict v = v_.data();
       float* __restrict gp = g_precond_.data();
-      const float* __restrict g = grad_.data();
+      const float* __restrict gb = gbar_.data();
+      const float* __restrict pv = prior_v_.data();
       for (std::int64_t i = 0; i < parameters_; ++i) {
-        const float gbar = g[i] * inv_n;
+        const float gbar = gb[i];
         const float vi = rho * v[i] + (1.0f - rho) * (gbar * gbar);
         v[i] = vi;
-        gp[i] = 1.0f / (lambda + std::sqrt(vi / correction));
+        gp[i] = 1.0f / (lambda + std::sqrt(vi / correction + pv[i]));
       }
       if (ps.max_preconditioner_ratio > 0) cap_preconditioner(ps.max_preconditioner_ratio);
       if (ps.gamma_correction && adapted_ > 1) {
         for (Eigen::Index i = 0; i < theta.size(); ++i) {
-          const float gbar = grad_[i] * inv_n;
+          const float gbar = gbar_[i];
           const float d_theta = theta[i] - previous_theta_[i];
-          const float root = std::sqrt(v_[i] / correction);
+          const float root = std::sqrt(v_[i] / correction + prior_v_[i]);
           // A secant through nearly equal points says nothing about the curvature; a
           // capped G_i is the cap, which does not move with theta_i.
           const bool usable = std::abs(d_theta) > 1e-12f && root > 0 && g_precond_[i] < cap_;
@@ -72,10 +90,10 @@ class PsgldRule final : public Rule {
                              : 0.0f;
         }
         previous_theta_ = theta;
-        previous_gbar_ = grad_ * inv_n;
+        previous_gbar_ = gbar_;
       } else if (ps.gamma_correction) {
         previous_theta_ = theta;
-        previous_gbar_ = grad_ * inv_n;
+        previous_gbar_ = gbar_;
       }
     } else {
       gamma_.setZero();
@@ -154,6 +172,8 @@ class PsgldRule final : public Rule {
 
  private:
   Eigen::VectorXf scratch_;         // (P) workspace for the median
+  Eigen::VectorXf gbar_;            // (P) this step's mean gradient that G adapts to
+  Eigen::VectorXf prior_v_;         // (P) c_i / N^2: the prior term's expected gbar^2
   Eigen::VectorXf v_;               // (P) squared-gradient average, gbar units^2
   Eigen::VectorXf g_precond_;       // (P) G, frozen after burn-in by default
   Eigen::VectorXf gamma_;           // (P) Gamma term (zero unless switched on)

@@ -157,6 +157,67 @@ TEST(AdaptedConstants, PsgldGammaIsZeroWhereThePreconditionerIsCapped) {
   EXPECT_EQ(gamma[2], 0.0f);
 }
 
+// U = sum_i (c_i theta_i^2 / 2 + d_i theta_i) over N = 10 rows: a Gaussian prior of
+// precision c, which the potential reports when `report_prior`, and a likelihood whose
+// gradient d is constant.
+class PriorPlusLinear final : public PotentialFn {
+ public:
+  PriorPlusLinear(Eigen::VectorXf c, Eigen::VectorXf d, bool report_prior)
+      : c_(std::move(c)), d_(std::move(d)), report_prior_(report_prior) {}
+  std::int64_t rows() const override { return 10; }
+  Status minibatch(ConstThetaRef theta, ThetaRef grad, MinibatchValue& out) override {
+    grad = c_.cwiseProduct(theta) + d_;
+    out.potential = static_cast<double>(0.5f * theta.cwiseAbs2().dot(c_) + theta.dot(d_));
+    return Status::ok_status();
+  }
+  bool prior_precision(ThetaRef precision) const override {
+    if (report_prior_) precision = c_;
+    return report_prior_;
+  }
+
+ private:
+  Eigen::VectorXf c_, d_;
+  bool report_prior_;
+};
+
+TEST(AdaptedConstants, PsgldAdaptsToTheLikelihoodAndThePriorsExpectedTerm) {
+  // docs/methods.md 3: with the prior's precisions c reported, G = 1 / (lambda +
+  // sqrt(Vhat + c / N^2)), Vhat averaging (d / N)^2 alone, so G does not move with theta;
+  // at t = 1 the bias-corrected Vhat is (d / N)^2 exactly. Coordinate 1 has no likelihood
+  // gradient (a weight the data do not touch): G = N / sqrt(c). Without the report, or
+  // with adapt_without_prior off, G follows the whole gradient (the AAAI 2016 rule).
+  const Eigen::Vector2f c(4.0f, 0.25f), d(3.0f, 0.0f);
+  const Eigen::Vector2f start(1.5f, -2.0f);
+  constexpr double kLambda = 1e-5, kN = 10;
+  auto g_after_one_step = [&](bool report, bool adapt_without_prior) {
+    SamplerSettings s;
+    s.method = Method::kPsgld;
+    s.step_size = 1e-4;
+    s.psgld.max_preconditioner_ratio = 0;  // the formula alone
+    s.psgld.adapt_without_prior = adapt_without_prior;
+    PriorPlusLinear potential(c, d, report);
+    auto sampler = Sampler::create(s, 2, potential.rows(), testing::test_seed(97));
+    EXPECT_TRUE(sampler.ok());
+    Eigen::VectorXf theta = start;
+    burn_in_steps(**sampler, potential, theta, 1);
+    return (*sampler)->save_state().floats.at("preconditioner");
+  };
+  const std::vector<float> now = g_after_one_step(true, true);
+  for (int i = 0; i < 2; ++i) {
+    const double expected = 1 / (kLambda + std::sqrt((d[i] / kN) * (d[i] / kN) + c[i] / (kN * kN)));
+    EXPECT_NEAR(now[static_cast<std::size_t>(i)] / expected, 1.0, 1e-5) << i;
+  }
+  EXPECT_NEAR(now[1], kN / std::sqrt(0.25), 0.005);  // 20, less lambda's share (0.004)
+  for (const bool report : {false, true}) {
+    const std::vector<float> whole = g_after_one_step(report, !report);
+    for (int i = 0; i < 2; ++i) {
+      const double gbar = (c[i] * start[i] + d[i]) / kN;
+      EXPECT_NEAR(whole[static_cast<std::size_t>(i)] / (1 / (kLambda + std::abs(gbar))), 1.0, 1e-5)
+          << i;
+    }
+  }
+}
+
 // rhmc with c and m derived from its step (c = max_move / eps, m = u* T / c^2).
 SamplerSettings rhmc_derived(double eps, double max_move, int leapfrog) {
   SamplerSettings s;
