@@ -15,11 +15,10 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
-#include <cstdlib>
 #include <fstream>
 #include <string>
 
-#include "testing/read_text.h"
+#include "testing/python_reference.h"
 #include "testing/run_command.h"
 #include "testing/seed.h"
 #include "testing/temp_dir.h"
@@ -54,17 +53,8 @@ class Issue17PsgldFunnel : public ::testing::Test {
                               " --burn-in 40000 --thin 100 --samples 50 --chain-seed " +
                               std::to_string(seed_) + " --out '" + run + "'");
     EXPECT_EQ(trained.exit_code, 0) << trained.output;
-    const std::string out = path(method + ".txt");
-    const std::string command =
-        std::string("'") + CREDENCE_PYTHON +
-        "' -c \"import h5py, numpy, sys; f = h5py.File(sys.argv[1], 'r'); "
-        "print(repr(float(numpy.median(f['samples/prior_precision'][:, 2]))))\" '" +
-        run + "' > '" + out + "' 2>&1";
-    if (std::system(command.c_str()) != 0) {
-      ADD_FAILURE() << testing::read_text(out);
-      return -1;
-    }
-    return std::strtod(testing::read_text(out).c_str(), nullptr);
+    return testing::h5py_number(run, "numpy.median(f['samples/prior_precision'][:, 2])",
+                                path(method + ".txt"));
   }
 
   testing::TempDir dir_;

@@ -14,10 +14,9 @@
 
 #include <algorithm>
 #include <cmath>
-#include <cstdlib>
 #include <string>
 
-#include "testing/read_text.h"
+#include "testing/python_reference.h"
 #include "testing/run_command.h"
 #include "testing/temp_dir.h"
 
@@ -39,30 +38,11 @@ class Issue17SgldStep : public ::testing::Test {
   }
   // The run file's settings/learning_rate, as h5py reads it, or a negative value.
   double recorded_learning_rate(const std::string& run) const {
-    const std::string out = path("lr.txt");
-    const std::string command = std::string("'") + CREDENCE_PYTHON +
-                                "' -c \"import h5py, sys; f = h5py.File(sys.argv[1], 'r'); "
-                                "print(repr(float(f['settings'].attrs['learning_rate'])))\" '" +
-                                run + "' > '" + out + "' 2>&1";
-    if (std::system(command.c_str()) != 0) {
-      ADD_FAILURE() << testing::read_text(out);
-      return -1;
-    }
-    return std::strtod(testing::read_text(out).c_str(), nullptr);
+    return testing::h5py_number(run, "f['settings'].attrs['learning_rate']", path("lr.txt"));
   }
-
   // The number of training rows the run file records (/data/train_rows), as h5py reads it.
   double train_rows(const std::string& run) const {
-    const std::string out = path("rows.txt");
-    const std::string command = std::string("'") + CREDENCE_PYTHON +
-                                "' -c \"import h5py, sys; f = h5py.File(sys.argv[1], 'r'); "
-                                "print(len(f['data/train_rows']))\" '" + run + "' > '" + out +
-                                "' 2>&1";
-    if (std::system(command.c_str()) != 0) {
-      ADD_FAILURE() << testing::read_text(out);
-      return -1;
-    }
-    return std::strtod(testing::read_text(out).c_str(), nullptr);
+    return testing::h5py_number(run, "len(f['data/train_rows'])", path("rows.txt"));
   }
   // The rules, written out here from their documentation: sghmc clamp(0.001 sqrt(rows),
   // 0.01, 0.1), sgld clamp(0.01 sqrt(rows), 0.1, 0.3).
