@@ -77,6 +77,9 @@ struct RunHeader {
   std::int64_t samples_per_chain = 0;    // S planned per chain
   // Tracked summaries (docs/methods.md 10.3), one row per kept sample.
   std::vector<std::int64_t> probe_rows;  // R data rows (from val_rows) whose predictions are tracked
+  /// (R) the probe rows' class indices, so diagnose and report judge a run as train did
+  /// (run_verdict.h); empty in files of builds before them.
+  std::vector<std::int32_t> probe_labels;
   int projections = 4;                   // random projections u_j^T theta per sample
   int layers = 0;                        // L: squared norm per layer per sample
   /// Names and sizes of every per-chain state array (sampler and minibatch

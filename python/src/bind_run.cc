@@ -101,6 +101,7 @@ py::dict header_dict(const RunHeader& h) {
   out["chains"] = h.chains;
   out["samples_per_chain"] = h.samples_per_chain;
   out["probe_rows"] = to_numpy(h.probe_rows);
+  out["probe_labels"] = to_numpy(h.probe_labels);
   out["projections"] = h.projections;
   out["layers"] = h.layers;
   return out;

@@ -159,8 +159,8 @@ Status run_diagnose(const DiagnoseOptions& options) {
   if (!diagnostics.ok()) {
     return diagnostics.status().with_context(fmt::format("diagnosing {}", options.run_path));
   }
-  // The end-of-run checks; without the data the probe rows' labels are unknown, so the
-  // constant-prediction check is left to train and compare.
+  // The end-of-run checks, with the probe rows' labels the run file keeps (a file of an
+  // earlier build has none: the constant-prediction check is then left to train).
   std::optional<RunVerdict> verdict;
   if (Result<RunEvidence> evidence = gather_run_evidence(**reader); evidence.ok()) {
     verdict = judge_run(*evidence);

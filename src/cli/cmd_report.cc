@@ -39,8 +39,7 @@ Status run_report(const ReportFlags& flags, const GlobalOptions& global) {
   options.positive_class = flags.decisions.positive_class;
   Result<MethodRun> run = load_method_run(flags.run_path, flags.data_path, "", options);
   if (!run.ok()) return run.status();
-  // The end-of-run checks, as diagnose judges them: without the probe rows' labels the
-  // constant-prediction check does not apply.
+  // The end-of-run checks, as diagnose judges them (with the probe labels the run keeps).
   run->verdict = judge_run_file(flags.run_path, {});
   // How close the draws are to the posterior (docs/diagnostics.md): skipped with a note
   // for optimizers, too much work or a missing training table.

@@ -94,6 +94,8 @@ Result<RunEvidence> gather_run_evidence(const RunReader& run,
   for (Eigen::Index l = 0; l < norms->rows(); ++l) {
     e.layer_sq_norm.push_back(diagnostics::chains_of_row(*norms, l, columns));
   }
+  // The caller's labels, else those the run file keeps (files of earlier builds lack them).
+  if (probe_labels.empty()) probe_labels = header.probe_labels;
   if (probe_labels.size() == static_cast<std::size_t>(prob->rows())) {
     e.probe_labels.assign(probe_labels.begin(), probe_labels.end());
   }

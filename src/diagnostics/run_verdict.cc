@@ -7,6 +7,8 @@
 #include <cmath>
 #include <limits>
 #include <map>
+#include <optional>
+#include <string>
 
 namespace credence {
 namespace {
@@ -80,14 +82,23 @@ VerdictCheck check_drift(const RunEvidence& e) {
                       std::abs(worst_z), kDriftZ, kDriftShiftSd)};
 }
 
-VerdictCheck check_constant(const RunEvidence& e) {
-  const std::size_t rows = e.probe_prob.size();
-  if (e.probe_labels.size() != rows || rows < 2) {
-    return not_applied("constant", "the probe rows' labels are not known here");
-  }
-  // Ensemble mean of each row's own-label probability, then log-odds grouped by label.
+// The probe rows' ensemble-mean probability of their own label, grouped by label: the
+// largest log-odds sd within a class, the class means' sum, and how far that sum is from a
+// constant prediction's (see run_verdict.h, "constant" and "separation").
+struct ProbeSeparation {
+  std::size_t rows = 0;
+  double max_sd = kNaN;          // NaN when no class has two or more probe rows
+  double class_mean_sum = 0;
+  std::size_t classes = 0;       // labels with at least one probe row
+  double index = kNaN;           // (class_mean_sum - 1) / (classes - 1); NaN: unknown
+};
+
+ProbeSeparation probe_separation(const RunEvidence& e) {
+  ProbeSeparation out;
+  out.rows = e.probe_prob.size();
+  if (e.probe_labels.size() != out.rows || out.rows < 2) return out;
   std::map<std::int32_t, std::vector<double>> by_class;
-  for (std::size_t r = 0; r < rows; ++r) {
+  for (std::size_t r = 0; r < out.rows; ++r) {
     double sum = 0;
     long count = 0;
     for (const auto& chain : e.probe_prob[r]) {
@@ -97,10 +108,8 @@ VerdictCheck check_constant(const RunEvidence& e) {
     }
     if (count > 0) by_class[e.probe_labels[r]].push_back(sum / static_cast<double>(count));
   }
-  double class_mean_sum = 0;
-  double max_sd = kNaN;
   for (const auto& [label, probs] : by_class) {
-    class_mean_sum += mean_of(probs);
+    out.class_mean_sum += mean_of(probs);
     if (probs.size() < 2) continue;
     std::vector<double> log_odds;
     for (double p : probs) {
@@ -108,8 +117,43 @@ VerdictCheck check_constant(const RunEvidence& e) {
       log_odds.push_back(std::log(q) - std::log1p(-q));
     }
     const double sd = std::sqrt(variance_of(log_odds, mean_of(log_odds)));
-    max_sd = std::isnan(max_sd) ? sd : std::max(max_sd, sd);
+    out.max_sd = std::isnan(out.max_sd) ? sd : std::max(out.max_sd, sd);
   }
+  out.classes = by_class.size();
+  if (out.classes >= 2) {
+    out.index = (out.class_mean_sum - 1) / static_cast<double>(out.classes - 1);
+  }
+  return out;
+}
+
+// pinned and collapsed read the weights' size; small weights are harmless while the
+// predictions still tell the classes apart (a relu network keeps its function when one
+// layer shrinks and the next grows). Empty when the alarm stands.
+std::optional<std::string> still_separates(const RunEvidence& e) {
+  const ProbeSeparation s = probe_separation(e);
+  if (s.classes >= 2) {
+    if (!(s.index >= kSmallWeightsSeparation)) return std::nullopt;
+    return fmt::format("the predictions still tell the classes apart (separation {:.2f} on the "
+                       "{} probe rows, at least {})", s.index, s.rows, kSmallWeightsSeparation);
+  }
+  // Probe rows of one class (a rare class can miss a small validation split): no
+  // separation to read, but a collapsing network also stops varying from row to row.
+  if (s.classes == 1 && s.max_sd >= kSmallWeightsLogOddsSd) {
+    return fmt::format("the predictions still vary from row to row (log-odds sd {:.2f} on the "
+                       "{} probe rows, all of one class; at least {})", s.max_sd, s.rows,
+                       kSmallWeightsLogOddsSd);
+  }
+  return std::nullopt;
+}
+
+VerdictCheck check_constant(const RunEvidence& e) {
+  const ProbeSeparation s = probe_separation(e);
+  const std::size_t rows = s.rows;
+  if (e.probe_labels.size() != rows || rows < 2) {
+    return not_applied("constant", "the probe rows' labels are not known here");
+  }
+  const double max_sd = s.max_sd;
+  const double class_mean_sum = s.class_mean_sum;
   if (std::isnan(max_sd)) return not_applied("constant", "no class has two or more probe rows");
   if (max_sd < kConstantLogOddsSd && class_mean_sum <= 1 + kConstantSumSlack) {
     return {"constant", CheckOutcome::kFailed, max_sd, kConstantLogOddsSd,
@@ -127,6 +171,9 @@ VerdictCheck check_constant(const RunEvidence& e) {
 
 VerdictCheck check_pinned(const RunEvidence& e) {
   if (e.sampler) return not_applied("pinned", "samplers draw weights from the posterior, not its mode");
+  if (!e.layer_weight_precision.empty()) {
+    return not_applied("pinned", "the prior's scale is learned; the collapsed check reads it");
+  }
   if (e.layer_prior_weight_sq_norm.size() != e.layer_weight_sq_norm.size() ||
       e.layer_weight_sq_norm.empty()) {
     return not_applied("pinned", "the prior's scale is not fixed in this run");
@@ -140,6 +187,11 @@ VerdictCheck check_pinned(const RunEvidence& e) {
   }
   if (std::isnan(smallest)) return not_applied("pinned", "no finite layer norms");
   if (smallest < kPinnedNormRatio) {
+    if (std::optional<std::string> fine = still_separates(e)) {
+      return {"pinned", CheckOutcome::kPassed, smallest, kPinnedNormRatio,
+              fmt::format("layer {}'s squared weight norm is {:.2g} of what its prior expects, but "
+                          "{}", at + 1, smallest, *fine)};
+    }
     return {"pinned", CheckOutcome::kFailed, smallest, kPinnedNormRatio,
             fmt::format("layer {}'s squared weight norm is {:.2g} of what its prior expects "
                         "(root-mean-square weight {:.2g} of the prior's sd, below {:.2g}): the prior "
@@ -173,6 +225,12 @@ VerdictCheck check_collapsed(const RunEvidence& e) {
             "no layer's learned weight precision is at its cap"};
   }
   if (!std::isnan(smallest) && smallest < kCollapsedNormRatio) {
+    if (std::optional<std::string> fine = still_separates(e)) {
+      return {"collapsed", CheckOutcome::kPassed, smallest, kCollapsedNormRatio,
+              fmt::format("layer {}'s learned weight precision is at its cap and its squared "
+                          "weight norm {:.2g} of that prior's expectation, but {}",
+                          at + 1, smallest, *fine)};
+    }
     return {"collapsed", CheckOutcome::kFailed, smallest, kCollapsedNormRatio,
             fmt::format("layer {}'s learned weight precision {:.4g} is at its cap {:.4g} (the fixed "
                         "prior's) and its squared weight norm is {:.2g} of what that prior expects "

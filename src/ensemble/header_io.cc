@@ -129,6 +129,7 @@ void write_header(H5::H5File& file, const RunHeader& header) {
   h5::write_attr(sampling, kProjectionCount, std::int64_t{header.projections});
   h5::write_attr(sampling, kLayerCount, std::int64_t{header.layers});
   write_vec(sampling, kProbeRows, header.probe_rows);
+  if (!header.probe_labels.empty()) write_vec(sampling, kProbeLabels, header.probe_labels);
 }
 
 namespace {
@@ -199,6 +200,9 @@ RunHeader read_header(const H5::H5File& file) {
   header.projections = static_cast<int>(h5::read_attr_i64(sampling, kProjectionCount));
   header.layers = static_cast<int>(h5::read_attr_i64(sampling, kLayerCount));
   header.probe_rows = h5::read_array<std::int64_t>(sampling, kProbeRows);
+  if (sampling.nameExists(kProbeLabels)) {  // files of an earlier build lack them
+    header.probe_labels = h5::read_array<std::int32_t>(sampling, kProbeLabels);
+  }
   if (header.chains <= 0 || header.chains > 1000000 || header.parameters <= 0 ||
       header.projections < 0 || header.layers < 0) {
     throw h5::FileDamage("read_header", "implausible chain, parameter or summary counts");

@@ -71,6 +71,7 @@ inline constexpr const char* kSamplesPerChain = "samples_per_chain";
 inline constexpr const char* kProjectionCount = "projections";
 inline constexpr const char* kLayerCount = "layers";
 inline constexpr const char* kProbeRows = "probe_rows";
+inline constexpr const char* kProbeLabels = "probe_labels";  // int32 (R); optional
 
 // /samples: extendable, one row per kept sample.
 inline constexpr const char* kSamples = "samples";

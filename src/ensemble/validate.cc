@@ -260,6 +260,19 @@ Status validate_header_fields(const RunHeader& h) {
                                  field(kSampling, kProbeRows, i), h.probe_rows[i], h.data_rows));
     }
   }
+  if (!h.probe_labels.empty()) {
+    if (h.probe_labels.size() != h.probe_rows.size()) {
+      return damaged(fmt::format("{}/{} has {} entries for {} probe rows", kSampling,
+                                 kProbeLabels, h.probe_labels.size(), h.probe_rows.size()));
+    }
+    const auto classes = static_cast<std::int64_t>(p.class_names.size());
+    for (std::size_t i = 0; i < h.probe_labels.size(); ++i) {
+      if (h.probe_labels[i] < 0 || h.probe_labels[i] >= classes) {
+        return damaged(fmt::format("{} is {}, not a class index below {}",
+                                   field(kSampling, kProbeLabels, i), h.probe_labels[i], classes));
+      }
+    }
+  }
   if (h.samples_per_chain < 0) {
     return damaged(fmt::format("{}/{} is {}", kSampling, kSamplesPerChain, h.samples_per_chain));
   }

@@ -211,6 +211,7 @@ Result<PreparedRun> prepare_new_run(const TrainRequest& request) {
   h.projections = p.settings.projections;
   h.layers = static_cast<int>(p.layout.layers.size());
   p.probe = gather_probe(data->x, data->labels, h.probe_rows);
+  h.probe_labels = p.probe.labels;
   Result<NamedArrays> state = state_template(p);
   if (!state.ok()) return state.status();
   h.state_template = *state;

@@ -200,6 +200,65 @@ TEST(RunVerdict, OptimizerCollapsedAtTheEvidenceCap) {
   EXPECT_EQ(judge_run(sampler).find("collapsed")->outcome, CheckOutcome::kNotApplied);
 }
 
+// Probe rows of two classes whose ensemble probability of their own label is `own`: a
+// constant prediction of (1/2, 1/2) at own = 0.5 (separation 0), certainty at 1.
+void set_probes(RunEvidence& e, double own) {
+  e.probe_prob.clear();
+  e.probe_labels.clear();
+  for (int r = 0; r < 8; ++r) {
+    // Rows alternate a little around `own` so that each class's log-odds vary.
+    e.probe_prob.push_back(Chains(4, std::vector<double>{own + (r % 4 < 2 ? 0.01 : -0.01)}));
+    e.probe_labels.push_back(r % 2);
+  }
+}
+
+TEST(RunVerdict, SmallWeightsAreNoAlarmWhilePredictionsSeparateTheClasses) {
+  // A relu network keeps its function when one layer shrinks and the next grows, so a
+  // small layer at the evidence cap is an alarm only while the predictions are nearly flat.
+  // Separation here: (2 * own - 1) / (2 - 1), from construction.
+  RunEvidence separating = evidence_optimizer(1.0, 0.03);
+  set_probes(separating, 0.9);  // separation 0.8
+  const RunVerdict fine = judge_run(separating);
+  const VerdictCheck* c = fine.find("collapsed");
+  ASSERT_EQ(c->outcome, CheckOutcome::kPassed) << c->message;
+  EXPECT_NE(c->message.find("separation 0.80"), std::string::npos) << c->message;
+  EXPECT_EQ(fine.headline, "passed every check");
+
+  RunEvidence flat = evidence_optimizer(1.0, 0.03);
+  set_probes(flat, 0.52);  // separation 0.04, below kSmallWeightsSeparation (0.05)
+  EXPECT_EQ(judge_run(flat).find("collapsed")->outcome, CheckOutcome::kFailed);
+
+  // Probe rows all of one class: the log-odds sd across them stands in. Rows at 0.6 and
+  // 0.95 give log-odds 0.41 and 2.94, sd 1.35 by hand; all at 0.6 +- 0.01, sd 0.05.
+  RunEvidence one_class = evidence_optimizer(1.0, 0.03);
+  set_probes(one_class, 0.6);
+  for (std::size_t r = 0; r < one_class.probe_labels.size(); ++r) {
+    one_class.probe_labels[r] = 0;
+    if (r % 2 == 1) one_class.probe_prob[r] = Chains(4, std::vector<double>{0.95});
+  }
+  const RunVerdict varied = judge_run(one_class);
+  EXPECT_EQ(varied.find("collapsed")->outcome, CheckOutcome::kPassed)
+      << varied.find("collapsed")->message;
+  set_probes(one_class, 0.6);
+  for (auto& label : one_class.probe_labels) label = 0;
+  EXPECT_EQ(judge_run(one_class).find("collapsed")->outcome, CheckOutcome::kFailed);
+
+  // The same gate on a fixed scale's pinned check.
+  RunEvidence pinned = optimizer(1e-4);
+  set_probes(pinned, 0.9);
+  EXPECT_EQ(judge_run(pinned).find("pinned")->outcome, CheckOutcome::kPassed);
+  set_probes(pinned, 0.52);
+  EXPECT_EQ(judge_run(pinned).find("pinned")->outcome, CheckOutcome::kFailed);
+}
+
+TEST(RunVerdict, PinnedDoesNotJudgeALearnedScale) {
+  // With a learned scale the fixed prior is only the evidence updates' cap; collapsed reads
+  // that case, and "raise --prior-scale" would be no advice for it.
+  const RunVerdict v = judge_run(evidence_optimizer(1.0, 1e-4));
+  EXPECT_EQ(v.find("pinned")->outcome, CheckOutcome::kNotApplied);
+  EXPECT_EQ(v.find("collapsed")->outcome, CheckOutcome::kFailed);
+}
+
 TEST(RunVerdict, OptimizerPinnedByThePrior) {
   const RunVerdict pinned = judge_run(optimizer(1e-4));
   const VerdictCheck* c = pinned.find("pinned");

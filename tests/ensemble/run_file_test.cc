@@ -75,6 +75,8 @@ TEST(RunFile, RoundTripReadsBackEverythingWritten) {
   EXPECT_EQ(h.chains, kChains);
   EXPECT_EQ(h.samples_per_chain, expected.samples_per_chain);
   EXPECT_EQ(h.probe_rows, expected.probe_rows);
+  EXPECT_EQ(h.probe_labels, expected.probe_labels);
+  EXPECT_FALSE(h.probe_labels.empty());
   EXPECT_EQ(h.projections, 4);
   EXPECT_EQ(h.layers, 2);
   EXPECT_EQ(h.state_template.floats.at("momentum").size(), static_cast<std::size_t>(kParameters));

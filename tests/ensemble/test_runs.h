@@ -67,6 +67,9 @@ inline RunHeader make_header(int chains, std::int64_t parameters, std::uint64_t 
   h.chains = chains;
   h.samples_per_chain = 100;
   h.probe_rows = {h.val_rows.begin(), h.val_rows.end()};
+  for (std::size_t r = 0; r < h.probe_rows.size(); ++r) {
+    h.probe_labels.push_back(static_cast<std::int32_t>(r % h.preprocessing.class_names.size()));
+  }
   h.projections = 4;
   h.layers = 2;
   h.state_template.floats["momentum"].assign(static_cast<std::size_t>(parameters), 0.0f);

@@ -179,6 +179,11 @@ def probe_row_negative(f):
     return "sampling/probe_rows[0]"
 
 
+def probe_label_outside(f):
+    set_item(f["sampling/probe_labels"], 0, 7)
+    return "sampling/probe_labels[0]"
+
+
 def theta_nan(f):
     set_item(f["samples/theta"], (1, 3), np.nan)
     return "samples/theta[sample 1, column 3]"
@@ -242,6 +247,7 @@ CASES = [
     category_range_outside, category_overflow, levels_unsorted, type_swapped, mean_nan,
     scale_zero, scale_infinite, impute_nan, input_width_wrong, class_added, class_repeated,
     parameters_wrong, net_text_other, layers_wrong, train_row_outside, probe_row_negative,
+    probe_label_outside,
     theta_nan, theta_infinite, projection_nan, probe_log_lik_nan, trace_potential_nan,
     sample_chain_outside,
     checkpoint_theta_nan, next_step_negative, seconds_nan,

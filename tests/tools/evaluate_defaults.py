@@ -28,6 +28,9 @@ truth over 20 standard-normal inputs, whose true NLL on the test rows is reporte
 sd(p_k) / sd(1[y = k]), both over the test rows; 1 for perfectly sharp predictions, 0 for
 a network that gives every row the same probabilities. Dividing by the labels' own sd keeps
 a table with rare positives, whose probabilities are all small, from counting as constant.
+A run also fails --check when its end-of-run verdict raises an alarm about its predictions
+or weights (constant, pinned, collapsed) while its test predictions are not near-constant:
+that alarm would send a user to fix a network that works.
 --paired (with --check): "at most" then allows for the test rows' sampling noise: a run fails
 against a baseline when the mean of its per-row NLL differences on the same test rows, less
 twice their standard error, exceeds TOL. On 20 test rows a difference of 0.01 is noise; a
@@ -61,6 +64,8 @@ SEED = 17                  # every table this script invents or subsamples
 SUBSAMPLE_ROWS = 100
 ROW_NLL = "_row_nll"        # per-row test NLLs, kept in memory for the paired check only
 NEAR_CONSTANT_SPREAD = 0.1  # our choice, no source: below it predictions barely vary by row
+# The verdict checks that judge whether a network has learned from its inputs (run_verdict.h).
+WEIGHT_ALARMS = {"constant", "pinned", "collapsed"}
 MLP_MAX_ROWS = 100_000     # MLPClassifier's 200 default epochs take too long beyond this
 ECE_BINS = 15              # credence assess's default
 DEFAULT_METHODS = "adam,sgd,sgld,sghmc,rsghmc"
@@ -185,7 +190,8 @@ def run_credence(credence, csv_path, method, missing, work):
     code, seconds, peak = run_measured(
         [credence, "train", csv_path, "--out", stem + ".h5", "--force", "--method", method]
         + data_flags, stem + ".train.log")
-    result = {"method": method, "seconds": seconds, "peak_mib": peak, "exit": code}
+    result = {"method": method, "seconds": seconds, "peak_mib": peak, "exit": code,
+              "verdict": train_verdict(stem + ".train.log")}
     if code != 0:
         return result
     code, _, _ = run_measured([credence, "assess", stem + ".h5", csv_path, "--split", "test",
@@ -207,6 +213,18 @@ def run_credence(credence, csv_path, method, missing, work):
                   spread=spread(p, y, classes))
     result[ROW_NLL] = row_nll(p, y, classes)
     return result
+
+
+def train_verdict(log_path):
+    """The train log's verdict line without "verdict: ", and its failed checks' names."""
+    headline, failed = "", []
+    with open(log_path, errors="replace") as f:
+        for line in f:
+            if line.startswith("verdict: "):
+                headline = line[len("verdict: "):].strip()
+            elif "[FAILED]" in line:
+                failed.append(line.strip().split(" ", 1)[0])
+    return {"headline": headline, "failed": failed}
 
 
 def spread(p, y, classes):
@@ -372,6 +390,11 @@ def check(entries, tol, paired):
             if r["spread"] < NEAR_CONSTANT_SPREAD:
                 failures.append("%s: near-constant predictions (spread %.4f)"
                                 % (where, r["spread"]))
+            alarms = sorted(set(r.get("verdict", {}).get("failed", [])) & WEIGHT_ALARMS)
+            if alarms and r["spread"] >= NEAR_CONSTANT_SPREAD:
+                failures.append("%s: the verdict says %s, but the test predictions are not "
+                                "near-constant (spread %.2f): a false alarm"
+                                % (where, " and ".join(alarms), r["spread"]))
     for f in failures:
         print("FAIL " + f)
     return 1 if failures else 0
