@@ -13,7 +13,8 @@
 // - Activations are (width, B): one data row is one contiguous column. The input batch
 //   is (D, B); the logits and log-probabilities are (K, B).
 // - Weights are (out, in), so a layer is one GEMM: y = W x + b. Biases are (out).
-// - Flat parameter layout: for each layer in order (hidden layers first, output last),
+// - Flat parameter layout: for each layer in order (hidden layers first, output last,
+//   then the linear path when the spec has one: W (K x D), b (K), added to the logits),
 //   the weights W (out x in) in column-major order, then the bias b (out). So layer l
 //   starts at weight_offset; W(i, j) is theta[weight_offset + i + j * out]; the bias
 //   follows at bias_offset = weight_offset + out * in. With numpy:
@@ -122,6 +123,12 @@ struct HiddenLayerSpec {
 struct NetSpec {
   std::vector<HiddenLayerSpec> hidden;
   PriorSpec prior;
+  // A linear path: logits = (the chain's output layer) + W_lin x + b_lin, with prior blocks
+  // of its own (fan-in D), so a learned scale can keep the linear part and shrink the
+  // rest where the truth is nearly linear (docs/prior.md, "The linear path", with the
+  // measurements that keep it off by default). Ignored without hidden layers (the output
+  // layer is then the linear model). Default off.
+  bool linear_path = false;
   bool operator==(const NetSpec&) const = default;
 };
 
@@ -159,13 +166,17 @@ struct LayerLayout {
   bool operator==(const LayerLayout&) const = default;
 };
 
-/// Every layer's shapes and offsets, in flat-vector order; the output layer is last.
+/// Every layer's shapes and offsets, in flat-vector order: the chain of hidden layers and
+/// the output layer, then the linear path (D -> K, identity) when there is one.
 struct ParamLayout {
   Index input_width = 0;  // D
   Index num_classes = 0;  // K
   Index num_params = 0;   // P, the length of theta
   std::vector<LayerLayout> layers;
+  bool linear_path = false;  // the last entry of layers is the linear path
   Index max_width() const;  // widest layer output (for workspace sizing)
+  /// Layers of the chain x -> hidden -> output (all of them but the linear path).
+  std::size_t chain_size() const { return layers.size() - (linear_path ? 1 : 0); }
   bool operator==(const ParamLayout&) const = default;
 };
 
@@ -243,7 +254,8 @@ class Network {
 /// (normal, variance 2/fan_in; ICCV 2015 "Delving deep into rectifiers"), of the others
 /// (tanh, sigmoid, identity and the output layer) from Glorot (uniform on +-sqrt(6/(in+out));
 /// AISTATS 2010 "Understanding the difficulty of training deep feedforward neural
-/// networks"); biases zero. The same seed gives the same theta on every platform.
+/// networks"); biases zero; the linear path zero (the network starts as without it). The
+/// same seed gives the same theta on every platform.
 /// REQUIRES: theta.size() == layout.num_params.
 template <typename S>
 void initialize_params(VecRef<S> theta, const ParamLayout& layout, std::uint64_t seed);

@@ -69,6 +69,7 @@ struct TrainRequest {
   std::string net_path;         // --net FILE; empty = from hidden/activation
   std::vector<Index> hidden;    // --hidden 64,64
   std::string activation = "relu";
+  bool linear_path = false;     // --linear-path on: docs/prior.md, "The linear path"
   double prior_scale = 1.0;     // --prior-scale s: the fixed weight scale (or the start)
   bool prior_scale_auto = true; // --prior-scale auto: learn it (docs/methods.md section 15)
   TrainSettings settings;

@@ -32,6 +32,11 @@ void add_train_command(CLI::App& app, const GlobalOptions& global, CommandList& 
   net->add_option("--hidden", flags->hidden, "Hidden layer widths, e.g. 64,64 ('none': no hidden layer) [32,32]");
   net->add_option("--activation", r.activation, "relu, tanh, sigmoid, softplus or identity")
       ->capture_default_str();
+  net->add_option("--linear-path", flags->linear_path,
+                  "on: a linear map from the inputs to the logits beside the hidden layers, with "
+                  "prior blocks of its own (docs/prior.md, 'The linear path'); off: the hidden "
+                  "layers only")
+      ->capture_default_str();
   net->add_option("--prior-scale", flags->prior_scale,
                   "auto: each layer's weights and biases learn their prior precision (Gamma "
                   "hyperprior, Gibbs updates in samplers, evidence updates in optimizers); or a fixed "

@@ -26,7 +26,7 @@ const std::map<std::string_view, std::string_view>& flag_sections() {
       {"--data", "data"},
       // Network: the model's shape and prior.
       {"--net", "network"}, {"--hidden", "network"}, {"--activation", "network"},
-      {"--prior-scale", "network"},
+      {"--prior-scale", "network"}, {"--linear-path", "network"},
       // Method: the update rule and its settings.
       {"--method", "method"}, {"--methods", "method"}, {"--lr", "method"},
       {"--step-size", "method"}, {"--step-sizes", "method"}, {"--temperature", "method"},

@@ -67,6 +67,18 @@ Status resolve_train_flags(TrainFlags& flags) {
   Result<std::vector<Index>> widths = parse_widths(flags.hidden.empty() ? "32,32" : flags.hidden);
   if (!widths.ok()) return widths.status();
   r.hidden = *widths;
+  if (flags.linear_path != "on" && flags.linear_path != "off") {
+    return Status::invalid_input(fmt::format(
+        "--linear-path '{}' is not on or off; give on (a linear map from the inputs to the "
+        "outputs beside the hidden layers) or off (the default)",
+        flags.linear_path));
+  }
+  r.linear_path = flags.linear_path == "on";
+  if (r.linear_path && r.hidden.empty() && r.net_path.empty()) {
+    return Status::invalid_input(
+        "--linear-path on needs hidden layers: with --hidden none the "
+        "output layer is already the linear model; drop one of the two");
+  }
   r.prior_scale_auto = flags.prior_scale == "auto";
   if (!r.prior_scale_auto) {
     char* end = nullptr;

@@ -19,6 +19,7 @@ struct TrainFlags {
   std::string schedule = "constant";
   std::string tempering = "posterior";
   std::string prior_scale = "auto";  // --prior-scale: auto or a positive number
+  std::string linear_path = "off";   // --linear-path on|off
   bool fixed_mass = false;
   // The budget flags, to tell a value given from a default sized to the table.
   CLI::Option* burn_in = nullptr;

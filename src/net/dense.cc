@@ -55,6 +55,14 @@ void dense_forward(MatRef<S> y, ConstMatRef<S> x, ConstMatRef<S> w, ConstVecRef<
 }
 
 template <typename S>
+void dense_forward_add(MatRef<S> y, ConstMatRef<S> x, ConstMatRef<S> w, ConstVecRef<S> b) {
+  assert(y.rows() == w.rows() && y.cols() == x.cols() && w.cols() == x.rows());
+  assert(b.size() == w.rows());
+  y.noalias() += w * x;  // (out, in) (in, B)
+  y.colwise() += b;
+}
+
+template <typename S>
 void dense_backward_params(MatRef<S> d_w, VecRef<S> d_b, ConstMatRef<S> d_y, ConstMatRef<S> x) {
   assert(d_w.rows() == d_y.rows() && d_w.cols() == x.rows() && d_y.cols() == x.cols());
   assert(d_b.size() == d_y.rows());
@@ -99,6 +107,7 @@ void dense_backward_loop(MatRef<S> d_x, MatRef<S> d_w, VecRef<S> d_b, ConstMatRe
 
 #define CREDENCE_INSTANTIATE_DENSE(S)                                                         \
   template void dense_forward<S>(MatRef<S>, ConstMatRef<S>, ConstMatRef<S>, ConstVecRef<S>);  \
+  template void dense_forward_add<S>(MatRef<S>, ConstMatRef<S>, ConstMatRef<S>, ConstVecRef<S>); \
   template void dense_backward<S>(MatRef<S>, MatRef<S>, VecRef<S>, ConstMatRef<S>,            \
                                   ConstMatRef<S>, ConstMatRef<S>);                            \
   template void dense_backward_params<S>(MatRef<S>, VecRef<S>, ConstMatRef<S>, ConstMatRef<S>); \

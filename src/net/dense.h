@@ -8,6 +8,9 @@ namespace credence {
 // y = W x + b.  x: (in, B), w: (out, in), b: (out), y: (out, B). Overwrites y.
 template <typename S>
 void dense_forward(MatRef<S> y, ConstMatRef<S> x, ConstMatRef<S> w, ConstVecRef<S> b);
+// y += W x + b (a second map into the same outputs, such as the linear path's).
+template <typename S>
+void dense_forward_add(MatRef<S> y, ConstMatRef<S> x, ConstMatRef<S> w, ConstVecRef<S> b);
 // Adds d_y x^T into d_w and the row sums of d_y into d_b; overwrites d_x = W^T d_y.
 // d_x: (in, B), d_w: (out, in), d_b: (out), d_y: (out, B).
 template <typename S>

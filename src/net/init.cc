@@ -33,8 +33,14 @@ template <typename S>
 void initialize_params(VecRef<S> theta, const ParamLayout& layout, std::uint64_t seed) {
   assert(theta.size() == layout.num_params);
   std::mt19937_64 engine(seed);
-  for (const LayerLayout& layer : layout.layers) {
+  for (std::size_t l = 0; l < layout.layers.size(); ++l) {
+    const LayerLayout& layer = layout.layers[l];
     const Index count = layer.out * layer.in;
+    if (layout.linear_path && l + 1 == layout.layers.size()) {
+      // The linear path starts at zero: the network starts as it would without one.
+      theta.segment(layer.weight_offset, count + layer.out).setZero();
+      continue;
+    }
     if (uses_he(layer.activation)) {
       // He: N(0, 2 / fan_in).
       const double stddev = std::sqrt(2.0 / static_cast<double>(layer.in));

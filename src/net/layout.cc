@@ -65,6 +65,11 @@ Result<ParamLayout> resolve_layout(const NetSpec& spec, Index input_width, Index
     CREDENCE_RETURN_IF_ERROR(add_layer(hidden.width, hidden.activation));
   }
   CREDENCE_RETURN_IF_ERROR(add_layer(num_classes, Activation::kIdentity));
+  if (spec.linear_path && !spec.hidden.empty()) {
+    fan_in = input_width;
+    CREDENCE_RETURN_IF_ERROR(add_layer(num_classes, Activation::kIdentity));
+    layout.linear_path = true;
+  }
   layout.num_params = offset;
   return layout;
 }

@@ -127,11 +127,12 @@ class Parser {
     if (keyword.text == "hidden") return hidden(tokens);
     if (keyword.text == "prior") return prior(tokens);
     if (keyword.text == "layer_prior") return layer_prior(tokens);
+    if (keyword.text == "linear_path") return linear_path(tokens);
     if (keyword.text == kVersionKeyword) {
       return error_at(keyword, "one version line (the first is on line " +
                                    std::to_string(version_line_) + ")");
     }
-    return error_at(keyword, "a statement: hidden, prior or layer_prior");
+    return error_at(keyword, "a statement: hidden, prior, layer_prior or linear_path");
   }
 
   Status version(const std::vector<Token>& tokens) {
@@ -161,6 +162,19 @@ class Parser {
     if (!activation.ok()) return error_at(tokens[2], kActivations);
     spec_.hidden.push_back({static_cast<Index>(width), *activation});
     return no_more(tokens, 3);
+  }
+
+  Status linear_path(const std::vector<Token>& tokens) {
+    if (linear_path_line_ != 0) {
+      return error_at(tokens[0], "one linear_path line (the first is on line " +
+                                     std::to_string(linear_path_line_) + ")");
+    }
+    linear_path_line_ = line_;
+    constexpr std::string_view kSwitch = "on or off";
+    if (tokens.size() < 2) return end_of_line(kSwitch);
+    if (tokens[1].text != "on" && tokens[1].text != "off") return error_at(tokens[1], kSwitch);
+    spec_.linear_path = tokens[1].text == "on";
+    return no_more(tokens, 2);
   }
 
   Status prior(const std::vector<Token>& tokens) {
@@ -306,6 +320,7 @@ class Parser {
   int line_end_column_ = 1;
   int version_line_ = 0;
   int prior_line_ = 0;
+  int linear_path_line_ = 0;
   std::vector<OverrideSite> override_sites_;
 };
 

@@ -97,6 +97,7 @@ std::string format_net_spec(const NetSpec& spec) {
     text += "hidden " + std::to_string(hidden.width) + " " +
             std::string(activation_name(hidden.activation)) + "\n";
   }
+  if (spec.linear_path) text += "linear_path on\n";
   const PriorSpec& prior = spec.prior;
   text += "prior gaussian scale=" +
           (prior.learn_scale ? std::string("auto") : number_text(prior.weight_scale)) +

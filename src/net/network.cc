@@ -40,9 +40,9 @@ Status Network<S>::forward(Workspace<S>& ws, ConstVecRef<S> theta, ConstMatRef<S
                                  std::to_string(ws.max_batch()) +
                                  "); make the workspace larger or the batch smaller");
   }
-  assert(ws.pre_.size() == layout_.layers.size());
+  const std::size_t num_layers = layout_.chain_size();
+  assert(ws.pre_.size() == num_layers);
   ws.batch_ = batch;
-  const std::size_t num_layers = layout_.layers.size();
   for (std::size_t l = 0; l < num_layers; ++l) {
     const LayerLayout& layer = layout_.layers[l];
     // z_l = W_l a_{l-1} + b_l, with a_0 = x.
@@ -54,6 +54,12 @@ Status Network<S>::forward(Workspace<S>& ws, ConstVecRef<S> theta, ConstMatRef<S
       activation_forward<S>(ws.post_[l].leftCols(batch), ws.pre_[l].leftCols(batch),
                             layer.activation);
     }
+  }
+  if (layout_.linear_path) {
+    // logits += W_lin x + b_lin (the linear path beside the chain).
+    const LayerLayout& linear = layout_.layers.back();
+    dense_forward_add<S>(ws.pre_.back().leftCols(batch), x, weight_view(theta.data(), linear),
+                         bias_view(theta.data(), linear));
   }
   log_softmax_forward<S>(ws.log_probs_.leftCols(batch), ws.pre_.back().leftCols(batch));
   return Status();
@@ -90,7 +96,13 @@ void Network<S>::backward(VecRef<S> d_theta, Workspace<S>& ws, ConstVecRef<S> th
   // d z_L = scale * (softmax - onehot(y)) on the logits.
   softmax_xent_backward<S>(ws.d_pre_.back().leftCols(batch), ws.log_probs_.leftCols(batch),
                            labels, scale);
-  for (std::size_t l = layout_.layers.size(); l-- > 0;) {
+  if (layout_.linear_path) {
+    const LayerLayout& linear = layout_.layers.back();
+    Eigen::Map<MatX<S>> d_w(d_theta.data() + linear.weight_offset, linear.out, linear.in);
+    Eigen::Map<VecX<S>> d_b(d_theta.data() + linear.bias_offset, linear.out);
+    dense_backward_params<S>(d_w, d_b, ws.d_pre_.back().leftCols(batch), x);
+  }
+  for (std::size_t l = layout_.chain_size(); l-- > 0;) {
     const LayerLayout& layer = layout_.layers[l];
     Eigen::Map<MatX<S>> d_w(d_theta.data() + layer.weight_offset, layer.out, layer.in);
     Eigen::Map<VecX<S>> d_b(d_theta.data() + layer.bias_offset, layer.out);

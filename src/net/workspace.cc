@@ -9,7 +9,7 @@ template <typename S>
 Workspace<S>::Workspace(const ParamLayout& layout, Index max_batch) : max_batch_(max_batch) {
   assert(max_batch >= 1);
   assert(!layout.layers.empty());
-  const std::size_t num_layers = layout.layers.size();
+  const std::size_t num_layers = layout.chain_size();
   pre_.reserve(num_layers);
   d_pre_.reserve(num_layers);
   post_.reserve(num_layers - 1);

@@ -91,7 +91,7 @@ Result<GaussianPrior> GaussianPrior::create(const PriorSpec& spec, const ParamLa
   NetSpec check;
   check.prior = spec;
   // Overrides are checked against the layout's layer count: widths are placeholders.
-  check.hidden.assign(layout.layers.size() - 1, HiddenLayerSpec{1, Activation::kIdentity});
+  check.hidden.assign(layout.chain_size() - 1, HiddenLayerSpec{1, Activation::kIdentity});
   CREDENCE_RETURN_IF_ERROR(validate_net_spec(check));
   std::vector<LayerPriorSigma> sigmas(layout.layers.size());
   for (std::size_t l = 0; l < layout.layers.size(); ++l) {

@@ -100,6 +100,8 @@ constexpr FlagRule kRules[] = {
      "{m} uses every training row in each step and reads no --batch"},
     {"--prior-scale", [](const Use& u) { return !u.net_file; },
      "with --net the net file's prior line sets the scale; --prior-scale is for --hidden"},
+    {"--linear-path", [](const Use& u) { return !u.net_file; },
+     "with --net the net file's linear_path line sets it; --linear-path is for --hidden"},
     {"--activation", [](const Use& u) { return !u.net_file; },
      "with --net the net file's hidden lines set the activations; --activation is for --hidden"},
 };

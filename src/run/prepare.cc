@@ -134,6 +134,7 @@ Result<PreparedRun> prepare_new_run(const TrainRequest& request) {
                              : read_net_file(request.net_path);
   if (!spec.ok()) return spec.status();
   p.spec = *spec;
+  if (request.net_path.empty()) p.spec.linear_path = request.linear_path && !p.spec.hidden.empty();
   const auto classes = static_cast<Index>(data->preprocessing.class_names.size());
   Result<ParamLayout> layout = resolve_layout(p.spec, data->x.rows(), classes);
   if (!layout.ok()) return layout.status();
@@ -150,7 +151,7 @@ Result<PreparedRun> prepare_new_run(const TrainRequest& request) {
     Index widest = std::max<Index>(data->x.rows(), classes);
     for (const HiddenLayerSpec& layer : p.spec.hidden) widest = std::max<Index>(widest, layer.width);
     in.widest_layer = static_cast<std::uint64_t>(widest);
-    in.layers = static_cast<std::uint64_t>(p.spec.hidden.size() + 1);
+    in.layers = static_cast<std::uint64_t>(p.layout.layers.size());
     Result<std::uint64_t> estimate = estimate_train_bytes(in);
     if (!estimate.ok()) return estimate.status();
     CREDENCE_RETURN_IF_ERROR(check_memory(

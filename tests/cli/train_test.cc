@@ -92,59 +92,66 @@ TEST_F(Train, WritesARunThatInspectReads) {
 // A Python user with h5py and numpy alone, following docs/run-file.md, rebuilds the
 // ensemble's probabilities for 100 rows (tests/tools/rebuild_probabilities.py); they
 // must match credence's own preprocessing and forward pass to 1e-5.
+// Once as trained by default and once with --linear-path on (its W_lin, b_lin after the
+// output layer, as nets/README.md documents).
 TEST_F(Train, RunFileRebuildsPredictionsWithNumpy) {
-  const std::string run = path("numpy.h5");
-  auto out = run_credence(joined(args(run, {"--hidden", "8,4", "--activation", "tanh",
-                                            "--burn-in", "100", "--thin", "5", "--samples", "10"})));
-  ASSERT_EQ(out.exit_code, 0) << out.output;
-  const std::string numpy_out = path("numpy_probs.csv");
-  const std::string command = std::string("'") + CREDENCE_PYTHON + "' '" + CREDENCE_SOURCE_DIR +
-                              "/tests/tools/rebuild_probabilities.py' '" + run + "' '" + data_ +
-                              "' 100 '" + numpy_out + "'";
-  ASSERT_EQ(std::system(command.c_str()), 0) << command;
+  for (const bool linear : {false, true}) {
+    SCOPED_TRACE(linear ? "with the linear path" : "without the linear path");
+    const std::string run = path(linear ? "numpy_linear.h5" : "numpy.h5");
+    auto out = run_credence(
+        joined(args(run, {"--hidden", "8,4", "--activation", "tanh", "--burn-in", "100", "--thin",
+                          "5", "--samples", "10", "--linear-path", linear ? "on" : "off"})));
+    ASSERT_EQ(out.exit_code, 0) << out.output;
+    const std::string numpy_out = path("numpy_probs.csv");
+    const std::string command = std::string("'") + CREDENCE_PYTHON + "' '" + CREDENCE_SOURCE_DIR +
+                                "/tests/tools/rebuild_probabilities.py' '" + run + "' '" + data_ +
+                                "' 100 '" + numpy_out + "'";
+    ASSERT_EQ(std::system(command.c_str()), 0) << command;
 
-  auto reader = RunReader::open(run);
-  ASSERT_TRUE(reader.ok()) << reader.status().message();
-  const RunHeader& header = (*reader)->header();
-  ReadOptions read;
-  read.text_columns = text_columns_of(header.preprocessing);
-  auto table = read_table(data_, read);
-  ASSERT_TRUE(table.ok()) << table.status().message();
-  std::vector<std::int64_t> rows(100);
-  std::iota(rows.begin(), rows.end(), std::int64_t{0});
-  auto x = transform_rows(header.preprocessing, *table, rows);
-  ASSERT_TRUE(x.ok()) << x.status().message();
-  auto spec = parse_net_text(header.net_text, "stored");
-  ASSERT_TRUE(spec.ok());
-  auto layout = resolve_layout(*spec, x->rows(),
-                               static_cast<Index>(header.preprocessing.class_names.size()));
-  ASSERT_TRUE(layout.ok());
-  Network<float> network(*layout);
-  Workspace<float> workspace(*layout, 100);
-  auto theta = (*reader)->samples();
-  ASSERT_TRUE(theta.ok());
-  ASSERT_EQ(theta->cols(), 20);
-  Eigen::MatrixXd mean = Eigen::MatrixXd::Zero(layout->num_classes, 100);
-  for (Eigen::Index s = 0; s < theta->cols(); ++s) {
-    ASSERT_TRUE(network.forward(workspace, theta->col(s), *x).ok());
-    mean += workspace.log_probs().cast<double>().array().exp().matrix();
-  }
-  mean /= static_cast<double>(theta->cols());
-
-  std::ifstream in(numpy_out);
-  double worst = 0;
-  int lines = 0;
-  for (std::string line; std::getline(in, line); ++lines) {
-    std::stringstream cells(line);
-    int k = 0;
-    for (std::string cell; std::getline(cells, cell, ','); ++k) {
-      worst = std::max(worst, std::abs(std::stod(cell) - mean(k, lines)));
+    auto reader = RunReader::open(run);
+    ASSERT_TRUE(reader.ok()) << reader.status().message();
+    const RunHeader& header = (*reader)->header();
+    ReadOptions read;
+    read.text_columns = text_columns_of(header.preprocessing);
+    auto table = read_table(data_, read);
+    ASSERT_TRUE(table.ok()) << table.status().message();
+    std::vector<std::int64_t> rows(100);
+    std::iota(rows.begin(), rows.end(), std::int64_t{0});
+    auto x = transform_rows(header.preprocessing, *table, rows);
+    ASSERT_TRUE(x.ok()) << x.status().message();
+    auto spec = parse_net_text(header.net_text, "stored");
+    ASSERT_TRUE(spec.ok());
+    auto layout = resolve_layout(*spec, x->rows(),
+                                 static_cast<Index>(header.preprocessing.class_names.size()));
+    ASSERT_TRUE(layout.ok());
+    ASSERT_EQ(layout->linear_path, linear);
+    Network<float> network(*layout);
+    Workspace<float> workspace(*layout, 100);
+    auto theta = (*reader)->samples();
+    ASSERT_TRUE(theta.ok());
+    ASSERT_EQ(theta->cols(), 20);
+    Eigen::MatrixXd mean = Eigen::MatrixXd::Zero(layout->num_classes, 100);
+    for (Eigen::Index s = 0; s < theta->cols(); ++s) {
+      ASSERT_TRUE(network.forward(workspace, theta->col(s), *x).ok());
+      mean += workspace.log_probs().cast<double>().array().exp().matrix();
     }
-    EXPECT_EQ(k, layout->num_classes);
+    mean /= static_cast<double>(theta->cols());
+
+    std::ifstream in(numpy_out);
+    double worst = 0;
+    int lines = 0;
+    for (std::string line; std::getline(in, line); ++lines) {
+      std::stringstream cells(line);
+      int k = 0;
+      for (std::string cell; std::getline(cells, cell, ','); ++k) {
+        worst = std::max(worst, std::abs(std::stod(cell) - mean(k, lines)));
+      }
+      EXPECT_EQ(k, layout->num_classes);
+    }
+    EXPECT_EQ(lines, 100);
+    std::printf("largest |p_credence - p_numpy| over 100 rows: %.3g\n", worst);
+    EXPECT_LT(worst, 1e-5);
   }
-  EXPECT_EQ(lines, 100);
-  std::printf("largest |p_credence - p_numpy| over 100 rows: %.3g\n", worst);
-  EXPECT_LT(worst, 1e-5);
 }
 
 // DESIGN.md 7: a file that is not a run, a truncated run and a merge of different nets

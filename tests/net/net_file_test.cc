@@ -136,7 +136,13 @@ TEST(NetFile, MalformedFilesNameLineColumnFoundAndExpected) {
       {"negative scale", "credence-net 1\nprior gaussian scale=-1\n",
        "bad.net:2:22: found '-1', expected a positive number or auto after scale="},
       {"unknown keyword", "credence-net 1\nlayer 8 relu\n",
-       "bad.net:2:1: found 'layer', expected a statement: hidden, prior or layer_prior"},
+       "bad.net:2:1: found 'layer', expected a statement: hidden, prior, layer_prior or "
+       "linear_path"},
+      {"linear path switch", "credence-net 1\nhidden 8 relu\nlinear_path yes\n",
+       "bad.net:3:13: found 'yes', expected on or off"},
+      {"two linear paths", "credence-net 1\nlinear_path on\nlinear_path off\n",
+       "bad.net:3:1: found 'linear_path', expected one linear_path line (the first is on line "
+       "2)"},
       {"missing version", "# no version\nhidden 8 relu\n",
        "bad.net:2:1: found 'hidden', expected the version line 'credence-net 1' before "
        "anything else"},
@@ -215,6 +221,31 @@ TEST(ParamLayout, OffsetsFollowTheDocumentedOrder) {
   EXPECT_EQ(layout->layers[2], (LayerLayout{3, 2, Activation::kIdentity, 39, 45}));
   EXPECT_EQ(layout->num_params, 47);
   EXPECT_EQ(layout->max_width(), 4);
+
+  // With the linear path: the same chain, then W_lin (2x5) b_lin (2) after the output
+  // layer (nets/README.md, "The flat parameter vector").
+  NetSpec linear = *net_spec_from_options(widths, "tanh");
+  linear.linear_path = true;
+  Result<ParamLayout> with_path = resolve_layout(linear, 5, 2);
+  ASSERT_TRUE(with_path.ok());
+  ASSERT_EQ(with_path->layers.size(), 4u);
+  EXPECT_TRUE(with_path->linear_path);
+  EXPECT_EQ(with_path->chain_size(), 3u);
+  EXPECT_EQ(with_path->layers[2], layout->layers[2]);
+  EXPECT_EQ(with_path->layers[3], (LayerLayout{5, 2, Activation::kIdentity, 47, 57}));
+  EXPECT_EQ(with_path->num_params, 59);
+  // Without hidden layers the output layer is the linear model: no second one.
+  NetSpec bare;
+  bare.linear_path = true;
+  Result<ParamLayout> bare_layout = resolve_layout(bare, 5, 2);
+  ASSERT_TRUE(bare_layout.ok());
+  EXPECT_FALSE(bare_layout->linear_path);
+  EXPECT_EQ(bare_layout->num_params, 12);
+  // The switch reads back from the canonical text.
+  Result<NetSpec> again = parse_net_text(format_net_spec(linear), "canonical");
+  ASSERT_TRUE(again.ok()) << again.status().to_string();
+  EXPECT_EQ(*again, linear) << format_net_spec(linear);
+  EXPECT_NE(format_net_spec(linear).find("linear_path on\n"), std::string::npos);
 
   Result<ParamLayout> one_class = resolve_layout(NetSpec{}, 5, 1);
   ASSERT_FALSE(one_class.ok());

@@ -7,12 +7,13 @@
 #include <fstream>
 #include <random>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "credence/net.h"
 #include "testing/gradient_check.h"
-#include "testing/seed.h"
 #include "testing/net_layout.h"
+#include "testing/seed.h"
 #include "testing/temp_dir.h"
 
 namespace credence {
@@ -51,15 +52,25 @@ TEST(Network, ForwardMatchesNumpy) {
                         "/tests/tools/numpy_forward.py";
   std::uint64_t case_seed = seed;
   for (const char* activation : {"relu", "tanh", "sigmoid", "softplus", "identity"}) {
-    for (const std::vector<Index>& widths : {std::vector<Index>{}, std::vector<Index>{7},
-                                             std::vector<Index>{9, 5}}) {
-      const ParamLayout layout = make_layout(widths, activation, d, k);
+    for (const auto& [widths, linear] :
+         {std::pair{std::vector<Index>{}, false}, std::pair{std::vector<Index>{7}, false},
+          std::pair{std::vector<Index>{9, 5}, false}, std::pair{std::vector<Index>{7}, true},
+          std::pair{std::vector<Index>{9, 5}, true}}) {
+      const ParamLayout layout = make_layout(widths, activation, d, k, linear);
+      ASSERT_EQ(layout.linear_path, linear);
       VecX<float> theta(layout.num_params);
       initialize_params<float>(theta, layout, ++case_seed);
-      // Non-zero biases so the bias offsets are exercised too.
+      // Non-zero biases so the bias offsets are exercised too, and a non-zero linear path
+      // (it starts at zero).
       for (const LayerLayout& layer : layout.layers) {
         for (Index i = 0; i < layer.out; ++i) {
           theta(layer.bias_offset + i) = 0.1f * static_cast<float>(i + 1);
+        }
+      }
+      if (linear) {
+        const LayerLayout& path = layout.layers.back();
+        for (Index i = 0; i < path.out * path.in; ++i) {
+          theta(path.weight_offset + i) = 0.05f * static_cast<float>((i % 7) - 3);
         }
       }
       const MatX<float> x = random_inputs(d, batch, ++case_seed);
@@ -67,13 +78,16 @@ TEST(Network, ForwardMatchesNumpy) {
       Workspace<float> ws(layout, 16);
       ASSERT_TRUE(network.forward(ws, theta, x).ok());
 
-      Case c{std::string(activation) + " depth " + std::to_string(widths.size()),
+      Case c{std::string(activation) + " depth " + std::to_string(widths.size()) +
+                 (linear ? " with the linear path" : ""),
              root.path() / std::to_string(cases.size()), ws.log_probs().cast<double>()};
       std::filesystem::create_directories(c.dir);
       std::ofstream layout_file(c.dir / "layout.txt");
-      for (const LayerLayout& layer : layout.layers) {
+      for (std::size_t l = 0; l < layout.layers.size(); ++l) {
+        const LayerLayout& layer = layout.layers[l];
         layout_file << layer.in << ' ' << layer.out << ' ' << activation_name(layer.activation)
-                    << ' ' << layer.weight_offset << ' ' << layer.bias_offset << '\n';
+                    << ' ' << layer.weight_offset << ' ' << layer.bias_offset
+                    << (l >= layout.chain_size() ? " linear" : "") << '\n';
       }
       write_binary(c.dir / "theta.f32", theta.data(), theta.size());
       write_binary(c.dir / "x.f32", x.data(), x.size());  // column-major = row by row
@@ -157,12 +171,21 @@ TEST(Workspace, BatchLargerThanTheWorkspaceIsAnError) {
 
 // Reference: central finite differences (h = 1e-6, double) of scale * sum -log p(y|x).
 // Norm-wise relative error <= 1e-6 (docs/methods.md section 1 test values).
-TEST(Network, BackwardMatchesFiniteDifferencesOnA342Network) {
+class NetworkBackward : public ::testing::TestWithParam<bool> {};
+
+TEST_P(NetworkBackward, MatchesFiniteDifferencesOnA342Network) {
   const std::uint64_t seed = testing::test_seed(33);
-  const ParamLayout layout = make_layout({4}, "tanh", 3, 2);
+  const bool linear = GetParam();
+  const ParamLayout layout = make_layout({4}, "tanh", 3, 2, linear);
+  ASSERT_EQ(layout.num_params, 4 * 3 + 4 + 2 * 4 + 2 + (linear ? 2 * 3 + 2 : 0));
   VecX<double> theta(layout.num_params);
   initialize_params<double>(theta, layout, seed);
   theta.segment(layout.layers[0].bias_offset, 4).setConstant(0.2);
+  if (linear) {  // the linear path starts at zero; move it off so every product counts
+    const LayerLayout& path = layout.layers.back();
+    theta.segment(path.weight_offset, 6) << 0.3, -0.2, 0.1, 0.4, -0.5, 0.25;
+    theta.segment(path.bias_offset, 2) << 0.1, -0.1;
+  }
   const MatX<double> x = random_inputs(3, 5, seed + 1).cast<double>();
   const std::vector<std::int32_t> labels = {0, 1, 1, 0, 1};
   Network<double> network(layout);
@@ -180,6 +203,12 @@ TEST(Network, BackwardMatchesFiniteDifferencesOnA342Network) {
   EXPECT_LE(cmp.normwise, 1e-6) << cmp.report;
   EXPECT_LE(cmp.coordinate, 1e-6) << cmp.report;
 }
+
+INSTANTIATE_TEST_SUITE_P(LinearPath, NetworkBackward, ::testing::Bool(),
+                         [](const ::testing::TestParamInfo<bool>& info) {
+                           return info.param ? std::string("WithLinearPath")
+                                             : std::string("ChainOnly");
+                         });
 
 // He: weight variance 2/fan_in; Glorot: uniform on +-sqrt(6/(in+out)), variance
 // 2/(in+out); biases zero. Sample variances of 64*256 draws: standard error about 1.1%,

@@ -54,10 +54,12 @@ TEST(SampleSummarizer, MatchesNumpyOnTheDocumentedFlatLayout) {
     const char* activation;
     Index d, k, r;
     int projections;
+    bool linear_path = false;
   };
-  for (const Case& c : {Case{{}, "relu", 5, 3, 24, 4}, Case{{7}, "tanh", 5, 3, 24, 6},
-                        Case{{6, 4}, "softplus", 4, 2, 17, 4}}) {
-    const ParamLayout layout = make_layout(c.hidden, c.activation, c.d, c.k);
+  for (const Case& c :
+       {Case{{}, "relu", 5, 3, 24, 4}, Case{{7}, "tanh", 5, 3, 24, 6},
+        Case{{6, 4}, "softplus", 4, 2, 17, 4}, Case{{6, 4}, "relu", 4, 3, 17, 4, true}}) {
+    const ParamLayout layout = make_layout(c.hidden, c.activation, c.d, c.k, c.linear_path);
     ProbeSet probe = random_probe(c.d, c.r, c.k, engine);
     const ProbeSet probe_copy = probe;
     const Eigen::VectorXf theta = random_theta(layout.num_params, 0.8f, engine);
@@ -71,9 +73,11 @@ TEST(SampleSummarizer, MatchesNumpyOnTheDocumentedFlatLayout) {
     testing::TempDir dir;
     {
       std::ofstream layout_file(dir.path() / "layout.txt");
-      for (const LayerLayout& l : layout.layers) {
+      for (std::size_t i = 0; i < layout.layers.size(); ++i) {
+        const LayerLayout& l = layout.layers[i];
         layout_file << l.in << " " << l.out << " " << activation_name(l.activation) << " "
-                    << l.weight_offset << " " << l.bias_offset << "\n";
+                    << l.weight_offset << " " << l.bias_offset
+                    << (i >= layout.chain_size() ? " linear" : "") << "\n";
       }
       std::ofstream projections_file(dir.path() / "projections.txt");
       projections_file << c.projections << " " << seed << "\n";

@@ -54,34 +54,45 @@ DERIVATIVES = {  # d activation / d pre-activation, from the pre-activation z
 
 
 def blocks(layers, d_in, k):
-    """(offset, rows, cols) of W and (offset, rows) of b per layer, nets/README.md layout."""
+    """(offset, rows, cols) of W and (offset, rows) of b per layer, nets/README.md layout;
+    the linear path (inputs to logits), when there is one, last with activation "linear"."""
     out, offset, n_in = [], 0, d_in
-    for n_out, act in layers + [(k, "identity")]:
+    for n_out, act in list(layers) + [(k, "identity")]:
         w = (offset, n_out, n_in)
         offset += n_out * n_in
         b = (offset, n_out)
         offset += n_out
         out.append((w, b, act))
         n_in = n_out
+    if getattr(layers, "linear_path", False):
+        out.append(((offset, k, d_in), (offset + k * d_in, k), "linear"))
     return out
 
 
 def log_lik_gradient(theta, x, y, layout):
     """grad_theta sum_n log softmax(f(x_n))_{y_n}; x (N, D), y (N)."""
+    chain = [block for block in layout if block[2] != "linear"]
+    linear = [block for block in layout if block[2] == "linear"]
     a, saved = x.T, []
-    for (wo, wr, wc), (bo, br), act in layout:
+    for (wo, wr, wc), (bo, br), act in chain:
         w = theta[wo:wo + wr * wc].reshape((wr, wc), order="F")
         z = w @ a + theta[bo:bo + br][:, None]
         saved.append((a, z, w))
         a = rebuild.ACTIVATIONS[act](z)
+    for (wo, wr, wc), (bo, br), _ in linear:  # logits += W_lin x + b_lin
+        w = theta[wo:wo + wr * wc].reshape((wr, wc), order="F")
+        a = a + w @ x.T + theta[bo:bo + br][:, None]
     p = np.exp(a - a.max(axis=0))
     p /= p.sum(axis=0)
     onehot = np.zeros_like(p)
     onehot[y, np.arange(len(y))] = 1
     delta = onehot - p  # d log p(y) / d logits
     grad = np.zeros_like(theta)
-    for i in reversed(range(len(layout))):
-        (wo, wr, wc), (bo, br), act = layout[i]
+    for (wo, wr, wc), (bo, br), _ in linear:
+        grad[wo:wo + wr * wc] = (delta @ x).reshape(-1, order="F")
+        grad[bo:bo + br] = delta.sum(axis=1)
+    for i in reversed(range(len(chain))):
+        (wo, wr, wc), (bo, br), act = chain[i]
         a_in, z, w = saved[i]
         delta = delta * DERIVATIVES[act](z)
         grad[wo:wo + wr * wc] = (delta @ a_in.T).reshape(-1, order="F")

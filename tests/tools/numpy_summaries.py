@@ -51,7 +51,9 @@ def directions(count, parameters, seed):
 
 
 def main(directory: Path) -> None:
-    layers = [line.split() for line in (directory / "layout.txt").read_text().splitlines()]
+    lines = [line.split() for line in (directory / "layout.txt").read_text().splitlines()]
+    layers = [words for words in lines if len(words) == 5]  # the chain, output last
+    linear = [words for words in lines if len(words) == 6 and words[5] == "linear"]
     theta32 = np.fromfile(directory / "theta.f32", dtype="<f4")
     theta = theta32.astype(np.float64)
     d_in = int(layers[0][0])
@@ -59,15 +61,22 @@ def main(directory: Path) -> None:
     labels = np.fromfile(directory / "labels.i32", dtype="<i4")
     count, seed = (int(v) for v in (directory / "projections.txt").read_text().split())
 
-    a = rows.T  # (D, R): one probe row per column
+    x = rows.T  # (D, R): one probe row per column
+    a = x
     norms = []
-    for index, (n_in, n_out, activation, w_off, b_off) in enumerate(layers):
-        n_in, n_out, w_off, b_off = int(n_in), int(n_out), int(w_off), int(b_off)
+
+    def affine(words, inputs):
+        n_in, n_out, w_off, b_off = int(words[0]), int(words[1]), int(words[3]), int(words[4])
         w = theta[w_off : w_off + n_out * n_in].reshape((n_out, n_in), order="F")
         b = theta[b_off : b_off + n_out]
         norms.append(np.sum(w * w) + np.sum(b * b))
-        z = w @ a + b[:, None]
-        a = ACTIVATIONS[activation](z) if index + 1 < len(layers) else z
+        return w @ inputs + b[:, None]
+
+    for index, words in enumerate(layers):
+        z = affine(words, a)
+        a = ACTIVATIONS[words[2]](z) if index + 1 < len(layers) else z
+    for words in linear:  # the linear path: logits += W_lin x + b_lin; its norm comes last
+        a = a + affine(words, x)
     log_probs = log_softmax(a, axis=0)  # (K, R)
     own = log_probs[labels, np.arange(labels.size)]
     u = directions(count, theta.size, seed).astype(np.float64)

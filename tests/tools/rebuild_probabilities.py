@@ -48,12 +48,22 @@ def encode(f, rows):
     return x
 
 
+class HiddenLayers(list):
+    """[(width, activation), ...], input side first; .linear_path: the net text's
+    `linear_path on` (a map from the inputs straight to the logits, after the output layer
+    in the flat vector), which only counts beside hidden layers."""
+    linear_path = False
+
+
 def hidden_layers(net_text):
-    layers = []
+    layers = HiddenLayers()
     for line in text(net_text).splitlines():
         words = line.split("#")[0].split()
         if words and words[0] == "hidden":
             layers.append((int(words[1]), words[2]))
+        if words[:2] == ["linear_path", "on"]:
+            layers.linear_path = True
+    layers.linear_path = layers.linear_path and len(layers) > 0
     return layers
 
 
@@ -63,15 +73,21 @@ ACTIVATIONS = {"relu": lambda z: np.maximum(z, 0), "tanh": np.tanh,
 
 
 def probabilities(theta, x, layers, k):
-    """nets/README.md's flat layout: per layer W (out, in) column-major, then b."""
+    """nets/README.md's flat layout: per layer W (out, in) column-major, then b; the linear
+    path's W (K, D) and b (K) last, added to the logits."""
     a, offset, n_in = x.T, 0, x.shape[1]
-    for n_out, act in layers + [(k, "identity")]:
+    for n_out, act in list(layers) + [(k, "identity")]:
         w = theta[offset:offset + n_out * n_in].reshape((n_out, n_in), order="F")
         offset += n_out * n_in
         b = theta[offset:offset + n_out]
         offset += n_out
         a = ACTIVATIONS[act](w @ a + b[:, None])
         n_in = n_out
+    if getattr(layers, "linear_path", False):
+        d = x.shape[1]
+        w = theta[offset:offset + k * d].reshape((k, d), order="F")
+        b = theta[offset + k * d:offset + k * d + k]
+        a = a + w @ x.T + b[:, None]
     z = a - a.max(axis=0)
     p = np.exp(z)
     return (p / p.sum(axis=0)).T
