@@ -205,8 +205,8 @@ TEST_P(NetworkBackward, MatchesFiniteDifferencesOnA342Network) {
 }
 
 INSTANTIATE_TEST_SUITE_P(LinearPath, NetworkBackward, ::testing::Bool(),
-                         [](const ::testing::TestParamInfo<bool>& info) {
-                           return info.param ? std::string("WithLinearPath")
+                         [](const ::testing::TestParamInfo<bool>& param_info) {
+                           return param_info.param ? std::string("WithLinearPath")
                                              : std::string("ChainOnly");
                          });
 
