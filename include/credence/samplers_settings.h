@@ -78,6 +78,15 @@ struct PsgldSettings {
   /// Stop adapting G when burn-in ends, so the kept chain has a fixed metric and
   /// the dropped Gamma term is exactly zero. Default true.
   bool freeze_after_burn_in = true;
+  /// With G frozen: keep the squared-gradient average V running, and replace G_i by its
+  /// adapted value when that falls below kShrinkTrigger times the frozen one (sqrt(V_i)
+  /// has more than doubled). A coordinate whose gradient was near zero when burn-in
+  /// ended (a dead unit) froze at a large G; when the unit revives, that G times the new
+  /// gradient diverged (docs/methods.md section 3, "G frozen, but not on a revived
+  /// unit"). On a stationary chain V stays far below the trigger, so G stays frozen.
+  /// Default true; run files of earlier builds resume with false.
+  bool shrink_on_revival = true;
+  static constexpr double kShrinkTrigger = 0.5;
   /// Adapt G from the likelihood's gradient alone: g minus the Gaussian prior's term
   /// c_i theta_i, when the potential reports c (PotentialFn::prior_precision). A G built
   /// from the prior's term scales as 1 / |theta_i| on coordinates the data barely

@@ -31,6 +31,7 @@ void visit_settings(TrainSettings& s, ReadOptions& read, Visit&& visit) {
   visit("psgld_freeze_after_burn_in", m.psgld.freeze_after_burn_in);
   visit("psgld_gamma_correction", m.psgld.gamma_correction);
   visit("psgld_adapt_without_prior", m.psgld.adapt_without_prior);
+  visit("psgld_shrink_on_revival", m.psgld.shrink_on_revival);
   visit("sghmc_alpha", m.sghmc.alpha);
   visit("sghmc_correct_gradient_noise", m.sghmc.correct_gradient_noise);
   visit("sghmc_resample_every", m.sghmc.resample_every);
@@ -291,8 +292,10 @@ Status from_values(const Settings& values, TrainSettings& settings, ReadOptions&
     // Run files written before santa existed have no santa_* settings; they are never
     // santa runs, and the defaults leave them unchanged.
     if (std::string_view(name).starts_with("santa_")) return;
-    // Run files written before psgld adapted without the prior's term adapted with it.
-    if (std::string_view(name) == "psgld_adapt_without_prior") {
+    // Run files written before psgld adapted without the prior's term adapted with it,
+    // and those written before its frozen G followed a revived unit kept G fixed.
+    if (std::string_view(name) == "psgld_adapt_without_prior" ||
+        std::string_view(name) == "psgld_shrink_on_revival") {
       if constexpr (std::is_same_v<std::decay_t<decltype(field)>, bool>) field = false;
       return;
     }

@@ -13,7 +13,8 @@
 // differentiated through the bias-corrected average (docs/methods.md section 3),
 //   Gamma_i ~ -(1 - rho) / (1 - rho^t) gbar_i Hbar_ii / (sqrt(Vhat_i) (lambda + sqrt(Vhat_i))^2)
 // with Hbar_ii a secant estimate from the last two steps. After burn-in G is frozen
-// by default, which makes Gamma exactly 0.
+// by default, which makes Gamma exactly 0; V keeps running, and a G_i whose adapted
+// value falls below half the frozen one (a revived dead unit) takes that value.
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -44,7 +45,8 @@ class PsgldRule final : public Rule {
     const double temperature = this->temperature(context);
     const float inv_n = 1.0f / static_cast<float>(rows_);
     const bool adapt = !(ps.freeze_after_burn_in && !context.burn_in) || adapted_ == 0;
-    if (adapt) {
+    const bool follow_revival = !adapt && ps.shrink_on_revival;
+    if (adapt || follow_revival) {
       ++adapted_;
       const auto rho = static_cast<float>(ps.rho);
       const auto correction =
@@ -67,14 +69,22 @@ class PsgldRule final : public Rule {
       float* __restrict gp = g_precond_.data();
       const float* __restrict gb = gbar_.data();
       const float* __restrict pv = prior_v_.data();
+      const auto trigger = static_cast<float>(PsgldSettings::kShrinkTrigger);
       for (std::int64_t i = 0; i < parameters_; ++i) {
         const float gbar = gb[i];
         const float vi = rho * v[i] + (1.0f - rho) * (gbar * gbar);
         v[i] = vi;
-        gp[i] = 1.0f / (lambda + std::sqrt(vi / correction + pv[i]));
+        const float adapted = 1.0f / (lambda + std::sqrt(vi / correction + pv[i]));
+        if (!follow_revival) {
+          gp[i] = adapted;
+        } else if (adapted < trigger * gp[i]) {
+          gp[i] = adapted;  // a revived coordinate: its frozen G would diverge
+        }
       }
-      if (ps.max_preconditioner_ratio > 0) cap_preconditioner(ps.max_preconditioner_ratio);
-      if (ps.gamma_correction && adapted_ > 1) {
+      if (adapt && ps.max_preconditioner_ratio > 0) {
+        cap_preconditioner(ps.max_preconditioner_ratio);
+      }
+      if (adapt && ps.gamma_correction && adapted_ > 1) {
         for (Eigen::Index i = 0; i < theta.size(); ++i) {
           const float gbar = gbar_[i];
           const float d_theta = theta[i] - previous_theta_[i];
@@ -91,10 +101,11 @@ class PsgldRule final : public Rule {
         }
         previous_theta_ = theta;
         previous_gbar_ = gbar_;
-      } else if (ps.gamma_correction) {
+      } else if (adapt && ps.gamma_correction) {
         previous_theta_ = theta;
         previous_gbar_ = gbar_;
       }
+      if (!adapt) gamma_.setZero();  // G moves only on revival: Gamma stays dropped
     } else {
       gamma_.setZero();
     }
