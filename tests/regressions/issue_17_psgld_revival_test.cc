@@ -34,16 +34,15 @@ class RevivingUnits : public PotentialFn {
   explicit RevivingUnits(int revive_after) : revive_after_(revive_after) {}
   std::int64_t rows() const override { return kRows; }
 
+  // Each minibatch gradient is one step of the chain; the revival counts them.
   Status minibatch(ConstThetaRef theta, ThetaRef grad, MinibatchValue& out) override {
-    const double curvature = kPrior + (++calls_ > revive_after_ ? kRows * kPerRow : 0.0);
-    grad = static_cast<float>(curvature) * theta;
-    out.potential = 0.5 * curvature * static_cast<double>(theta.squaredNorm());
-    return Status::ok_status();
+    ++calls_;
+    return full(theta, grad, out.potential);
   }
   Status full(ConstThetaRef theta, ThetaRef grad, double& potential) override {
-    MinibatchValue value;
-    CREDENCE_RETURN_IF_ERROR(minibatch(theta, grad, value));
-    potential = value.potential;
+    const double curvature = kPrior + (calls_ > revive_after_ ? kRows * kPerRow : 0.0);
+    grad = static_cast<float>(curvature) * theta;
+    potential = 0.5 * curvature * static_cast<double>(theta.squaredNorm());
     return Status::ok_status();
   }
   bool prior_precision(ThetaRef precision) const override {
