@@ -20,6 +20,7 @@ namespace credence {
 struct BlockPrecision {
   int layer = 0;            // 1-based, as docs/run-file.md counts layers
   bool biases = false;      // false: the layer's weights
+  bool linear_path = false; // the layer is the linear path (after the output layer)
   std::int64_t samples = 0; // kept samples with a finite precision
   double mean = 0;          // mean of lambda
   double lo = 0;            // 5% quantile of lambda (numpy.quantile's linear rule)

@@ -14,6 +14,7 @@
 #include "report/stein_output.h"
 #include "report/verdict_output.h"
 #include "credence/ensemble.h"
+#include "credence/net.h"
 #include "credence/run_diagnostics.h"
 #include "credence/run_stein.h"
 #include "util/atomic_file.h"
@@ -167,7 +168,13 @@ Status run_diagnose(const DiagnoseOptions& options) {
   }
   Result<Eigen::MatrixXd> precisions = (*reader)->prior_precisions();
   if (!precisions.ok()) return precisions.status();
-  const std::vector<BlockPrecision> prior = summarize_prior_precisions(*precisions);
+  std::vector<BlockPrecision> prior = summarize_prior_precisions(*precisions);
+  // The linear path's blocks come last, numbered after the output layer (nets/README.md).
+  if (Result<NetSpec> spec = parse_net_text((*reader)->header().net_text, "the run's net");
+      spec.ok() && spec->linear_path && !spec->hidden.empty()) {
+    const int linear_layer = static_cast<int>(spec->hidden.size()) + 2;
+    for (BlockPrecision& b : prior) b.linear_path = b.layer == linear_layer;
+  }
   SteinSettings stein_settings;
   stein_settings.max_draws_per_chain = options.ksd_draws;
   stein_settings.data_path = options.data_path;

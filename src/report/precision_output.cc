@@ -13,10 +13,12 @@ std::string precision_text(const std::vector<BlockPrecision>& blocks) {
   }
   std::string out = fmt::format(
       "learned prior precisions over the kept samples (lambda; prior sd = 1/sqrt(lambda)):\n"
-      "{:<7} {:<8} {:>11} {:>25} {:>12}\n",
+      "{:<9} {:<8} {:>11} {:>25} {:>12}\n",
       "layer", "block", "mean", "90% interval", "sd at mean");
   for (const BlockPrecision& b : blocks) {
-    out += fmt::format("{:<7} {:<8} {:>11.4g} {:>25} {:>12.4g}\n", b.layer,
+    const std::string layer =
+        b.linear_path ? fmt::format("{} linear", b.layer) : std::to_string(b.layer);
+    out += fmt::format("{:<9} {:<8} {:>11.4g} {:>25} {:>12.4g}\n", layer,
                        b.biases ? "biases" : "weights", b.mean,
                        fmt::format("{:.4g} to {:.4g}", b.lo, b.hi), b.sd_at_mean());
   }
@@ -31,6 +33,7 @@ std::string precision_json(const std::vector<BlockPrecision>& blocks) {
     j.begin_object();
     j.key("layer").value(b.layer);
     j.key("block").value(b.biases ? "biases" : "weights");
+    j.key("linear_path").value(b.linear_path);
     j.key("samples").value(b.samples);
     j.key("mean").value(b.mean);
     j.key("q05").value(b.lo);

@@ -192,7 +192,12 @@ std::string network_words(const RunHeader& header) {
   for (const HiddenLayerSpec& layer : spec->hidden) {
     text += fmt::format(" -> {} {}", layer.width, activation_name(layer.activation));
   }
-  return text + fmt::format(" -> {} classes", header.preprocessing.class_names.size());
+  text += fmt::format(" -> {} classes", header.preprocessing.class_names.size());
+  if (spec->linear_path && !spec->hidden.empty()) {
+    text += fmt::format(", plus a linear path {} inputs -> {} classes",
+                        header.preprocessing.input_width, header.preprocessing.class_names.size());
+  }
+  return text;
 }
 
 std::string method_of(const RunHeader& header) {
