@@ -169,6 +169,32 @@ TEST_F(Diagnose, LearnedPriorPrecisionsMatchNumpyOnTheStoredSamples) {
   EXPECT_NE(read_text(fixed_json).find("\"prior_precision\": null"), std::string::npos);
 }
 
+TEST_F(Diagnose, LinearPathBlocksAreNamed) {
+  // With --linear-path on (this fixture's one hidden layer) the path's blocks come after
+  // the output layer, so they are layer 3 (nets/README.md); the table and the JSON say so.
+  const std::string json = path("linear.json");
+  auto out = train_and_diagnose("linear.h5", "--method sgld --chains 2 --burn-in 50 --samples 20 "
+                                "--linear-path on", "--json '" + json + "'");
+  ASSERT_EQ(out.exit_code, 0) << out.output;
+  EXPECT_NE(out.output.find("\n3 linear  weights"), std::string::npos) << out.output;
+  EXPECT_NE(out.output.find("\n3 linear  biases"), std::string::npos) << out.output;
+  EXPECT_EQ(out.output.find("2 linear"), std::string::npos) << out.output;
+  // The JSON block objects list "layer", then "block", then "linear_path".
+  const std::string text = read_text(json);
+  auto flag_after = [&text](const std::string& layer) {
+    const std::size_t at = text.find("\"layer\": " + layer + ",");
+    const std::size_t key = text.find("\"linear_path\": ", at);
+    return at == std::string::npos || key == std::string::npos
+               ? std::string("missing")
+               : text.substr(key + 15, text.compare(key + 15, 4, "true") == 0 ? 4 : 5);
+  };
+  EXPECT_EQ(flag_after("3"), "true") << text;
+  EXPECT_EQ(flag_after("2"), "false") << text;
+  auto inspect = run_credence("inspect '" + path("linear.h5") + "'");
+  ASSERT_EQ(inspect.exit_code, 0) << inspect.output;
+  EXPECT_NE(inspect.output.find("plus a linear path"), std::string::npos) << inspect.output;
+}
+
 TEST_F(Diagnose, BadInputExitsTwoAndWritesNothing) {
   const std::string json = path("missing.json");
   auto missing = run_credence("diagnose '" + path("no_such_run.h5") + "' --json '" + json + "'");
