@@ -88,7 +88,7 @@ inline constexpr double kConstantLogOddsSd = 0.1;
 inline constexpr double kConstantSumSlack = 0.05;
 /// pinned: ||W_l||^2 below this fraction of its prior expectation (ours).
 inline constexpr double kPinnedNormRatio = 0.01;
-/// pinned, collapsed: no alarm while the probe rows' separation is above this (ours: the
+/// pinned, collapsed: no alarm while the probe rows' separation is at least this (ours: the
 /// constant check's slack. Measured at defaults on the runs the weights alone flagged,
 /// each with test NLL within noise of LogisticRegression(C=1) or better: fair 0.15-0.16,
 /// anes96 0.77, breast cancer 0.91 and its 100-row subsample 0.87; a constant
