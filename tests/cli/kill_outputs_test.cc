@@ -6,6 +6,7 @@
 
 #include <algorithm>
 #include <chrono>
+#include <cstdint>
 #include <cstdio>
 #include <filesystem>
 #include <random>
@@ -34,8 +35,8 @@ class KillOutputs : public ::testing::Test {
     ASSERT_EQ(run_credence("synth --scenario pump-wear --rows 600 --seed 4 --out '" + data + "'")
                   .exit_code,
               0);
-    // Rows enough that a kill lands mid-file most of the time.
-    ASSERT_EQ(run_credence("synth --scenario pump-wear --rows 60000 --seed 5 --out '" +
+    // Rows enough that predict runs for a while; the kill delays adapt to its length.
+    ASSERT_EQ(run_credence("synth --scenario pump-wear --rows 20000 --seed 5 --out '" +
                            path("many.csv") + "'")
                   .exit_code,
               0);
@@ -51,39 +52,43 @@ class KillOutputs : public ::testing::Test {
   static void TearDownTestSuite() { delete dir_; }
   static std::string path(const std::string& name) { return (dir_->path() / name).string(); }
 
-  // Milliseconds `command` takes uninterrupted (exit code checked by the caller's reference
-  // run). Kill delays are drawn inside this span, so kills land mid-run whether the
-  // machine is idle or loaded; fixed delays made the test depend on the machine's speed.
-  static int duration_ms(const std::string& command) {
+  // Milliseconds `command` takes uninterrupted; the caller checks its exit code.
+  static int duration_ms(const std::string& command, int* exit_code) {
     const auto start = std::chrono::steady_clock::now();
     const auto result = run_credence(command);
-    EXPECT_EQ(result.exit_code, 0) << result.output;
+    *exit_code = result.exit_code;
     const auto elapsed = std::chrono::steady_clock::now() - start;
     return static_cast<int>(
         std::chrono::duration_cast<std::chrono::milliseconds>(elapsed).count());
   }
 
-  // Runs `args` writing `out`, killing it after a random delay below `max_ms`, `rounds`
-  // times; after each kill, `out` must be absent or equal `reference`. Returns how many
-  // kills landed before the command finished.
-  static int kill_repeatedly(const std::vector<std::string>& args, const std::string& out,
-                             const std::string& reference, int rounds, int max_ms) {
-    std::mt19937_64 random(testing::test_seed(20261202));
+  // Runs `args` and kills it after a random delay below `max_ms`, until `wanted` kills have
+  // landed mid-run or `rounds` runs are spent; returns how many landed. After a kill that
+  // landed, `after_kill(round)` checks what the run left; a run that finished first must
+  // exit 0 and pass `after_finish(round)`, and halves the delays' range. A fixed range
+  // taken from one timed run missed when the machine's load fell after the timing (CI runs
+  // two tests at once), so the range now follows the runs themselves.
+  template <typename AfterKill, typename AfterFinish>
+  static int kill_until_landed(const std::vector<std::string>& args, const std::string& out,
+                               std::uint64_t seed, int wanted, int rounds, int max_ms,
+                               AfterKill after_kill, AfterFinish after_finish) {
+    std::mt19937_64 random(testing::test_seed(seed));
     int landed = 0;
-    for (int round = 0; round < rounds; ++round) {
+    for (int round = 0; round < rounds && landed < wanted; ++round) {
       fs::remove(out);
       testing::ChildProcess child(args, path("killed.log"));
       EXPECT_TRUE(child.started());
-      std::this_thread::sleep_for(std::chrono::milliseconds(5 + random() % max_ms));
+      std::this_thread::sleep_for(
+          std::chrono::milliseconds(2 + random() % static_cast<unsigned>(max_ms)));
       child.signal(SIGKILL);
       const int code = child.wait();
       if (code == 128 + SIGKILL) {
         ++landed;
-        EXPECT_FALSE(fs::exists(out) && testing::read_text(out) != reference)
-            << "round " << round << ": a killed run left a different file at " << out;
+        after_kill(round);
       } else {
         EXPECT_EQ(code, 0) << "round " << round;
-        EXPECT_EQ(testing::read_text(out), reference) << "round " << round;
+        after_finish(round);
+        max_ms = std::max(2, max_ms / 2);
       }
     }
     return landed;
@@ -106,18 +111,23 @@ testing::TempDir* KillOutputs::dir_ = nullptr;
 
 TEST_F(KillOutputs, PredictLeavesNoHalfWrittenFile) {
   const std::string reference = path("reference.csv");
-  auto whole = run_credence("--quiet predict '" + path("a.h5") + "' '" + path("many.csv") +
-                            "' --out '" + reference + "'");
-  ASSERT_EQ(whole.exit_code, 0) << whole.output;
+  int exit_code = -1;
+  const int span = duration_ms(
+      "--quiet predict '" + path("a.h5") + "' '" + path("many.csv") + "' --out '" + reference + "'",
+      &exit_code);
+  ASSERT_EQ(exit_code, 0);
   const std::string expected = testing::read_text(reference);
   const std::string out = path("predictions.csv");
-  const int span = duration_ms("--quiet predict '" + path("a.h5") + "' '" + path("many.csv") +
-                               "' --out '" + path("timed.csv") + "'");
-  const int landed =
-      kill_repeatedly({"--quiet", "predict", path("a.h5"), path("many.csv"), "--out", out}, out,
-                      expected, 8, std::max(10, span * 3 / 4));
-  EXPECT_GE(landed, 4) << "most kills should land before predict ends; lengthen the input";
-  std::printf("predict: %d of 8 kills landed mid-run\n", landed);
+  const int landed = kill_until_landed(
+      {"--quiet", "predict", path("a.h5"), path("many.csv"), "--out", out}, out, 20261202, 5, 16,
+      std::max(10, span * 3 / 4),
+      [&](int round) {
+        EXPECT_FALSE(fs::exists(out) && testing::read_text(out) != expected)
+            << "round " << round << ": a killed run left a different file at " << out;
+      },
+      [&](int round) { EXPECT_EQ(testing::read_text(out), expected) << "round " << round; });
+  EXPECT_GE(landed, 5) << "kills should land before predict ends; lengthen the input";
+  std::printf("predict: %d kills landed mid-run\n", landed);
   // A rerun after the kills writes the same bytes and clears the killed runs' temporaries.
   ASSERT_EQ(run_credence("--quiet predict '" + path("a.h5") + "' '" + path("many.csv") +
                          "' --out '" + out + "'")
@@ -141,37 +151,29 @@ TEST_F(KillOutputs, MergeLeavesNoHalfWrittenRun) {
             0);
   const bool bytes_repeat = testing::read_text(out) == testing::read_text(reference);
   fs::remove(out);
-  const int span = duration_ms("--quiet merge '" + path("a.h5") + "' '" + path("b.h5") +
-                               "' --out '" + out + "'");
-  fs::remove(out);
-  std::mt19937_64 random(testing::test_seed(20261203));
-  int landed = 0, present = 0;
-  for (int round = 0; round < 8; ++round) {
-    fs::remove(out);
-    testing::ChildProcess child({"--quiet", "merge", path("a.h5"), path("b.h5"), "--out", out},
-                                path("merge.log"));
-    ASSERT_TRUE(child.started());
-    std::this_thread::sleep_for(std::chrono::milliseconds(
-        2 + random() % static_cast<unsigned>(std::max(10, span * 3 / 4))));
-    child.signal(SIGKILL);
-    const int code = child.wait();
-    if (code != 128 + SIGKILL) {
-      EXPECT_EQ(code, 0) << "round " << round;
-      continue;
-    }
-    ++landed;
-    if (!fs::exists(out)) continue;
-    ++present;
-    // Present after a kill: it must be the whole merge, readable and complete.
-    auto reader = RunReader::open(out);
-    ASSERT_TRUE(reader.ok()) << "round " << round << ": " << reader.status().message();
-    EXPECT_EQ((*reader)->summary().samples, 1600) << "round " << round;
-    if (bytes_repeat) {
-      EXPECT_EQ(testing::read_text(out), testing::read_text(reference));
-    }
-  }
-  std::printf("merge: %d of 8 kills landed mid-run, %d of them after the rename\n", landed,
-              present);
+  int exit_code = -1;
+  const int span =
+      duration_ms("--quiet merge '" + path("a.h5") + "' '" + path("b.h5") + "' --out '" + out + "'",
+                  &exit_code);
+  ASSERT_EQ(exit_code, 0);
+  int present = 0;
+  const int landed = kill_until_landed(
+      {"--quiet", "merge", path("a.h5"), path("b.h5"), "--out", out}, out, 20261203, 5, 16,
+      std::max(10, span * 3 / 4),
+      [&](int round) {
+        if (!fs::exists(out)) return;
+        ++present;
+        // Present after a kill: it must be the whole merge, readable and complete.
+        auto reader = RunReader::open(out);
+        ASSERT_TRUE(reader.ok()) << "round " << round << ": " << reader.status().message();
+        EXPECT_EQ((*reader)->summary().samples, 1600) << "round " << round;
+        if (bytes_repeat) {
+          EXPECT_EQ(testing::read_text(out), testing::read_text(reference)) << "round " << round;
+        }
+      },
+      [](int) {});
+  EXPECT_GE(landed, 5) << "kills should land before merge ends";
+  std::printf("merge: %d kills landed mid-run, %d of them after the rename\n", landed, present);
   ASSERT_EQ(run_credence("--quiet merge '" + path("a.h5") + "' '" + path("b.h5") + "' --out '" +
                          out + "' --force")
                 .exit_code,
