@@ -36,6 +36,9 @@ struct CompareRequest {
   std::vector<Index> hidden;     // the one network every method trains
   std::string activation = "relu";
   std::string net_path;
+  /// --linear-path on: every method's network adds a linear map from the inputs to the
+  /// outputs (docs/prior.md, "The linear path"). Not with net_path or no hidden layer.
+  bool linear_path = false;
   std::vector<CompareEntry> entries;
   /// Gradient budget: passes over the training rows per chain; 0 = sized to the table
   /// (compare_budget). Default 0.
@@ -87,7 +90,9 @@ struct CompareLists {
 /// Checks `request` (filled in but for entries and hidden), sets its hidden widths from
 /// `lists` and returns the methods of lists.methods. Refuses (kInvalidInput, naming the
 /// flag): no target, an unknown method or a full-data one (hmc, rhmc, which have no
-/// minibatch budget to share; unless lists.full_batch_allowed), --samples with only optimizers, bad widths,
+/// minibatch budget to share; unless lists.full_batch_allowed), --samples with only optimizers, bad
+/// widths,
+/// --linear-path on with a net file or with no hidden layer,
 /// --extend-seconds with --epochs, and out-of-range epochs, chains, batch, samples or
 /// bootstrap.
 Result<std::vector<Method>> complete_compare_request(CompareRequest& request,

@@ -8,12 +8,12 @@ import pandas as pd
 
 from . import _credence
 from ._tables import as_frame, is_path, write_csv
-from .training import ProgressLine
+from .training import ProgressLine, _on_off
 
 # The keywords compare() passes on; each is the CLI flag of the same name
 # (--extend-seconds for extend_seconds), with the same default when left as None.
 COMPARE_KEYWORDS = (
-    "methods", "hidden", "activation", "epochs", "chains", "batch", "samples", "bootstrap",
+    "methods", "hidden", "activation", "linear_path", "epochs", "chains", "batch", "samples", "bootstrap",
     "extend_seconds", "chain_seed", "truth", "seed", "test_fraction", "val_fraction",
     "categorical", "drop", "id", "impute", "unseen", "delimiter", "na_tokens",
 )
@@ -29,7 +29,8 @@ def compare(data, out, *, target, progress=True, **settings):
     out/table.csv, which the run files then name). Keywords are compare's flags with
     underscores, and None (or leaving one out) keeps the command's default: methods (a
     comma-separated string or a list), hidden (e.g. [32, 32]; [] for none), activation,
-    epochs, chains, batch, samples, bootstrap, extend_seconds, chain_seed, truth (a
+    linear_path (True: a linear map from the inputs to the outputs beside the hidden
+    layers), epochs, chains, batch, samples, bootstrap, extend_seconds, chain_seed, truth (a
     synth truth file), seed, test_fraction, val_fraction, categorical, drop, id,
     impute, unseen, delimiter, na_tokens.
 
@@ -47,6 +48,8 @@ def compare(data, out, *, target, progress=True, **settings):
         options["methods"] = ",".join(options["methods"])
     if "hidden" in options:
         options["hidden"] = [int(w) for w in options["hidden"]]
+    if "linear_path" in options:
+        options["linear_path"] = _on_off(options["linear_path"])
     if "truth" in options:
         options["truth"] = os.fspath(options["truth"])
     options["target"] = target

@@ -23,7 +23,9 @@ class CredenceClassifier(ClassifierMixin, BaseEstimator):
     Parameters are `credence train`'s settings, None keeping the command's default:
     method ("sgld", "psgld", "sghmc", "rsghmc", "hmc", "rhmc", or the optimizers "sgd",
     "momentum", "rsgd", "adam"); prior_scale ("auto" learns the prior's scale, a number
-    fixes it); the budget: chains, samples, burn_in, thin (samplers), steps or epochs
+    fixes it); linear_path (True: a linear map from the inputs to the outputs beside the
+    hidden layers, docs/prior.md "The linear path"; default False); the budget: chains,
+    samples, burn_in, thin (samplers), steps or epochs
     (optimizers), sized from the table when None; hidden (layer widths), lr, batch;
     val_fraction (rows kept out of training for the run's tracked summaries and early
     stopping; 0 trains on every row); random_state (the split and chain seed, an int).
@@ -34,7 +36,7 @@ class CredenceClassifier(ClassifierMixin, BaseEstimator):
 
     def __init__(self, method="sgld", prior_scale="auto", chains=None, samples=None,
                  burn_in=None, thin=None, steps=None, epochs=None, hidden=None, lr=None,
-                 batch=None, val_fraction=0.1, random_state=None):
+                 batch=None, val_fraction=0.1, random_state=None, linear_path=False):
         self.method = method
         self.prior_scale = prior_scale
         self.chains = chains
@@ -48,6 +50,7 @@ class CredenceClassifier(ClassifierMixin, BaseEstimator):
         self.batch = batch
         self.val_fraction = val_fraction
         self.random_state = random_state
+        self.linear_path = linear_path
 
     def _seed(self):
         if self.random_state is None:
@@ -76,7 +79,8 @@ class CredenceClassifier(ClassifierMixin, BaseEstimator):
         train(frame, path, y=encoded, target="class", progress=False, method=self.method,
               prior_scale=self.prior_scale, chains=self.chains, samples=self.samples,
               burn_in=self.burn_in, thin=self.thin, steps=self.steps, epochs=self.epochs,
-              hidden=hidden, lr=self.lr, batch=self.batch, seed=self._seed(),
+              hidden=hidden, linear_path=self.linear_path, lr=self.lr, batch=self.batch,
+              seed=self._seed(),
               test_fraction=0.0, val_fraction=self.val_fraction)
         self._own_run(directory, path)
         return self

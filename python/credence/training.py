@@ -16,7 +16,7 @@ from .run import Run
 # The keywords train() passes on; each is the CLI flag of the same name (--burn-in for
 # burn_in), with the same default when left as None.
 TRAIN_KEYWORDS = (
-    "method", "hidden", "activation", "prior_scale", "lr", "step_size", "temperature",
+    "method", "hidden", "activation", "linear_path", "prior_scale", "lr", "step_size", "temperature",
     "chains", "samples", "burn_in", "thin", "steps", "epochs", "batch", "threads",
     "seed", "test_fraction", "val_fraction", "categorical", "drop", "id", "impute",
     "unseen", "delimiter", "na_tokens",
@@ -44,6 +44,15 @@ class ProgressLine:
         self.stream.flush()
 
 
+def _on_off(value):
+    """linear_path as a bool: True/False, or the CLI's "on"/"off"."""
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if value in ("on", "off"):
+        return value == "on"
+    raise ValueError(f"linear_path={value!r}: give True or False (or 'on' or 'off')")
+
+
 def _frame_of(data, y, target):
     """The table to train on: `data` with `y` joined as column `target` when given."""
     frame = as_frame(data)
@@ -61,7 +70,8 @@ def train(data, out, *, target=None, y=None, force=False, resume=False, progress
     DataFrame) of features with the labels in `y` (the table then gets columns x0, x1,
     ... and `target`, by default "target"). Keywords are the CLI's flags with
     underscores, and None (or leaving one out) keeps the CLI's default:
-    method ("sgld"), hidden (e.g. [32, 32]), activation, prior_scale (a number; default
+    method ("sgld"), hidden (e.g. [32, 32]), activation, linear_path (True: a linear
+    map from the inputs to the outputs beside the hidden layers; default False), prior_scale (a number; default
     "auto" learns it), lr, step_size, temperature, chains, samples, burn_in, thin,
     steps, epochs, batch, threads, seed, test_fraction, val_fraction, categorical,
     drop, id, impute ("none"/"median"), unseen ("error"/"ignore"), delimiter, na_tokens.
@@ -83,6 +93,8 @@ def train(data, out, *, target=None, y=None, force=False, resume=False, progress
         del options["prior_scale"]
     if "hidden" in options:
         options["hidden"] = [int(w) for w in options["hidden"]]
+    if "linear_path" in options:
+        options["linear_path"] = _on_off(options["linear_path"])
     if force:
         options["force"] = True
     if resume:

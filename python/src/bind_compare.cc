@@ -41,6 +41,7 @@ py::dict compare(const std::string& data_path, const std::string& out_dir,
   if (has("methods")) lists.methods = keyword<std::string>(options, "methods");
   if (has("hidden")) lists.hidden = widths_text(keyword<std::vector<long long>>(options, "hidden"));
   if (has("activation")) r.activation = keyword<std::string>(options, "activation");
+  if (has("linear_path")) r.linear_path = keyword<bool>(options, "linear_path");
   if (has("epochs")) r.epochs = keyword<double>(options, "epochs");
   if (has("chains")) r.chains = keyword<int>(options, "chains");
   if (has("batch")) r.batch_rows = keyword<std::int64_t>(options, "batch");

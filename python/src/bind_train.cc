@@ -40,6 +40,7 @@ TrainRequest request_of(const std::string& data_path, const std::string& out_pat
   read_data_keywords(options, r.data);
   if (has("hidden")) r.hidden = keyword<std::vector<Index>>(options, "hidden");
   if (has("activation")) r.activation = keyword<std::string>(options, "activation");
+  if (has("linear_path")) r.linear_path = keyword<bool>(options, "linear_path");
   if (has("prior_scale")) {
     r.prior_scale_auto = false;
     r.prior_scale = keyword<double>(options, "prior_scale");
@@ -78,6 +79,11 @@ py::dict train(const std::string& data_path, const std::string& out_path,
     r.settings.chains.seed = r.data.split.seed;
     r.settings.summary_seed = r.data.split.seed;
     if (r.hidden.empty() && !options.contains("hidden")) r.hidden = {32, 32};
+    if (r.linear_path && r.hidden.empty()) {
+      raise_if_error(Status::invalid_input(
+          "linear_path=True needs hidden layers: with hidden=[] the output layer is already "
+          "the linear model; drop one of the two"));
+    }
     raise_if_error(validate_train_settings(r.settings));
   }
   r.command_line = "credence.train (Python)";

@@ -24,6 +24,12 @@ void add_compare_flags(CLI::App& command, CompareFlags& flags, const std::string
   command.add_option("--activation", flags.activation, "relu, tanh, sigmoid, softplus, identity")
       ->capture_default_str();
   command.add_option("--net", flags.net_path, "Net file instead of --hidden/--activation");
+  command
+      .add_option("--linear-path", flags.linear_path,
+                  "on: every method's network adds a linear map from the inputs to the outputs "
+                  "beside the hidden layers, with prior blocks of its own (docs/prior.md, 'The "
+                  "linear path'); off: the hidden layers alone")
+      ->capture_default_str();
   command.add_option("--epochs", flags.epochs,
                      fmt::format("Gradient budget per chain, in passes over the training rows "
                                  "(the same for every method) [default: sized to the table, as a "
@@ -80,6 +86,13 @@ Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Me
   r.data = *data;
   r.net_path = flags.net_path;
   r.activation = flags.activation;
+  if (flags.linear_path != "on" && flags.linear_path != "off") {
+    return Status::invalid_input(fmt::format(
+        "--linear-path '{}' is not on or off; give on (a linear map from the inputs to the "
+        "outputs beside the hidden layers) or off (the default)",
+        flags.linear_path));
+  }
+  r.linear_path = flags.linear_path == "on";
   r.epochs = flags.epochs;
   r.chains = flags.chains;
   r.batch_rows = flags.batch;

@@ -17,6 +17,7 @@ struct CompareFlags {
   std::string hidden = "32,32";
   std::string activation = "relu";
   std::string net_path;
+  std::string linear_path = "off";  // --linear-path on|off
   double epochs = 0;  // 0: sized to the table (compare_budget)
   int chains = 4;
   std::int64_t batch = 128;

@@ -22,6 +22,7 @@ TrainRequest request_for(const CompareRequest& c, const CompareEntry& entry,
   r.net_path = c.net_path;
   r.hidden = c.hidden;
   r.activation = c.activation;
+  r.linear_path = c.linear_path;
   r.out_path = (std::filesystem::path(c.out_dir) / (entry.file_stem + ".h5")).string();
   r.force = true;
   r.hooks = c.hooks;
@@ -86,7 +87,8 @@ Result<CompareBudget> compare_budget(const CompareRequest& request) {
     const std::int64_t parameters =
         request.net_path.empty()
             ? dense_parameters(data->preprocessing.input_width, request.hidden,
-                               static_cast<int>(data->preprocessing.class_names.size()))
+                               static_cast<int>(data->preprocessing.class_names.size()),
+                               request.linear_path)
             : 0;
     const CompareSamples sized = default_compare_samples(parameters, request.chains);
     budget.samples = sized.samples;

@@ -72,6 +72,15 @@ Result<std::vector<Method>> complete_compare_request(CompareRequest& r, const Co
     if (!hidden.ok()) return hidden.status();
     r.hidden = std::move(*hidden);
   }
+  if (r.linear_path && !r.net_path.empty()) {
+    return Status::invalid_input(
+        "--linear-path is not read with --net: write 'linear_path on' in the net file instead");
+  }
+  if (r.linear_path && r.hidden.empty()) {
+    return Status::invalid_input(
+        "--linear-path on needs hidden layers: with --hidden none the output layer is already "
+        "the linear model; drop one of the two");
+  }
   if (lists.extend_given && r.epochs > 0) {
     return Status::invalid_input(
         "--extend-seconds is not read with --epochs: a budget given in passes is kept as "

@@ -8,8 +8,9 @@
 namespace credence {
 
 std::int64_t dense_parameters(std::int64_t input_width, const std::vector<Index>& hidden,
-                              int classes) {
+                              int classes, bool linear_path) {
   std::int64_t total = 0;
+  if (linear_path && !hidden.empty()) total += (input_width + 1) * classes;
   std::int64_t in = input_width;
   for (Index width : hidden) {
     total += (in + 1) * static_cast<std::int64_t>(width);

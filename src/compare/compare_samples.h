@@ -27,9 +27,10 @@ inline constexpr std::int64_t kCompareRhatDraws = 400;
 /// parameter, all chains); then as many as fit, and compare says so.
 inline constexpr std::int64_t kCompareSampleBytes = std::int64_t{256} << 20;
 
-/// Weights and biases of a dense network of these widths (output layer: `classes` units).
+/// Weights and biases of a dense network of these widths (output layer: `classes` units),
+/// with a linear path's (input_width + 1) x classes when `linear_path` and hidden layers.
 std::int64_t dense_parameters(std::int64_t input_width, const std::vector<Index>& hidden,
-                              int classes);
+                              int classes, bool linear_path = false);
 
 struct CompareSamples {
   std::int64_t samples = 0;

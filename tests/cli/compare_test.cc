@@ -147,6 +147,49 @@ TEST_F(Compare, ReportCommandWritesOnePage) {
   EXPECT_FALSE(std::filesystem::exists(path("two.html")));
 }
 
+TEST_F(Compare, LinearPathReachesEveryMethodsNetworkAndIsRefusedWhereItCannotBe) {
+  // Read back with h5py (an outside reader): with one hidden layer of 4 units, a network of
+  // D inputs and K classes has (D+1)*4 + 5*K parameters, and (D+1)*K more with the linear
+  // path (docs/run-file.md, /model; docs/prior.md, "The linear path").
+  auto compared = run_credence("--quiet compare '" + data_ +
+                               "' --target fault_14d --id unit_id --impute median --methods "
+                               "adam,sgld --hidden 4 --linear-path on --epochs 2 --chains 1 "
+                               "--samples 5 --bootstrap 0 --out '" +
+                               path("linear") + "'");
+  ASSERT_EQ(compared.exit_code, 0) << compared.output;
+  const std::string script =
+      "import sys, h5py\n"
+      "for name in sys.argv[1:]:\n"
+      "    f = h5py.File(name, 'r')\n"
+      "    d = int(f['preprocessing'].attrs['input_width'])\n"
+      "    k = f['preprocessing/class_names'].shape[0]\n"
+      "    width = f['samples/theta'].shape[1]\n"
+      "    assert 'linear_path on' in str(f['model'].attrs['net_text']), name\n"
+      "    assert width == (d + 1) * 4 + 5 * k + (d + 1) * k, (name, d, k, width)\n";
+  const std::string file = path("linear.py");
+  std::ofstream(file) << script;
+  const std::string log = path("linear.txt");
+  EXPECT_EQ(
+      run_python("'" + file + "' '" + path("linear/adam.h5") + "' '" + path("linear/sgld.h5") + "'",
+                 log),
+      0)
+      << read_text(log);
+  auto no_hidden = run_credence("compare '" + data_ +
+                                "' --target fault_14d --methods adam --hidden none "
+                                "--linear-path on --out '" +
+                                path("linear_none") + "'");
+  EXPECT_EQ(no_hidden.exit_code, 2) << no_hidden.output;
+  EXPECT_NE(no_hidden.output.find("--linear-path on needs hidden layers"), std::string::npos)
+      << no_hidden.output;
+  auto not_a_switch = run_credence("compare '" + data_ +
+                                   "' --target fault_14d --methods adam --linear-path yes "
+                                   "--out '" +
+                                   path("linear_yes") + "'");
+  EXPECT_EQ(not_a_switch.exit_code, 2) << not_a_switch.output;
+  EXPECT_NE(not_a_switch.output.find("is not on or off"), std::string::npos) << not_a_switch.output;
+  EXPECT_FALSE(std::filesystem::exists(path("linear_none/adam.h5")));
+}
+
 TEST_F(Compare, ChainSeedKeepsTheSplitAndChangesTheChains) {
   // compare --chain-seed, as train's: the split follows --seed alone, the chains follow
   // the chain seed, and two comparisons on one split merge into one run. Reference: the

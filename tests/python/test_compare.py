@@ -62,6 +62,26 @@ def test_compare_refuses_as_the_cli_does(tmp_path, breast_cancer_csv):
         credence.compare(breast_cancer_csv, tmp_path / "py", target="diagnosis", lr=0.1)
 
 
+def test_compare_linear_path_as_the_cli(tmp_path, breast_cancer_csv):
+    quick = dict(methods="adam", hidden=[8], epochs=2, chains=1, bootstrap=0, seed=3)
+    ours = credence.compare(breast_cancer_csv, tmp_path / "py", target="diagnosis",
+                            progress=False, linear_path=True, **quick)
+    run_cli("--quiet", "compare", breast_cancer_csv, "--target", "diagnosis",
+            *cli_flags(quick), "--linear-path", "on", "--out", tmp_path / "cli")
+    theirs = pd.read_csv(tmp_path / "cli" / "summary.csv", dtype={"method": str})
+    pd.testing.assert_frame_equal(ours.drop(columns=WALL_CLOCK),
+                                  theirs.drop(columns=WALL_CLOCK))
+    with h5py.File(tmp_path / "py" / "adam.h5", "r") as f:
+        assert f["samples/theta"].shape[1] == 266 + 62  # as in test_train.py
+    with pytest.raises(credence.InvalidInputError) as python_error:
+        credence.compare(breast_cancer_csv, tmp_path / "none", target="diagnosis",
+                         methods="adam", hidden=[], linear_path=True, progress=False)
+    cli = run_cli_failing("compare", breast_cancer_csv, "--target", "diagnosis",
+                          "--methods", "adam", "--hidden", "none", "--linear-path", "on",
+                          "--out", tmp_path / "cli_none")
+    assert str(python_error.value) in cli
+
+
 def run_cli_failing(*args):
     """The CLI's standard error for a refused command line (exit code 2)."""
     done = subprocess.run([CREDENCE_BIN, *map(str, args)], capture_output=True, text=True)

@@ -48,6 +48,17 @@ def test_default_settings_fit_and_pickle(tmp_path):
     np.testing.assert_array_equal(clone.predict_proba(x), proba)
 
 
+def test_linear_path_is_a_parameter_that_reaches_the_network():
+    x, y = load_iris(return_X_y=True)
+    model = credence.CredenceClassifier(linear_path=True, **QUICK)
+    assert model.get_params()["linear_path"] is True
+    model.fit(x, y)
+    # 4 inputs, 16 hidden units, 3 classes: 5*16 + 17*3 = 131 parameters, and the
+    # linear path's 5*3 = 15 more.
+    assert model.run_.samples.shape[1] == 131 + 15
+    assert model.score(x, y) > 0.9
+
+
 def test_one_class_is_refused():
     with pytest.raises(ValueError, match="1 class"):
         credence.CredenceClassifier(**QUICK).fit(np.zeros((5, 2)), np.ones(5))

@@ -79,6 +79,29 @@ def test_arrays_with_y(tmp_path):
     assert run.target == "target"
 
 
+def test_linear_path_equals_the_cli_run(tmp_path, breast_cancer_csv):
+    ours = credence.train(breast_cancer_csv, tmp_path / "py.h5", target="diagnosis",
+                          progress=False, linear_path=True, **SHORT)
+    run_cli("--quiet", "train", breast_cancer_csv, "--target", "diagnosis",
+            *cli_flags(SHORT), "--linear-path", "on", "--out", tmp_path / "cli.h5")
+    # Read with h5py: 30 inputs, one hidden layer of 8 units and 2 classes make
+    # 31*8 + 9*2 = 266 parameters, and the linear path adds 31*2 = 62 (docs/prior.md).
+    with h5py.File(tmp_path / "py.h5", "r") as a, h5py.File(tmp_path / "cli.h5", "r") as b:
+        assert a["samples/theta"].shape[1] == 266 + 62
+        def ordered(f):
+            order = np.lexsort((f["samples/step"][:], f["samples/chain"][:]))
+            return f["samples/theta"][:][order]
+        np.testing.assert_array_equal(ordered(a), ordered(b))
+    assert ours.samples.shape[1] == 328
+    with pytest.raises(credence.InvalidInputError, match="needs hidden layers"):
+        credence.train(breast_cancer_csv, tmp_path / "none.h5", target="diagnosis",
+                       progress=False, method="adam", steps=50, hidden=[], linear_path=True)
+    with pytest.raises(ValueError, match="linear_path='yes'"):
+        credence.train(breast_cancer_csv, tmp_path / "yes.h5", target="diagnosis",
+                       progress=False, linear_path="yes")
+    assert not os.path.exists(tmp_path / "none.h5")
+
+
 def test_method_flag_refused_as_on_the_cli(tmp_path, breast_cancer_csv):
     with pytest.raises(credence.InvalidInputError, match="--burn-in"):
         credence.train(breast_cancer_csv, tmp_path / "r.h5", target="diagnosis",
