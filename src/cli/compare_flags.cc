@@ -7,6 +7,7 @@
 
 #include "cli/interrupt.h"
 #include "cli/progress.h"
+#include "cli/train_flags.h"
 #include "compare/compare_extend.h"
 #include "compare/compare_samples.h"
 
@@ -86,13 +87,9 @@ Result<CompareRequest> compare_request(const CompareFlags& flags, std::vector<Me
   r.data = *data;
   r.net_path = flags.net_path;
   r.activation = flags.activation;
-  if (flags.linear_path != "on" && flags.linear_path != "off") {
-    return Status::invalid_input(fmt::format(
-        "--linear-path '{}' is not on or off; give on (a linear map from the inputs to the "
-        "outputs beside the hidden layers) or off (the default)",
-        flags.linear_path));
-  }
-  r.linear_path = flags.linear_path == "on";
+  Result<bool> linear_path = parse_linear_path(flags.linear_path);
+  if (!linear_path.ok()) return linear_path.status();
+  r.linear_path = *linear_path;
   r.epochs = flags.epochs;
   r.chains = flags.chains;
   r.batch_rows = flags.batch;

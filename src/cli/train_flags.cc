@@ -31,6 +31,14 @@ Result<std::vector<Index>> parse_widths(const std::string& text) {
 
 }  // namespace
 
+Result<bool> parse_linear_path(const std::string& text) {
+  if (text == "on" || text == "off") return text == "on";
+  return Status::invalid_input(fmt::format(
+      "--linear-path '{}' is not on or off; give on (a linear map from the inputs to the "
+      "outputs beside the hidden layers) or off (the default)",
+      text));
+}
+
 Status resolve_train_flags(TrainFlags& flags) {
   TrainRequest& r = flags.request;
   // Everything comes from the run file; a flag that would change it is refused.
@@ -67,13 +75,9 @@ Status resolve_train_flags(TrainFlags& flags) {
   Result<std::vector<Index>> widths = parse_widths(flags.hidden.empty() ? "32,32" : flags.hidden);
   if (!widths.ok()) return widths.status();
   r.hidden = *widths;
-  if (flags.linear_path != "on" && flags.linear_path != "off") {
-    return Status::invalid_input(fmt::format(
-        "--linear-path '{}' is not on or off; give on (a linear map from the inputs to the "
-        "outputs beside the hidden layers) or off (the default)",
-        flags.linear_path));
-  }
-  r.linear_path = flags.linear_path == "on";
+  Result<bool> linear_path = parse_linear_path(flags.linear_path);
+  if (!linear_path.ok()) return linear_path.status();
+  r.linear_path = *linear_path;
   if (r.linear_path && r.hidden.empty() && r.net_path.empty()) {
     return Status::invalid_input(
         "--linear-path on needs hidden layers: with --hidden none the "

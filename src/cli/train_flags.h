@@ -34,6 +34,10 @@ struct TrainFlags {
   std::set<std::string> given;   // the long flags typed (method_flags.h)
 };
 
+/// --linear-path's value: true for on, false for off; invalid_input otherwise (train and
+/// compare read the flag alike).
+Result<bool> parse_linear_path(const std::string& text);
+
 /// Fills flags.request from the typed flags: data options, method, schedule, tempering,
 /// network, prior scale, which budget flags were given, seeds. Refuses a flag the method
 /// does not read (method_flags.h), and any flag but the data file's with --resume.
