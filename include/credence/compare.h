@@ -90,9 +90,8 @@ struct CompareLists {
 /// Checks `request` (filled in but for entries and hidden), sets its hidden widths from
 /// `lists` and returns the methods of lists.methods. Refuses (kInvalidInput, naming the
 /// flag): no target, an unknown method or a full-data one (hmc, rhmc, which have no
-/// minibatch budget to share; unless lists.full_batch_allowed), --samples with only optimizers, bad
-/// widths,
-/// --linear-path on with a net file or with no hidden layer,
+/// minibatch budget to share; unless lists.full_batch_allowed), --samples with only
+/// optimizers, bad widths, --linear-path on with a net file or with no hidden layer,
 /// --extend-seconds with --epochs, and out-of-range epochs, chains, batch, samples or
 /// bootstrap.
 Result<std::vector<Method>> complete_compare_request(CompareRequest& request,
