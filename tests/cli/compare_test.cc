@@ -9,6 +9,8 @@
 #include <filesystem>
 #include <fstream>
 #include <sstream>
+#include <string>
+#include <vector>
 
 #include "testing/read_text.h"
 #include "testing/run_command.h"
@@ -46,6 +48,18 @@ class Compare : public ::testing::Test {
   }
   static void TearDownTestSuite() { delete dir_; }
   static std::string path(const std::string& name) { return (dir_->path() / name).string(); }
+
+  // Writes `script` to <stem>.py in the test folder and runs it with Python on `run_files`
+  // (names inside the folder); it passes by exiting 0, and its output is shown otherwise.
+  static void expect_script_passes(const std::string& stem, const std::string& script,
+                                   const std::vector<std::string>& run_files) {
+    const std::string file = path(stem + ".py");
+    std::ofstream(file) << script;
+    std::string args = "'" + file + "'";
+    for (const std::string& name : run_files) args += " '" + path(name) + "'";
+    const std::string log = path(stem + ".txt");
+    EXPECT_EQ(run_python(args, log), 0) << read_text(log);
+  }
 
   static constexpr const char* kMethods = "adam,rsgd,sgld,sghmc,rsghmc";
   static testing::TempDir* dir_;
@@ -166,14 +180,7 @@ TEST_F(Compare, LinearPathReachesEveryMethodsNetworkAndIsRefusedWhereItCannotBe)
       "    width = f['samples/theta'].shape[1]\n"
       "    assert 'linear_path on' in str(f['model'].attrs['net_text']), name\n"
       "    assert width == (d + 1) * 4 + 5 * k + (d + 1) * k, (name, d, k, width)\n";
-  const std::string file = path("linear.py");
-  std::ofstream(file) << script;
-  const std::string log = path("linear.txt");
-  EXPECT_EQ(
-      run_python("'" + file + "' '" + path("linear/adam.h5") + "' '" + path("linear/sgld.h5") + "'",
-                 log),
-      0)
-      << read_text(log);
+  expect_script_passes("linear", script, {"linear/adam.h5", "linear/sgld.h5"});
   auto no_hidden = run_credence("compare '" + data_ +
                                 "' --target fault_14d --methods adam --hidden none "
                                 "--linear-path on --out '" +
@@ -216,14 +223,8 @@ TEST_F(Compare, ChainSeedKeepsTheSplitAndChangesTheChains) {
       "assert all(int(f['settings'].attrs['data_split_seed']) == 5 for f in (a, b, c))\n"
       "assert not np.allclose(a['samples/theta'][:4], b['samples/theta'][:4])\n"
       "print('ok')\n";
-  const std::string file = path("chain_seed.py");
-  std::ofstream(file) << script;
-  const std::string log = path("chain_seed.txt");
-  EXPECT_EQ(run_python("'" + file + "' '" + path("seed_a/sgld.h5") + "' '" + path("seed_b/sgld.h5") +
-                           "' '" + path("seed_c/sgld.h5") + "'",
-                       log),
-            0)
-      << read_text(log);
+  expect_script_passes("chain_seed", script,
+                       {"seed_a/sgld.h5", "seed_b/sgld.h5", "seed_c/sgld.h5"});
   auto merged = run_credence("--quiet merge '" + path("seed_a/sgld.h5") + "' '" +
                              path("seed_b/sgld.h5") + "' --out '" + path("merged.h5") + "'");
   EXPECT_EQ(merged.exit_code, 0) << merged.output;
@@ -250,10 +251,7 @@ TEST_F(Compare, SamplerNotDoneIsReRunLongerWithinItsLimitAndSaysSo) {
       "steps = int(a['burn_in']) + int(a['thin']) * int(a['samples'])\n"
       "print(dict(a))\n"
       "assert int(a['samples']) == 20 and steps >= 8000 and int(a['burn_in']) >= steps // 2, steps\n";
-  const std::string file = path("extend.py");
-  std::ofstream(file) << script;
-  const std::string log = path("extend.txt");
-  EXPECT_EQ(run_python("'" + file + "' '" + path("extend/sgld.h5") + "'", log), 0) << read_text(log);
+  expect_script_passes("extend", script, {"extend/sgld.h5"});
   // A budget in passes is kept as given: the flag is refused beside --epochs.
   auto refused = run_credence("compare '" + data_ + "' --target fault_14d --id unit_id --impute "
                               "median --methods sgld --epochs 2 --extend-seconds 4 --out '" +
